@@ -1,0 +1,3 @@
+from mediaplan.cli import main
+
+raise SystemExit(main())
