@@ -34,10 +34,14 @@ from mediaplan.thermo.water import density
 BAR = 1.0e5
 
 #: Validity of each equation as published: c [g PEG / g water], T [K]; accuracy as stated.
+#: Both as ranges (``c_range``, ``T_range``) and as flat bounds (``c_max``, ``T_min``, ``T_max``).
 PEG_VALIDITY: dict[int, dict] = {
     6000: {
         "c_range": (0.0, 0.6),
         "T_range": (T0 + 15.0, T0 + 35.0),
+        "c_max": 0.6,
+        "T_min": T0 + 15.0,
+        "T_max": T0 + 35.0,
         "accuracy": "not stated as a single figure; psychrometer data",
         "source": "Michel BE, Kaufmann MR (1973) The osmotic potential of polyethylene glycol 6000. "
         "Plant Physiol 51:914-916. doi:10.1104/pp.51.5.914",
@@ -48,6 +52,9 @@ PEG_VALIDITY: dict[int, dict] = {
     8000: {
         "c_range": (0.0, 0.8),
         "T_range": (T0 + 5.0, T0 + 40.0),
+        "c_max": 0.8,
+        "T_min": T0 + 5.0,
+        "T_max": T0 + 40.0,
         "accuracy": "about +/-5 % (Michel 1983, abstract)",
         "source": "Michel BE (1983) Evaluation of the water potentials of solutions of polyethylene "
         "glycol 8000 both in the absence and presence of other solutes. Plant Physiol "
