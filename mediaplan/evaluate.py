@@ -1,0 +1,342 @@
+"""Recipe -> Evaluation: every figure a user sees about a medium's water relations.
+
+The Evaluation is plain data (floats, strings, lists); the CLI, the terminal app, the preparation
+sheet and the exports only format it.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import asdict, dataclass, field
+
+import numpy as np
+
+from mediaplan.catalog import GROUP_LABELS, Catalog, get_catalog
+from mediaplan.errors import MediaplanError
+from mediaplan.model import compiled
+from mediaplan.recipe import Line, Recipe
+from mediaplan.thermo import potential
+from mediaplan.thermo.constants import T0
+from mediaplan.thermo.ions import parse_species
+from mediaplan.thermo.peg import PEG_VALIDITY
+
+#: default tolerance of "isotonic" [fraction of the cell reference]
+ISOTONIC_TOLERANCE = 0.05
+
+
+@dataclass
+class Warning_:
+    """A condition the user should know about. ``code`` is stable for scripts."""
+
+    code: str
+    message: str
+    component: str | None = None
+
+    def to_dict(self) -> dict:
+        return {"code": self.code, "message": self.message, "component": self.component}
+
+
+@dataclass
+class ComponentResult:
+    id: str
+    name: str
+    formula: str | None
+    group: str
+    amount: str
+    origin: str
+    confidence: str | None
+    molarity_mmol_per_l: float
+    molality_mmol_per_kg: float
+    osmolality_mosmol_per_kg: float  # this component's share of the non-ideal osmolality
+    osmolality_ideal_mosmol_per_kg: float
+    share: float  # fraction of the total non-ideal osmolality
+    grams_per_litre: float
+    hazard: str | None
+    reflection_coefficient: float | None
+
+
+@dataclass
+class Evaluation:
+    """The water relations of one recipe (units in the field names)."""
+
+    temperature_c: float
+    volume_l: float
+    base: str | None
+    strength: float
+    components: list[ComponentResult]
+    osmolality_mosmol_per_kg: float
+    osmolality_ideal_mosmol_per_kg: float
+    osmometer_mosmol_per_kg: float
+    water_activity: float
+    osmotic_potential_mpa: float
+    vant_hoff_potential_mpa: float
+    freezing_point_depression_k: float
+    osmotic_pressure_mpa: float
+    electrolyte_phi: float
+    ionic_strength_mol_per_kg: float
+    water_kg_per_l: float
+    density_kg_per_l: float
+    groups: dict[str, float]
+    effective_osmolality_mosmol_per_kg: float
+    tonicity: dict | None
+    warnings: list[Warning_] = field(default_factory=list)
+    cautions: list[dict] = field(default_factory=list)
+
+    @property
+    def osmotic_potential_bar(self) -> float:
+        return self.osmotic_potential_mpa * 10.0
+
+    def component(self, cid: str) -> ComponentResult | None:
+        return next((c for c in self.components if c.id == cid), None)
+
+    def to_dict(self) -> dict:
+        d = asdict(self)
+        d["osmotic_potential_bar"] = self.osmotic_potential_bar
+        d["warnings"] = [w.to_dict() for w in self.warnings]
+        return _finite(d)
+
+
+def _finite(obj):
+    """No NaN or infinity ever reaches an output: they become None (JSON null)."""
+    if isinstance(obj, float):
+        return obj if math.isfinite(obj) else None
+    if isinstance(obj, dict):
+        return {k: _finite(v) for k, v in obj.items()}
+    if isinstance(obj, list):
+        return [_finite(v) for v in obj]
+    return obj
+
+
+# Davies (1938) activity coefficients for the precipitation screen (J Chem Soc 2093)
+def _davies_log10_gamma(z: int, I: float) -> float:
+    s = math.sqrt(I)
+    return -0.509 * z * z * (s / (1 + s) - 0.3 * I)
+
+
+#: thermodynamic solubility products at 25 °C used to screen for precipitation (from memory, unverified):
+#: gypsum CaSO4·2H2O 10^-4.58; brushite CaHPO4·2H2O 10^-6.59
+_KSP = {("Ca[2+]", "SO4[2-]"): (10**-4.58, "calcium sulfate (gypsum)"),
+        ("Ca[2+]", "HPO4[2-]"): (10**-6.59, "calcium hydrogen phosphate (brushite)")}
+#: fraction of dissolved orthophosphate present as HPO4[2-] at pH 5.8 (pKa2 = 7.2), used when the
+#: medium holds only H2PO4[-]: 10^(5.8-7.2)/(1+10^(5.8-7.2))
+_HPO4_FRACTION_PH58 = 10 ** (5.8 - 7.2) / (1 + 10 ** (5.8 - 7.2))
+
+
+def evaluate(recipe: Recipe, catalog: Catalog | None = None, *, cell_reference_mosmol: float | None = None,
+             isotonic_tolerance: float = ISOTONIC_TOLERANCE) -> Evaluation:
+    """Evaluate a recipe: molalities, non-ideal and ideal osmolality, a_w, potential, freezing point.
+
+    Parameters
+    ----------
+    recipe : the medium
+    catalog : component catalog (default: the bundled one with facility/user folders)
+    cell_reference_mosmol : osmolality of the cells' sap [mOsm/kg] for tonicity, or None
+    isotonic_tolerance : fraction of the reference within which the medium counts as isotonic
+    """
+    catalog = catalog or get_catalog()
+    lines = recipe.lines(catalog)
+    T = recipe.temperature_k
+    comps = [ln.component for ln in lines]
+    model = compiled(catalog, comps, T)
+    n, b = model.amounts_to_arrays([ln.amount for ln in lines])
+    st = model.solve(n[None, :], b[None, :])
+    mix = st.mix
+    y = float(mix.osmolality[0])
+    ideal = float(mix.ideal[0])
+    # freezing-point osmometer: the same medium at 0 °C
+    st0 = model.solve(n[None, :], b[None, :], T=T0) if lines else st
+    y0 = float(st0.mix.osmolality[0])
+    aw = float(potential.water_activity(y))
+    aw0 = float(potential.water_activity(y0))
+    theta = float(potential.freezing_point_depression(aw0))
+    psi = float(potential.potential_from_aw(aw, T))
+    W = float(st.water_kg_per_m3[0])
+    molality = st.molality[0]
+    species_m = st.species_m[0]
+    n_all = st.n_per_m3[0]
+    osmolarity = float(n_all @ model.S.sum(axis=1))  # ideal osmol per m^3 of medium
+    vh = float(potential.vant_hoff_potential(osmolarity, T))
+    # --- split the non-ideal osmolality among components --------------------------------------
+    ncomp = len(comps)
+    share_abs = np.zeros(ncomp)
+    ideal_c = molality * model.S.sum(axis=1)
+    if model.ion_idx:
+        ion_part = molality[:, None] * model.S[:, model.ion_idx]
+        ion_c = ion_part.sum(axis=1)
+        tot = ion_c.sum()
+        if tot > 0:
+            share_abs += float(mix.fraction_electrolyte[0]) * y * ion_c / tot
+    for j, k in enumerate(model.neutral_idx):
+        part = molality * model.S[:, k]
+        tot = part.sum()
+        if tot > 0:
+            share_abs += float(mix.fraction_neutral[0, j]) * y * part / tot
+    for j, k in enumerate(model.peg_idx):
+        part = molality * model.S[:, k]
+        tot = part.sum()
+        if tot > 0:
+            share_abs += float(mix.fraction_peg[0, j]) * y * part / tot
+    results = []
+    groups: dict[str, float] = {}
+    eff = 0.0
+    for i, ln in enumerate(lines):
+        c = ln.component
+        sh = float(share_abs[i])
+        sigma = c.reflection_coefficient if c.reflection_coefficient is not None else 1.0
+        eff += sigma * sh
+        label = GROUP_LABELS.get(c.group, c.group)
+        groups[label] = groups.get(label, 0.0) + sh * 1000.0
+        results.append(ComponentResult(
+            id=c.id, name=c.name, formula=c.formula, group=c.group, amount=ln.amount.text, origin=ln.origin,
+            confidence=ln.confidence, molarity_mmol_per_l=float(n_all[i]), molality_mmol_per_kg=float(molality[i] * 1000),
+            osmolality_mosmol_per_kg=sh * 1000.0, osmolality_ideal_mosmol_per_kg=float(ideal_c[i] * 1000),
+            share=sh / y if y > 0 else 0.0, grams_per_litre=float(n_all[i] * model.M[i]), hazard=c.hazard,
+            reflection_coefficient=c.reflection_coefficient))
+    ion_I = 0.0
+    if model.ion_idx:
+        z = np.array([parse_species(model.species[k]).charge for k in model.ion_idx])
+        ion_I = float(0.5 * np.sum(species_m[model.ion_idx] * z**2))
+    solute_mass = float(n_all @ model.M_anh)  # kg anhydrous solute per m^3
+    density = (W + solute_mass) / 1000.0
+    tonicity = None
+    if cell_reference_mosmol is not None:
+        tonicity = classify_tonicity(eff * 1000.0, cell_reference_mosmol, isotonic_tolerance)
+    ev = Evaluation(
+        temperature_c=T - T0, volume_l=recipe.volume_m3 * 1000.0, base=recipe.base, strength=recipe.strength,
+        components=results, osmolality_mosmol_per_kg=y * 1000.0, osmolality_ideal_mosmol_per_kg=ideal * 1000.0,
+        osmometer_mosmol_per_kg=float(potential.osmometer_reading(theta)) * 1000.0, water_activity=aw,
+        osmotic_potential_mpa=psi / 1e6, vant_hoff_potential_mpa=vh / 1e6, freezing_point_depression_k=theta,
+        osmotic_pressure_mpa=-psi / 1e6, electrolyte_phi=float(mix.electrolyte_phi_own[0]),
+        ionic_strength_mol_per_kg=ion_I, water_kg_per_l=W / 1000.0, density_kg_per_l=density, groups=groups,
+        effective_osmolality_mosmol_per_kg=eff * 1000.0, tonicity=tonicity,
+    )
+    ev.warnings = _warnings(recipe, catalog, lines, model, st, ev)
+    ev.cautions = [{"component": c.id, "caution": c.hazard} for c in comps if c.hazard]
+    if not all(math.isfinite(v) for v in (ev.osmolality_mosmol_per_kg, ev.water_activity, ev.osmotic_potential_mpa)):
+        raise MediaplanError("the models gave no finite answer for this medium",
+                             hint="check for absurd amounts; the medium is past every model's range")
+    return ev
+
+
+def classify_tonicity(effective_mosmol: float, reference_mosmol: float, tolerance: float) -> dict:
+    """Hypotonic / isotonic / hypertonic toward cells of the given sap osmolality [mOsm/kg]."""
+    if reference_mosmol <= 0:
+        raise MediaplanError("the cell reference must be a positive osmolality", field="cell_reference")
+    ratio = effective_mosmol / reference_mosmol
+    if abs(ratio - 1) <= tolerance:
+        cls, flow = "isotonic", "no net water flow"
+    elif ratio < 1:
+        cls, flow = "hypotonic", "water moves into the cells (they swell; turgor rises)"
+    else:
+        cls, flow = "hypertonic", "water leaves the cells (they shrink; plasmolysis possible)"
+    return {"class": cls, "ratio": ratio, "reference_mosmol_per_kg": reference_mosmol,
+            "effective_mosmol_per_kg": effective_mosmol, "tolerance": tolerance, "water_flow": flow}
+
+
+def _warnings(recipe: Recipe, catalog: Catalog, lines: list[Line], model, st, ev: Evaluation) -> list[Warning_]:
+    out: list[Warning_] = []
+    y = ev.osmolality_mosmol_per_kg / 1000.0
+    T = recipe.temperature_k
+    species_m = st.species_m[0]
+    # neutral solutes past their validity range
+    for j, k in enumerate(model.neutral_idx):
+        p = model.neutral_params[j]
+        if species_m[k] > p.m_max:
+            out.append(Warning_("validity", f"{model.species[k]} at {species_m[k]:.3g} mol/kg is beyond its model's "
+                                f"range (≤ {p.m_max:g} mol/kg): extrapolated", model.species[k]))
+    if model.ideal_neutral:
+        share = sum(c.osmolality_mosmol_per_kg for c in ev.components
+                    if any(sp in model.ideal_neutral for sp, _ in catalog.components[c.id].species))
+        frac = share / ev.osmolality_mosmol_per_kg if ev.osmolality_mosmol_per_kg > 0 else 0
+        if frac > 0.005:
+            out.append(Warning_("ideal_fallback", f"no published model for {', '.join(model.ideal_neutral)}: treated "
+                                f"as ideal ({100 * frac:.2g} % of the osmolality)"))
+    # PEG
+    for j, g in enumerate(model.peg_grades):
+        c = float(species_m[model.peg_idx[j]] * g / 1000.0)
+        if c <= 0:
+            continue
+        val = PEG_VALIDITY.get(g, {})
+        cmax = val.get("c_max", 0.8)
+        tmin, tmax = val.get("T_min", 278.15), val.get("T_max", 313.15)
+        if c > cmax:
+            out.append(Warning_("validity", f"PEG {g} at {c:.2f} g/g water is beyond the published equation "
+                                f"(≤ {cmax} g/g)", f"peg{g}"))
+        if not tmin <= T <= tmax:
+            out.append(Warning_("validity", f"PEG {g} equation holds for {tmin - T0:.0f}–{tmax - T0:.0f} °C",
+                                f"peg{g}"))
+    if model.peg_idx and (model.ion_idx or model.neutral_idx):
+        out.append(Warning_("peg_mixture", "PEG mixed with other solutes lowers the water potential more than "
+                            "additivity predicts (Michel 1983, Plant Physiol 72:66): the figure is an upper bound; "
+                            "measure it (psychrometer or vapour-pressure osmometer)"))
+    # electrolytes
+    if model.pitzer is not None:
+        missing = getattr(model.pitzer, "missing_pairs", ())
+        present = {model.species[k] for k in model.ion_idx if species_m[k] > 0}
+        miss = [(c, a) for c, a in missing if c in present and a in present]
+        if miss:
+            ions = {i for pair in miss for i in pair}
+            # ions whose every pairing present lacks parameters carry the fallback fully
+            affected = sum(species_m[model.species.index(i)] for i in ions)
+            frac = affected / ev.osmolality_ideal_mosmol_per_kg * 1000 if ev.osmolality_ideal_mosmol_per_kg else 0
+            out.append(Warning_("pitzer_default", "no Pitzer parameters for " + ", ".join(
+                f"{c}–{a}" for c, a in miss[:6]) + (" …" if len(miss) > 6 else "") +
+                f": Debye–Hückel only for them (ions involved: {100 * frac:.2g} % of the ideal osmolality)"))
+        try:
+            over = model.pitzer.max_molality_exceeded(species_m[model.ion_idx])
+        except Exception:  # noqa: BLE001 - a validity screen must never break an evaluation
+            over = []
+        for c, a in over:
+            out.append(Warning_("validity", f"{c}–{a}: ionic strength beyond the Pitzer parameters' data range"))
+        if abs(T - 298.15) > 10.5:
+            out.append(Warning_("temperature", "Pitzer binary parameters are 25 °C values; at "
+                                f"{T - T0:.0f} °C only the Debye–Hückel slope follows temperature"))
+        # precipitation screen
+        I = ev.ionic_strength_mol_per_kg
+        def m_of(sp):
+            return species_m[model.species.index(sp)] if sp in model.species else 0.0
+        m_hpo4 = m_of("HPO4[2-]") + _HPO4_FRACTION_PH58 * m_of("H2PO4[-]")
+        for (cat, an), (ksp, name) in _KSP.items():
+            ma = m_hpo4 if an == "HPO4[2-]" else m_of(an)
+            mc = m_of(cat)
+            if mc <= 0 or ma <= 0:
+                continue
+            g = 10 ** (_davies_log10_gamma(2, I) * 2)
+            iap = mc * ma * g
+            if iap > 0.5 * ksp:
+                word = "exceeds" if iap > ksp else "approaches"
+                out.append(Warning_("precipitation", f"Ca²⁺ with {an.split('[')[0]}: ion activity product {word} the "
+                                    f"solubility product of {name}; keep them in separate stocks and watch for "
+                                    "cloudiness after autoclaving"))
+    # solubility per substance
+    by_sub: dict[str, float] = {}
+    sub_comp: dict[str, object] = {}
+    for i, ln in enumerate(lines):
+        c = ln.component
+        if c.solubility is None or not c.substance:
+            continue
+        by_sub[c.substance] = by_sub.get(c.substance, 0.0) + float(st.molality[0, i])
+        sub_comp.setdefault(c.substance, c)
+    for sub, m in by_sub.items():
+        c = sub_comp[sub]
+        m_sat = c.solubility * 10.0 / c.anhydrous_molar_mass  # g/100 g water -> mol/kg
+        if m > m_sat:
+            out.append(Warning_("solubility", f"{sub} at {m:.3g} mol/kg is above its solubility "
+                                f"({c.solubility:g} g/100 g water at 25 °C): it will not all dissolve", c.id))
+        elif m > 0.8 * m_sat:
+            out.append(Warning_("solubility", f"{sub} is at {100 * m / m_sat:.0f} % of its solubility at 25 °C: "
+                                "it may crystallise in the cold", c.id))
+    # unverified published amounts
+    if recipe.base:
+        med = catalog.medium(recipe.base)
+        unverified = [ln.component.id for ln in lines if ln.origin == "base" and ln.confidence == "C"]
+        if unverified:
+            out.append(Warning_("unverified", f"{len(unverified)} amounts of {med.id} are from memory and unverified "
+                                "(confidence C): check them against the original paper before use"))
+    if model.default_volume:
+        big = [cid for cid in model.default_volume
+               if ev.component(cid) and ev.component(cid).grams_per_litre > 10]
+        if big:
+            out.append(Warning_("density_estimate", "no apparent molar volume for " + ", ".join(big) +
+                                ": estimated from a solid density of 1.5 g/cm³"))
+    return out
