@@ -1,0 +1,519 @@
+"""Osmotic coefficient of mixed electrolyte solutions by the Pitzer ion-interaction model.
+
+The model is the multicomponent Pitzer equation for the molal osmotic coefficient in the form of
+Harvie, Møller & Weare (1984), with the unsymmetric-mixing terms of Pitzer (1975):
+
+.. math::
+
+    \\phi - 1 = \\frac{2}{\\sum_i m_i}\\Big[ -\\frac{A_\\phi I^{3/2}}{1 + b\\sqrt I}
+        + \\sum_c\\sum_a m_c m_a (B^\\phi_{ca} + Z C_{ca})
+        + \\sum_{c<c'} m_c m_{c'} (\\Phi^\\phi_{cc'} + \\sum_a m_a \\psi_{cc'a})
+        + \\sum_{a<a'} m_a m_{a'} (\\Phi^\\phi_{aa'} + \\sum_c m_c \\psi_{aa'c}) \\Big]
+
+with :math:`B^\\phi = \\beta_0 + \\beta_1 e^{-\\alpha_1\\sqrt I} + \\beta_2 e^{-\\alpha_2\\sqrt I}`,
+:math:`C_{ca} = C^\\phi_{ca} / (2\\sqrt{|z_c z_a|})`, :math:`Z = \\sum_i |z_i| m_i` and
+:math:`\\Phi^\\phi_{ij} = \\theta_{ij} + {}^E\\theta_{ij}(I) + I\\,{}^E\\theta'_{ij}(I)`.
+
+Everything here is pure numpy: no file I/O, no units library. Parameters arrive as
+:class:`~mediaplan.thermo.params.PitzerParams`, built from the parsed YAML mapping of
+``catalog/pitzer.yaml`` by :func:`pitzer_params_from_dict`.
+
+References
+----------
+Pitzer KS (1975) Thermodynamics of electrolytes. V. Effects of higher-order electrostatic terms.
+    J Solution Chem 4:249–265, doi:10.1007/BF00646562.
+Harvie CE, Møller N, Weare JH (1984) The prediction of mineral solubilities in natural waters: the
+    Na-K-Mg-Ca-H-Cl-SO4-OH-HCO3-CO3-CO2-H2O system to high ionic strengths at 25 °C.
+    Geochim Cosmochim Acta 48:723–751, doi:10.1016/0016-7037(84)90098-X.
+Møller N (1988) The prediction of mineral solubilities in natural waters: a chemical equilibrium
+    model for the Na-Ca-Cl-SO4-H2O system, to high temperature and concentration.
+    Geochim Cosmochim Acta 52:821–837, doi:10.1016/0016-7037(88)90354-7.
+Pitzer KS (1991) Ion interaction approach: theory and data correlation. In: Pitzer KS (ed.)
+    Activity Coefficients in Electrolyte Solutions, 2nd ed., CRC Press, ch. 3.
+May PM, Rowland D, Hefter G, Königsberger E (2011) A generic and updatable Pitzer characterization of
+    aqueous binary electrolyte solutions at 1 bar and 25 °C. J Chem Eng Data 56:5066–5077,
+    doi:10.1021/je2009329.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping, Sequence
+from typing import Any
+
+import numpy as np
+
+from .constants import M_WATER
+from .ions import parse_species
+from .params import BinaryPitzer, PitzerParams
+
+__all__ = [
+    "MOLLER1988_COEFFS",
+    "PitzerSystem",
+    "a_phi",
+    "default_alphas",
+    "j_function",
+    "pitzer_params_from_dict",
+]
+
+#: Coefficients a0..a7 of Møller (1988) eq. 13 for A_phi(T) (same as ``PitzerParams.a_phi_coeffs``).
+MOLLER1988_COEFFS: tuple[float, ...] = PitzerParams.__dataclass_fields__["a_phi_coeffs"].default
+
+# Pitzer (1975) eq. 47 empirical form of the unsymmetric-mixing integral J(x).
+_J_C1, _J_C2, _J_C3, _J_C4 = 4.581, 0.7237, 0.0120, 0.528
+
+
+# ---------------------------------------------------------------------------------------------------------
+# Debye–Hückel slope
+# ---------------------------------------------------------------------------------------------------------
+def a_phi(T: float | np.ndarray, coeffs: Sequence[float] | None = None) -> float | np.ndarray:
+    """Debye–Hückel osmotic slope A_phi [kg^1/2 mol^-1/2] at temperature T [K].
+
+    Parameters
+    ----------
+    T : float or array, temperature [K]
+    coeffs : optional sequence of the 8 coefficients a0..a7 [-]; default :data:`MOLLER1988_COEFFS`
+        (the values held by ``PitzerParams.a_phi_coeffs``).
+
+    Returns
+    -------
+    A_phi [kg^1/2 mol^-1/2], a float for a scalar T, else an array of T's shape.
+
+    Notes
+    -----
+    Møller (1988) eq. 13:
+    A_phi = a0 + a1 T + a2/T + a3 ln T + a4/(T - 263) + a5 T^2 + a6/(680 - T) + a7/(T - 227),
+    fitted for 273–573 K at 1 atm (saturation pressure above 373 K). It gives 0.39148 at 298.15 K,
+    against 0.3915 tabulated by Pitzer (1991).
+
+    References
+    ----------
+    Møller N (1988) Geochim Cosmochim Acta 52:821, eq. 13.
+    """
+    a = MOLLER1988_COEFFS if coeffs is None else tuple(coeffs)
+    if len(a) != 8:
+        raise ValueError(f"A_phi fit needs 8 coefficients, got {len(a)}")
+    if np.ndim(T) == 0:
+        t = float(T)
+        return (a[0] + a[1] * t + a[2] / t + a[3] * math.log(t) + a[4] / (t - 263.0) + a[5] * t * t
+                + a[6] / (680.0 - t) + a[7] / (t - 227.0))
+    t = np.asarray(T, dtype=float)
+    return (a[0] + a[1] * t + a[2] / t + a[3] * np.log(t) + a[4] / (t - 263.0) + a[5] * t * t
+            + a[6] / (680.0 - t) + a[7] / (t - 227.0))
+
+
+# ---------------------------------------------------------------------------------------------------------
+# Unsymmetric mixing
+# ---------------------------------------------------------------------------------------------------------
+def j_function(x: float | np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Unsymmetric-mixing integral J(x) and its derivative dJ/dx (Pitzer 1975, eq. 47 form).
+
+    Parameters
+    ----------
+    x : float or array, x = 6 z_i z_j A_phi sqrt(I) [-], x >= 0
+
+    Returns
+    -------
+    (J, J') : arrays of x's shape [-]
+
+    Notes
+    -----
+    J(x) = x / (4 + C1 x^-C2 exp(-C3 x^C4)), C1 = 4.581, C2 = 0.7237, C3 = 0.0120, C4 = 0.528.
+    Pitzer (1975) fitted this form to the exact integral
+    J(x) = x/4 - 1 + (1/x) ∫_0^∞ [1 - exp(-(x/y) e^-y)] y² dy; the difference is small against the
+    size of the E-theta terms in dilute media. Harvie's Chebyshev approximation (used e.g. by
+    PHREEQC) would be the more accurate choice at high ionic strength. J(0) = J'(0) = 0.
+
+    References
+    ----------
+    Pitzer KS (1975) J Solution Chem 4:249, eq. 47.
+    """
+    x = np.asarray(x, dtype=float)
+    pos = x > 0.0
+    xs = np.where(pos, x, 1.0)
+    ex = _J_C1 * xs ** (-_J_C2) * np.exp(-_J_C3 * xs ** _J_C4)
+    d = 4.0 + ex
+    j = np.where(pos, xs / d, 0.0)
+    dj = np.where(pos, (4.0 + ex * (1.0 + _J_C2 + _J_C3 * _J_C4 * xs ** _J_C4)) / (d * d), 0.0)
+    return j, dj
+
+
+def _x_dj(x: np.ndarray) -> np.ndarray:
+    """x * J'(x) for x > 0 (no masking; callers pass x > 0)."""
+    xc4 = x ** _J_C4
+    ex = _J_C1 * x ** (-_J_C2) * np.exp(-_J_C3 * xc4)
+    d = 4.0 + ex
+    return x * (4.0 + ex * (1.0 + _J_C2 + _J_C3 * _J_C4 * xc4)) / (d * d)
+
+
+# ---------------------------------------------------------------------------------------------------------
+# Parameters from the catalog mapping
+# ---------------------------------------------------------------------------------------------------------
+def default_alphas(z_cation: int, z_anion: int) -> tuple[float, float]:
+    """alpha1, alpha2 [kg^1/2 mol^-1/2] by charge type.
+
+    Notes
+    -----
+    2.0 (alpha2 unused) for any pair with a univalent ion; 1.4 / 12 for 2:2 pairs (Pitzer & Mayorga
+    1974; Harvie, Møller & Weare 1984); 2.0 / 50 for 3:2 and 4:2 pairs (rule of May et al. 2011).
+    """
+    zc, za = abs(int(z_cation)), abs(int(z_anion))
+    if zc >= 2 and za >= 2:
+        if zc >= 3 or za >= 3:
+            return 2.0, 50.0
+        return 1.4, 12.0
+    return 2.0, 12.0
+
+
+def _num(entry: Mapping[str, Any], key: str, where: str, default: float | None = None) -> float:
+    if key not in entry or entry[key] is None:
+        if default is None:
+            raise ValueError(f"{where}: missing {key!r}")
+        return float(default)
+    v = entry[key]
+    if isinstance(v, bool) or not isinstance(v, (int, float)):
+        raise ValueError(f"{where}: {key!r} must be a number, got {v!r}")
+    v = float(v)
+    if not math.isfinite(v):
+        raise ValueError(f"{where}: {key!r} is not finite")
+    return v
+
+
+def _ion(name: Any, where: str) -> int:
+    if not isinstance(name, str):
+        raise ValueError(f"{where}: ion id must be a string, got {name!r}")
+    try:
+        z = parse_species(name).charge
+    except ValueError as exc:
+        raise ValueError(f"{where}: {exc}") from None
+    if z == 0:
+        raise ValueError(f"{where}: {name!r} is not an ion")
+    return z
+
+
+def pitzer_params_from_dict(data: Mapping[str, Any]) -> PitzerParams:
+    """Build :class:`PitzerParams` from the parsed YAML mapping of ``catalog/pitzer.yaml``.
+
+    Parameters
+    ----------
+    data : mapping with keys ``binary`` (list of pair entries), optional ``theta`` and ``psi`` (lists),
+        optional ``b`` [kg^1/2 mol^-1/2] and ``a_phi`` (``{coefficients: [8 numbers]}``).
+        A binary entry has ``cation``, ``anion``, ``beta0``, ``beta1``, ``beta2`` [kg/mol],
+        ``cphi`` [kg^2/mol^2], optional ``alpha1``, ``alpha2`` [kg^1/2 mol^-1/2] (default by charge type,
+        :func:`default_alphas`), ``max_m`` [mol/kg] and ``source``.
+        A theta entry has ``ions`` (two like-charged ions) and ``value`` [kg/mol]; a psi entry has
+        ``ions`` (two like-charged ions and one of opposite sign, any order) and ``value`` [kg^2/mol^2].
+
+    Returns
+    -------
+    PitzerParams
+
+    Raises
+    ------
+    ValueError naming the list, the entry's index and its ions, for a malformed entry, a bad ion id,
+    wrong charge signs or a duplicate.
+    """
+    if not isinstance(data, Mapping):
+        raise ValueError("Pitzer parameters: expected a mapping at top level")
+    binary: dict[tuple[str, str], BinaryPitzer] = {}
+    rows = data.get("binary")
+    if not isinstance(rows, list):
+        raise ValueError("Pitzer parameters: 'binary' must be a list")
+    for k, e in enumerate(rows):
+        if not isinstance(e, Mapping):
+            raise ValueError(f"binary[{k}]: expected a mapping, got {e!r}")
+        where = f"binary[{k}] ({e.get('cation')!r}, {e.get('anion')!r})"
+        zc, za = _ion(e.get("cation"), where), _ion(e.get("anion"), where)
+        if zc <= 0 or za >= 0:
+            raise ValueError(f"{where}: cation must be positive and anion negative")
+        key = (e["cation"], e["anion"])
+        if key in binary:
+            raise ValueError(f"{where}: duplicate pair")
+        a1, a2 = default_alphas(zc, za)
+        max_m = _num(e, "max_m", where, math.inf)
+        if max_m <= 0:
+            raise ValueError(f"{where}: max_m must be positive")
+        alpha1, alpha2 = _num(e, "alpha1", where, a1), _num(e, "alpha2", where, a2)
+        if alpha1 <= 0 or alpha2 <= 0:
+            raise ValueError(f"{where}: alpha1 and alpha2 must be positive")
+        binary[key] = BinaryPitzer(
+            cation=key[0], anion=key[1],
+            beta0=_num(e, "beta0", where), beta1=_num(e, "beta1", where),
+            beta2=_num(e, "beta2", where, 0.0), cphi=_num(e, "cphi", where, 0.0),
+            alpha1=alpha1, alpha2=alpha2, max_m=max_m, source=str(e.get("source", "")),
+        )
+
+    theta: dict[tuple[str, str], float] = {}
+    for k, e in enumerate(data.get("theta") or []):
+        if not isinstance(e, Mapping):
+            raise ValueError(f"theta[{k}]: expected a mapping, got {e!r}")
+        ions = e.get("ions")
+        where = f"theta[{k}] {ions!r}"
+        if not isinstance(ions, (list, tuple)) or len(ions) != 2:
+            raise ValueError(f"{where}: 'ions' must list two ions")
+        z = [_ion(i, where) for i in ions]
+        if z[0] * z[1] <= 0 or ions[0] == ions[1]:
+            raise ValueError(f"{where}: theta needs two different ions of the same sign")
+        key2 = tuple(sorted(ions))
+        if key2 in theta:
+            raise ValueError(f"{where}: duplicate pair")
+        theta[key2] = _num(e, "value", where)  # type: ignore[index]
+
+    psi: dict[tuple[str, str, str], float] = {}
+    for k, e in enumerate(data.get("psi") or []):
+        if not isinstance(e, Mapping):
+            raise ValueError(f"psi[{k}]: expected a mapping, got {e!r}")
+        ions = e.get("ions")
+        where = f"psi[{k}] {ions!r}"
+        if not isinstance(ions, (list, tuple)) or len(ions) != 3:
+            raise ValueError(f"{where}: 'ions' must list three ions")
+        z = [_ion(i, where) for i in ions]
+        pos = [i for i, q in zip(ions, z, strict=True) if q > 0]
+        neg = [i for i, q in zip(ions, z, strict=True) if q < 0]
+        like, other = (pos, neg) if len(pos) == 2 else (neg, pos)
+        if len(like) != 2 or len(other) != 1 or like[0] == like[1]:
+            raise ValueError(f"{where}: psi needs two different like-charged ions and one of opposite sign")
+        key3 = (*sorted(like), other[0])
+        if key3 in psi:
+            raise ValueError(f"{where}: duplicate triplet")
+        psi[key3] = _num(e, "value", where)  # type: ignore[index]
+
+    kw: dict[str, Any] = {}
+    if "b" in data:
+        kw["b"] = _num(data, "b", "b")
+        if kw["b"] <= 0:
+            raise ValueError("b must be positive")
+    ap = data.get("a_phi")
+    if ap is not None:
+        coeffs = ap.get("coefficients") if isinstance(ap, Mapping) else None
+        if (not isinstance(coeffs, (list, tuple)) or len(coeffs) != 8
+                or not all(isinstance(c, (int, float)) and not isinstance(c, bool) for c in coeffs)):
+            raise ValueError("a_phi: 'coefficients' must list 8 numbers (Møller 1988 eq. 13)")
+        kw["a_phi_coeffs"] = tuple(float(c) for c in coeffs)
+    return PitzerParams(binary=binary, theta=theta, psi=psi, **kw)
+
+
+# ---------------------------------------------------------------------------------------------------------
+# The system
+# ---------------------------------------------------------------------------------------------------------
+class PitzerSystem:
+    """Pitzer osmotic coefficient for a fixed set of ions, vectorised over compositions.
+
+    Parameters
+    ----------
+    ions : sequence of ion ids (``K[+]``, ``SO4[2-]``, …), cations and anions in any order; the order
+        fixes the last axis of every molality array passed to the methods. Neutral ids raise ValueError.
+    params : PitzerParams
+
+    Attributes
+    ----------
+    ions : tuple of str, the ion order of m arrays
+    charges : int array [-]
+    missing_pairs : tuple of (cation, anion) pairs without binary parameters; they are treated by the
+        Debye–Hückel term only (beta = C = 0).
+
+    Notes
+    -----
+    * Binary and mixing parameters are 25 °C values (May et al. 2011; Harvie, Møller & Weare 1984;
+      Pitzer & Mayorga 1973; Pitzer & Kim 1974). Only A_phi follows temperature (Møller 1988 eq. 13);
+      the temperature terms that PHREEQC's pitzer.dat gives for some HMW84 rows are not used. Away from
+      25 °C the result is therefore an approximation whose error grows with ionic strength; for dilute
+      culture media (I < 0.1 mol/kg) it is dominated by A_phi, which is followed exactly.
+    * Like-charged ions of unlike charge (e.g. K+/Ca2+, Cl-/SO4 2-) get the unsymmetric-mixing terms
+      E-theta of Pitzer (1975), with J(x) from Pitzer's eq. 47 empirical form (:func:`j_function`).
+      In the osmotic coefficient only Phi^phi = theta + E-theta + I E-theta' enters, and
+      E-theta + I E-theta' = z_i z_j / (8 I) [x_ij J'(x_ij) - x_ii J'(x_ii)/2 - x_jj J'(x_jj)/2],
+      so only J' is evaluated.
+    * No ion association or speciation: the caller supplies the free-ion molalities.
+
+    References
+    ----------
+    Harvie, Møller & Weare (1984) Geochim Cosmochim Acta 48:723; Pitzer (1991), ch. 3; Pitzer (1975)
+    J Solution Chem 4:249.
+    """
+
+    def __init__(self, ions: Sequence[str], params: PitzerParams):
+        ions = tuple(ions)
+        if len(set(ions)) != len(ions):
+            raise ValueError(f"duplicate ion ids in {ions!r}")
+        z = []
+        for name in ions:
+            q = parse_species(name).charge
+            if q == 0:
+                raise ValueError(f"{name!r} is not an ion; pass neutral solutes to their own model")
+            z.append(q)
+        self.ions: tuple[str, ...] = ions
+        self.params = params
+        self.b = float(params.b)
+        self._a_coeffs = tuple(params.a_phi_coeffs)
+        zv = np.array(z, dtype=float)
+        self.charges = np.array(z, dtype=int)
+        n = len(ions)
+        self._n = n
+        self._z2h = 0.5 * zv * zv                 # I = m @ (z²/2)
+        self._absz = np.abs(zv)
+        cat = [i for i in range(n) if z[i] > 0]
+        an = [i for i in range(n) if z[i] < 0]
+        self._cat = np.array(cat, dtype=np.intp)
+        self._an = np.array(an, dtype=np.intp)
+
+        # --- binary terms: stacked (K, n, n) matrices over the full ion index, contracted as m M m -------
+        beta0 = np.zeros((n, n))
+        cmat = np.zeros((n, n))
+        exp_terms: dict[float, np.ndarray] = {}
+        missing = []
+        self._pairs: list[tuple[int, int, float]] = []      # (i_cation, i_anion, I at max_m)
+        for i in cat:
+            for j in an:
+                bp = params.binary.get((ions[i], ions[j]))
+                if bp is None:
+                    missing.append((ions[i], ions[j]))
+                    continue
+                beta0[i, j] = bp.beta0
+                cmat[i, j] = bp.cphi / (2.0 * math.sqrt(abs(z[i] * z[j])))
+                for beta, alpha in ((bp.beta1, bp.alpha1), (bp.beta2, bp.alpha2)):
+                    if beta != 0.0:
+                        exp_terms.setdefault(float(alpha), np.zeros((n, n)))[i, j] += beta
+                g = math.gcd(z[i], -z[j])
+                nu_c, nu_a = -z[j] // g, z[i] // g
+                self._pairs.append((i, j, 0.5 * bp.max_m * (nu_c * z[i] ** 2 + nu_a * z[j] ** 2)))
+        self.missing_pairs: tuple[tuple[str, str], ...] = tuple(missing)
+        self._alphas = np.array(sorted(exp_terms), dtype=float)
+        self._neg_alphas = -self._alphas
+        self._nalpha = len(self._alphas)
+        # like-charge theta_ij enters exactly as beta0 does (weight 1), so it shares beta0's matrix
+        theta_m = np.zeros((n, n))
+        idx = {name: k for k, name in enumerate(ions)}
+        for (a, b_), v in params.theta.items():
+            if a in idx and b_ in idx:
+                theta_m[idx[a], idx[b_]] += v       # one triangle only: m Θ m counts each pair once
+        mats = [beta0 + theta_m, cmat] + [exp_terms[a] for a in self._alphas]
+        # m @ Mflat -> (..., K*n); reshape (..., K, n); times m and summed -> (..., K)
+        self._K = len(mats)
+        self._mflat = np.concatenate(mats, axis=1)          # (n, K*n)
+
+        # --- psi: sparse index list of triplets ---------------------------------------------------------
+        ps_i, ps_j, ps_k, ps_v = [], [], [], []
+        for (a, b_, c), v in params.psi.items():
+            if a in idx and b_ in idx and c in idx and v != 0.0:
+                ps_i.append(idx[a])
+                ps_j.append(idx[b_])
+                ps_k.append(idx[c])
+                ps_v.append(v)
+        self._ps_idx = np.array([ps_i, ps_j, ps_k], dtype=np.intp).reshape(3, -1)
+        self._ps_v = np.array(ps_v, dtype=float)
+        self._has_psi = len(ps_v) > 0
+
+        # --- unsymmetric mixing: groups of like sign and equal |z|; pair types of unlike |z| ---------------
+        groups = sorted({(int(np.sign(q)), abs(q)) for q in z})
+        gidx = {g: k for k, g in enumerate(groups)}
+        gmat = np.zeros((n, len(groups)))
+        for i, q in enumerate(z):
+            gmat[i, gidx[(int(np.sign(q)), abs(q))]] = 1.0
+        ptypes = [(g1, g2) for k1, g1 in enumerate(groups) for g2 in groups[k1 + 1:]
+                  if g1[0] == g2[0] and g1[1] != g2[1]]
+        self._has_etheta = len(ptypes) > 0
+        # one matrix for all linear maps of m: I = m·z²/2, Z = m·|z|, group totals
+        self._lin = np.column_stack([self._z2h, self._absz, gmat])
+        if self._has_etheta:
+            prods = sorted({p for g1, g2 in ptypes for p in (g1[1] * g2[1], g1[1] ** 2, g2[1] ** 2)})
+            pidx = {p: k for k, p in enumerate(prods)}
+            w = np.zeros((len(prods), len(ptypes)))
+            for k, (g1, g2) in enumerate(ptypes):
+                w[pidx[g1[1] * g2[1]], k] += 1.0
+                w[pidx[g1[1] ** 2], k] -= 0.5
+                w[pidx[g2[1] ** 2], k] -= 0.5
+            self._prods6 = 6.0 * np.array(prods, dtype=float)
+            # combine w with z_i z_j / 8 so that Phi^E sum = (xJ' @ W) · S / I
+            zz = np.array([g1[1] * g2[1] for g1, g2 in ptypes], dtype=float)
+            self._ew = w * (zz / 8.0)
+            self._pt_a = np.array([gidx[g1] for g1, _ in ptypes], dtype=np.intp)
+            self._pt_b = np.array([gidx[g2] for _, g2 in ptypes], dtype=np.intp)
+
+    # -----------------------------------------------------------------------------------------------------
+    def a_phi(self, T: float) -> float | np.ndarray:
+        """A_phi [kg^1/2 mol^-1/2] at T [K] with this system's coefficients."""
+        return a_phi(T, self._a_coeffs)
+
+    def _check(self, m: np.ndarray) -> np.ndarray:
+        m = np.asarray(m, dtype=float)
+        if m.ndim == 0 or m.shape[-1] != self._n:
+            raise ValueError(f"molality array must have last axis of length {self._n} ({', '.join(self.ions)}),"
+                             f" got shape {m.shape}")
+        return m
+
+    def osmotic_coefficient(self, m: np.ndarray, T: float) -> np.ndarray:
+        """Molal osmotic coefficient phi [-] of the electrolyte mixture.
+
+        Parameters
+        ----------
+        m : array (..., n_ions), free-ion molalities [mol/kg water] in ``self.ions`` order
+        T : float, temperature [K] (A_phi only; binary and mixing parameters are 25 °C values)
+
+        Returns
+        -------
+        phi : array of shape m.shape[:-1]; phi = -ln(a_w) / (M_w Σ m_i). Rows with Σ m = 0 give 1.0.
+
+        Notes
+        -----
+        The caller is responsible for electroneutrality; the formula is evaluated as given for any m.
+        """
+        m = self._check(m)
+        lead = m.shape[:-1]
+        mtot = m.sum(axis=-1)
+        v = m @ self._lin                       # (..., 2 + n_groups): I, Z, group totals
+        I = v[..., 0]
+        empty = mtot <= 0.0
+        any_empty = bool(np.any(empty))
+        if any_empty:
+            I = np.where(empty, 1.0, I)
+            mtot = np.where(empty, 1.0, mtot)
+        sqI = np.sqrt(I)
+        A = self.a_phi(T)
+
+        # binary and theta terms: q[..., k] = m · M_k · m
+        q = ((m @ self._mflat).reshape(*lead, self._K, self._n) @ m[..., None])[..., 0]
+        s = q[..., 0] + v[..., 1] * q[..., 1] - A * I * sqI / (1.0 + self.b * sqI)
+        if self._nalpha:
+            s = s + (np.exp(sqI[..., None] * self._neg_alphas) * q[..., 2:]).sum(axis=-1)
+        if self._has_psi:
+            ii, jj, kk = self._ps_idx
+            s = s + (m[..., ii] * m[..., jj] * m[..., kk]) @ self._ps_v
+        if self._has_etheta:
+            G = v[..., 2:]
+            S = G[..., self._pt_a] * G[..., self._pt_b]
+            x = (A * sqI)[..., None] * self._prods6
+            s = s + ((_x_dj(x) @ self._ew) * S).sum(axis=-1) / I
+
+        phi = 1.0 + 2.0 * s / mtot
+        if any_empty:
+            phi = np.where(empty, 1.0, phi)
+        return phi
+
+    def osmolality(self, m: np.ndarray, T: float) -> np.ndarray:
+        """Osmolality phi · Σ m_i [osmol/kg water], shape m.shape[:-1]."""
+        m = self._check(m)
+        return self.osmotic_coefficient(m, T) * m.sum(axis=-1)
+
+    def water_activity(self, m: np.ndarray, T: float) -> np.ndarray:
+        """Water activity a_w = exp(-M_w phi Σ m_i) [-] of the electrolyte solution, shape m.shape[:-1]."""
+        return np.exp(-M_WATER * self.osmolality(m, T))
+
+    def max_molality_exceeded(self, m: np.ndarray) -> list[tuple[str, str]]:
+        """Pairs present whose binary parameters are used beyond their fitted range.
+
+        Parameters
+        ----------
+        m : 1-D array (n_ions,), molalities [mol/kg] in ``self.ions`` order
+
+        Returns
+        -------
+        list of (cation, anion) for pairs with both ions > 0 where the ionic strength of m exceeds the
+        ionic strength of the pair's binary solution at its ``max_m`` (a validity warning).
+        """
+        m = self._check(m)
+        if m.ndim != 1:
+            raise ValueError("max_molality_exceeded takes one composition (1-D array)")
+        I = float(m @ self._z2h)
+        return [(self.ions[i], self.ions[j]) for i, j, imax in self._pairs
+                if m[i] > 0 and m[j] > 0 and I > imax]
