@@ -275,13 +275,18 @@ def _warnings(recipe: Recipe, catalog: Catalog, lines: list[Line], model, st, ev
         present = {model.species[k] for k in model.ion_idx if species_m[k] > 0}
         miss = [(c, a) for c, a in missing if c in present and a in present]
         if miss:
-            ions = {i for pair in miss for i in pair}
-            # ions whose every pairing present lacks parameters carry the fallback fully
-            affected = sum(species_m[model.species.index(i)] for i in ions)
-            frac = affected / ev.osmolality_ideal_mosmol_per_kg * 1000 if ev.osmolality_ideal_mosmol_per_kg else 0
+            # weight of the cation-anion interaction terms that fall back to Debye-Hückel only
+            def m_ion(sp):
+                return float(species_m[model.species.index(sp)])
+            ions_present = [model.species[k] for k in model.ion_idx if species_m[k] > 0]
+            cats = [i for i in ions_present if parse_species(i).charge > 0]
+            ans = [i for i in ions_present if parse_species(i).charge < 0]
+            total_w = sum(m_ion(c) * m_ion(a) for c in cats for a in ans)
+            miss_w = sum(m_ion(c) * m_ion(a) for c, a in miss)
+            frac = miss_w / total_w if total_w > 0 else 0.0
             out.append(Warning_("pitzer_default", "no Pitzer parameters for " + ", ".join(
                 f"{c}–{a}" for c, a in miss[:6]) + (" …" if len(miss) > 6 else "") +
-                f": Debye–Hückel only for them (ions involved: {100 * frac:.2g} % of the ideal osmolality)"))
+                f": Debye–Hückel only for these pairs ({100 * frac:.2g} % of the cation–anion interactions)"))
         try:
             over = model.pitzer.max_molality_exceeded(species_m[model.ion_idx])
         except Exception:  # noqa: BLE001 - a validity screen must never break an evaluation

@@ -85,6 +85,6 @@ def evaluation_text(ev: Evaluation, title: str | None = None, notes: list[str] |
         out += msgs
     if d.cautions:
         out.append("")
-        out.append("Cautions")
-        out += [f"  ⚠ {c['component']}: {c['caution']}" for c in d.cautions]
+        out.append("Cautions: " + ", ".join(c["component"] for c in d.cautions) +
+                   " carry hazard notes (mediaplan catalog show ID; the prep sheet prints them in full)")
     return "\n".join(out)
