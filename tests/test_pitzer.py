@@ -525,3 +525,13 @@ def test_performance_budget(params):
     batch = time.perf_counter() - t0
     assert single < 150e-6, f"single row {single * 1e6:.1f} µs"
     assert batch < 1.5, f"100k rows {batch:.3f} s"
+
+
+def test_temperature_per_row(params):
+    system = PitzerSystem(["Na[+]", "Ca[2+]", "Cl[-]"], params)
+    m = np.tile([0.1, 0.1, 0.3], (3, 1))
+    T = np.array([273.15, 298.15, 313.15])
+    per_row = system.osmotic_coefficient(m, T)
+    assert np.allclose(per_row, [system.osmotic_coefficient(m[0], t) for t in T], rtol=1e-13, atol=0)
+    # only A_phi follows T: a larger A_phi at higher T lowers phi
+    assert per_row[0] > per_row[1] > per_row[2]

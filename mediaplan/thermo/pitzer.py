@@ -139,11 +139,12 @@ def j_function(x: float | np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 
 
 def _x_dj(x: np.ndarray) -> np.ndarray:
-    """x * J'(x) for x > 0 (no masking; callers pass x > 0)."""
-    xc4 = x ** _J_C4
-    ex = _J_C1 * x ** (-_J_C2) * np.exp(-_J_C3 * xc4)
+    """x * J'(x) for x > 0 (no masking; callers pass x > 0). Same algebra as :func:`j_function`."""
+    lx = np.log(x)
+    c3xc4 = _J_C3 * np.exp(_J_C4 * lx)                  # C3 x^C4
+    ex = _J_C1 * np.exp(-_J_C2 * lx - c3xc4)            # C1 x^-C2 exp(-C3 x^C4)
     d = 4.0 + ex
-    return x * (4.0 + ex * (1.0 + _J_C2 + _J_C3 * _J_C4 * xc4)) / (d * d)
+    return x * (4.0 + ex * (1.0 + _J_C2 + _J_C4 * c3xc4)) / (d * d)
 
 
 # ---------------------------------------------------------------------------------------------------------
@@ -346,6 +347,7 @@ class PitzerSystem:
         self.params = params
         self.b = float(params.b)
         self._a_coeffs = tuple(params.a_phi_coeffs)
+        self._last: tuple[float, float] = (math.nan, math.nan)   # cache of (T, A_phi)
         zv = np.array(z, dtype=float)
         self.charges = np.array(z, dtype=int)
         n = len(ions)
@@ -448,7 +450,8 @@ class PitzerSystem:
         Parameters
         ----------
         m : array (..., n_ions), free-ion molalities [mol/kg water] in ``self.ions`` order
-        T : float, temperature [K] (A_phi only; binary and mixing parameters are 25 °C values)
+        T : float, temperature [K] (A_phi only; binary and mixing parameters are 25 °C values); an array
+            broadcastable to m.shape[:-1] gives one temperature per row
 
         Returns
         -------
@@ -459,17 +462,20 @@ class PitzerSystem:
         The caller is responsible for electroneutrality; the formula is evaluated as given for any m.
         """
         m = self._check(m)
+        scalar_T = np.ndim(T) == 0
+        if m.ndim == 1 and scalar_T:
+            return self._phi_row(m, T)
         lead = m.shape[:-1]
         mtot = m.sum(axis=-1)
         v = m @ self._lin                       # (..., 2 + n_groups): I, Z, group totals
         I = v[..., 0]
         empty = mtot <= 0.0
-        any_empty = bool(np.any(empty))
+        any_empty = bool(empty.any())
         if any_empty:
             I = np.where(empty, 1.0, I)
             mtot = np.where(empty, 1.0, mtot)
         sqI = np.sqrt(I)
-        A = self.a_phi(T)
+        A = self._a_phi_scalar(T) if scalar_T else np.asarray(a_phi(T, self._a_coeffs))
 
         # binary and theta terms: q[..., k] = m · M_k · m
         q = ((m @ self._mflat).reshape(*lead, self._K, self._n) @ m[..., None])[..., 0]
@@ -477,8 +483,7 @@ class PitzerSystem:
         if self._nalpha:
             s = s + (np.exp(sqI[..., None] * self._neg_alphas) * q[..., 2:]).sum(axis=-1)
         if self._has_psi:
-            ii, jj, kk = self._ps_idx
-            s = s + (m[..., ii] * m[..., jj] * m[..., kk]) @ self._ps_v
+            s = s + m[..., self._ps_idx].prod(axis=-2) @ self._ps_v
         if self._has_etheta:
             G = v[..., 2:]
             S = G[..., self._pt_a] * G[..., self._pt_b]
@@ -489,6 +494,34 @@ class PitzerSystem:
         if any_empty:
             phi = np.where(empty, 1.0, phi)
         return phi
+
+    def _phi_row(self, m: np.ndarray, T: float) -> np.float64:
+        """One composition: the same sums as the batch path, with Python floats for the scalars."""
+        mtot = float(m.sum())
+        if mtot <= 0.0:
+            return np.float64(1.0)
+        v = m @ self._lin
+        I = float(v[0])
+        sqI = math.sqrt(I)
+        A = self._a_phi_scalar(T)
+        q = (m @ self._mflat).reshape(self._K, self._n) @ m
+        s = float(q[0]) + float(v[1]) * float(q[1]) - A * I * sqI / (1.0 + self.b * sqI)
+        if self._nalpha:
+            s += float(np.exp(self._neg_alphas * sqI) @ q[2:])
+        if self._has_psi:
+            s += float(m[self._ps_idx].prod(axis=0) @ self._ps_v)
+        if self._has_etheta:
+            G = v[2:]
+            s += float((_x_dj((A * sqI) * self._prods6) @ self._ew) @ (G[self._pt_a] * G[self._pt_b])) / I
+        return np.float64(1.0 + 2.0 * s / mtot)
+
+    def _a_phi_scalar(self, T: float) -> float:
+        T = float(T)
+        last_T, last_A = self._last           # one tuple, replaced atomically: safe across worker threads
+        if T != last_T:
+            last_A = float(a_phi(T, self._a_coeffs))
+            self._last = (T, last_A)
+        return last_A
 
     def osmolality(self, m: np.ndarray, T: float) -> np.ndarray:
         """Osmolality phi · Σ m_i [osmol/kg water], shape m.shape[:-1]."""
