@@ -535,3 +535,18 @@ def test_temperature_per_row(params):
     assert np.allclose(per_row, [system.osmotic_coefficient(m[0], t) for t in T], rtol=1e-13, atol=0)
     # only A_phi follows T: a larger A_phi at higher T lowers phi
     assert per_row[0] > per_row[1] > per_row[2]
+
+
+# Pitzer, Peiper & Busey 1984 NaCl table at 0 °C and 40 °C (thermo_sources.yaml, NaCl_osmotic_PPB84).
+# Only A_phi follows T here; the binary parameters stay at their 25 °C values.
+@pytest.mark.parametrize(("T", "phi_ref"), [(273.15, 0.932), (313.15, 0.932)], ids=["PPB84-NaCl-0.1m-0C",
+                                                                                      "PPB84-NaCl-0.1m-40C"])
+def test_nacl_dilute_off_25c_vs_ppb84(params, T, phi_ref):
+    # measured +0.0037 at 0 °C, -0.0022 at 40 °C: the 25 °C-parameter approximation holds to 0.005 at 0.1 m
+    assert _salt_phi(params, "Na[+]", "Cl[-]", 1, 1, 0.1, T) == pytest.approx(phi_ref, abs=0.005)
+
+
+@pytest.mark.xfail(reason="binary parameters have no temperature terms: at 0 °C and 1 mol/kg phi is 0.944 "
+                          "against 0.917 (PPB84); A_phi alone moves phi the wrong way")
+def test_nacl_concentrated_0c_vs_ppb84(params):
+    assert _salt_phi(params, "Na[+]", "Cl[-]", 1, 1, 1.0, 273.15) == pytest.approx(0.917, abs=0.005)

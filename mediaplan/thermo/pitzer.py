@@ -318,8 +318,10 @@ class PitzerSystem:
     * Binary and mixing parameters are 25 °C values (May et al. 2011; Harvie, Møller & Weare 1984;
       Pitzer & Mayorga 1973; Pitzer & Kim 1974). Only A_phi follows temperature (Møller 1988 eq. 13);
       the temperature terms that PHREEQC's pitzer.dat gives for some HMW84 rows are not used. Away from
-      25 °C the result is therefore an approximation whose error grows with ionic strength; for dilute
-      culture media (I < 0.1 mol/kg) it is dominated by A_phi, which is followed exactly.
+      25 °C the result is therefore an approximation whose error grows with ionic strength: for NaCl
+      against Pitzer, Peiper & Busey (1984) it is +0.004 at 0.1 mol/kg and 0 °C, but +0.027 at 1 mol/kg
+      and 0 °C (A_phi alone moves phi the wrong way there). Dilute culture media (I < 0.1 mol/kg) stay
+      within about 0.5 %.
     * Like-charged ions of unlike charge (e.g. K+/Ca2+, Cl-/SO4 2-) get the unsymmetric-mixing terms
       E-theta of Pitzer (1975), with J(x) from Pitzer's eq. 47 empirical form (:func:`j_function`).
       In the osmotic coefficient only Phi^phi = theta + E-theta + I E-theta' enters, and
