@@ -129,7 +129,7 @@ def parse_amount(text: str, *, field: str | None = None) -> Amount:
         try:
             num_q = Q_(1.0, num_u) if num_u != "1" else Q_(1.0)
             den_q = Q_(1.0, den_u) if den_u else None
-        except (pint.errors.PintError, ValueError, TypeError, AttributeError, KeyError, SyntaxError) as exc:
+        except Exception as exc:  # noqa: BLE001 - pint's parser raises many kinds (TokenError, AssertionError...)
             raise AmountError(f"unknown unit in {text!r}", field=field,
                               hint='use units such as mg/L, g/L, mM, mol/L, mol/kg or "% w/v"') from exc
         nd = num_q.dimensionality
@@ -206,7 +206,7 @@ def _parse_quantity(text: str, what: str, example: str, field: str | None) -> pi
     norm = re.sub(r"(?<=\d)\s*C$", " degC", norm)
     try:
         q = Q_(norm)
-    except (pint.errors.PintError, ValueError, TypeError, AttributeError, KeyError, SyntaxError) as exc:
+    except Exception as exc:  # noqa: BLE001 - pint's parser raises many kinds
         raise AmountError(f"cannot read {what} {text!r}", field=field, hint=f'write it like "{example}"') from exc
     if not isinstance(q, pint.Quantity):
         raise AmountError(f"{what} {text!r} has no unit", field=field, hint=f'write it like "{example}"')
