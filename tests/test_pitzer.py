@@ -506,27 +506,6 @@ def test_parser_rejects_bad_entries(mutate, match):
         pitzer_params_from_dict(d)
 
 
-def test_performance_budget(params):
-    # budgets from the design: one 12-ion row well under 50 µs, 100 000 rows well under 0.5 s.
-    # Loose limits here (3x) so that a loaded CI machine does not fail; see benchmarks/bench_pitzer.py.
-    import time
-    system = PitzerSystem(ALL_IONS, params)
-    rng = np.random.default_rng(2)
-    m = _neutral_random(rng, system, 100_000)
-    row = m[0]
-    system.osmotic_coefficient(row, T25)
-    n = 2000
-    t0 = time.perf_counter()
-    for _ in range(n):
-        system.osmotic_coefficient(row, T25)
-    single = (time.perf_counter() - t0) / n
-    t0 = time.perf_counter()
-    system.osmotic_coefficient(m, T25)
-    batch = time.perf_counter() - t0
-    assert single < 150e-6, f"single row {single * 1e6:.1f} µs"
-    assert batch < 1.5, f"100k rows {batch:.3f} s"
-
-
 def test_temperature_per_row(params):
     system = PitzerSystem(["Na[+]", "Ca[2+]", "Cl[-]"], params)
     m = np.tile([0.1, 0.1, 0.3], (3, 1))
