@@ -1,0 +1,171 @@
+"""Preparation sheets: masses per batch, hydrate forms, stock schemes, rounding, bad input."""
+
+from __future__ import annotations
+
+import math
+
+import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from mediaplan.cli import main
+from mediaplan.errors import AmountError
+from mediaplan.prep import (
+    PGR_STOCK_MAX_G_PER_L, SOLUBILITY_MARGIN, build_sheet, format_mass, round_mass, substock_for,
+)
+from mediaplan.recipe import Recipe
+
+
+def _media_lines():
+    from mediaplan.catalog import BUNDLED_DIR, load_catalog
+
+    out = []
+    for med in sorted(load_catalog([BUNDLED_DIR]).media.values(), key=lambda m: m.id):
+        for ln in med.lines:
+            if ln.amount.kind == "mass_conc":
+                out.append(pytest.param((med.id, ln.component, ln.amount.value), id=f"{med.id}-{ln.component}"))
+    return out
+
+
+@pytest.mark.parametrize("published_line", _media_lines())
+def test_published_media_at_one_litre_weigh_their_published_mg(catalog, published_line):
+    """Each published medium at 1 L: the sheet's mass equals the published mg/L (the media files'
+    citations: e.g. Murashige & Skoog 1962, Table 6, as transcribed in catalog/media/ms1962.yaml)."""
+    mid, cid, g_per_l = published_line
+    sheet = build_sheet(Recipe(base=mid), catalog, volume="1 L")
+    row = next(r for r in sheet.rows if r.id == cid)
+    assert row.grams == pytest.approx(g_per_l, rel=1e-12)
+    if row.grams >= 0.010:  # shown to 4 significant figures
+        text = format_mass(row.grams)
+        value = float(text.split()[0]) * (1e-3 if text.endswith(" mg") else 1.0)
+        assert value == pytest.approx(float(f"{g_per_l:.4g}"), rel=1e-9), text
+    else:
+        assert row.small
+
+
+@pytest.mark.parametrize("src, dst, mg_expected, tol_mg", [
+    # MS 1962 at 1 L; anhydrous/other-hydrate equivalents printed by vendor formulas, as quoted in the notes
+    # of catalog/media/ms1962.yaml (they round to 0.1 mg or 0.001 mg)
+    ("calcium_chloride_dihydrate", "calcium_chloride_anhydrous", 332.2, 0.06),
+    ("magnesium_sulfate_heptahydrate", "magnesium_sulfate_anhydrous", 180.69, 0.01),
+    ("manganese_sulfate_tetrahydrate", "manganese_sulfate_monohydrate", 16.9, 0.06),
+    ("sodium_molybdate_dihydrate", "sodium_molybdate_anhydrous", 0.213, 0.0006),
+])
+def test_switching_a_hydrate_keeps_the_moles(catalog, src, dst, mg_expected, tol_mg):
+    sheet = build_sheet(Recipe(base="ms1962"), catalog, volume="1 L", forms={src: dst})
+    row = next(r for r in sheet.rows if r.id == dst)
+    assert abs(row.grams * 1000 - mg_expected) <= tol_mg
+    assert "same moles" in row.form_note
+    assert not any(r.id == src for r in sheet.rows)
+
+
+def test_switching_to_another_substance_is_refused(catalog):
+    with pytest.raises(AmountError, match="not a form of"):
+        build_sheet(Recipe(base="ms1962"), catalog, forms={"calcium_chloride_dihydrate": "potassium_nitrate"})
+
+
+@pytest.mark.parametrize("grams, text", [
+    (1.65, "1.650 g"), (30.0, "30.00 g"), (0.44, "440.0 mg"), (0.0062, "6.2 mg"), (0.000025, "< 0.1 mg"),
+    (12.3456, "12.35 g"), (0.00026, "0.3 mg"), (1234.5, "1234 g"),  # rounding rules of this module
+])
+def test_balance_rounding(grams, text):
+    assert format_mass(grams) == text
+
+
+def test_rounding_never_finer_than_a_tenth_of_a_milligram():
+    for g in (0.012345, 0.0019876, 0.00054321):
+        r = round_mass(g)
+        assert abs(r / 1e-4 - round(r / 1e-4)) < 1e-6
+
+
+def test_substock_pipettes_at_least_a_tenth_of_a_millilitre():
+    for g in (5e-3, 2.5e-4, 2.5e-5, 1e-6):
+        s = substock_for(g)
+        assert s.grams >= 0.010  # the sub-stock itself is weighable
+        assert s.pipette_ml == pytest.approx(g / s.grams * s.volume_ml)
+
+
+def test_ms_stock_scheme_keeps_calcium_apart_and_below_solubility(catalog):
+    sheet = build_sheet(Recipe(base="ms1962").with_amount("bap", "1 mg/L"), catalog, volume="1 L", stocks=True)
+    keys = {s.key: s for s in sheet.stocks}
+    assert {"macro", "calcium", "micro", "iron", "vitamins", "pgr:bap"} <= set(keys)
+    for s in sheet.stocks:
+        species = {sp for it in s.items for sp, _ in catalog.components[it.id].species}
+        if "Ca[2+]" in species:
+            assert not species & {"SO4[2-]", "H2PO4[-]", "HPO4[2-]"}
+        if s.max_fraction is not None:
+            assert s.max_fraction <= SOLUBILITY_MARGIN
+        assert s.ml_per_batch == pytest.approx(1000.0 / s.factor)
+    assert keys["pgr:bap"].items[0].grams_per_litre <= PGR_STOCK_MAX_G_PER_L
+    sucrose = next(r for r in sheet.rows if r.id == "sucrose")
+    assert sucrose.route == "weigh"
+
+
+def test_calcium_and_sulfate_in_one_stock_is_flagged(catalog):
+    """CaCl2 + MgSO4 of MS at 100× would exceed the gypsum solubility product (10^-4.58, from memory)."""
+    from mediaplan.prep import _check_stock
+
+    items = [(catalog.components["calcium_chloride_dihydrate"], 0.44),
+             (catalog.components["magnesium_sulfate_heptahydrate"], 0.37)]
+    assert any("gypsum" in p for p in _check_stock(items, 100.0))
+    assert not any("gypsum" in p for p in _check_stock(items, 1.0))
+
+
+def test_heat_labile_components_go_in_after_autoclaving(catalog):
+    r = Recipe(base="ms1962").with_amount("gibberellic_acid", "0.5 mg/L").with_amount("l_glutamine", "200 mg/L")
+    plain = build_sheet(r, catalog)
+    assert {x.id for x in plain.rows if x.route == "late"} == {"gibberellic_acid", "l_glutamine"}
+    stocked = build_sheet(r, catalog, stocks=True)
+    assert next(s for s in stocked.stocks if s.key == "pgr:gibberellic_acid").filter_sterilise
+    assert "filter-sterilised" in stocked.steps[-1]
+
+
+def test_user_factor_beyond_solubility_is_refused(catalog):
+    with pytest.raises(AmountError, match="solubility"):
+        build_sheet(Recipe(base="ms1962"), catalog, stocks=True, factors={"macro": 100})
+
+
+@pytest.mark.parametrize("argv, needle", [
+    (["prep", "--base", "ms1962", "--volume", "0 L"], "more than zero"),
+    (["prep", "--base", "ms1962", "--volume", "2 kg"], "not a volume"),
+    (["prep", "--base", "ms1962", "--stocks", "--factor", "macro=100"], "solubility"),
+    (["prep", "--base", "ms1962", "--stocks", "--factor", "nosuch=10"], "no stock named"),
+    (["prep", "--base", "ms1962", "--form", "calcium_chloride_dihydrate=sucrose"], "not a form"),
+])
+def test_bad_input_is_one_line_and_exit_2(capsys, argv, needle):
+    assert main(argv) == 2
+    err = capsys.readouterr().err
+    assert needle in err and err.count("\n") == 1 and "Traceback" not in err
+
+
+def test_cli_prints_sheet_with_inline_amounts(capsys):
+    assert main(["prep", "KNO3=1900 mg/L", "sucrose=30 g/L", "--volume", "500 mL", "--format", "csv"]) == 0
+    out = capsys.readouterr().out
+    assert "950.0 mg" in out and "15.00 g" in out
+
+
+_IDS = ["ammonium_nitrate", "potassium_nitrate", "calcium_chloride_dihydrate", "magnesium_sulfate_heptahydrate",
+        "potassium_dihydrogen_phosphate", "boric_acid", "zinc_sulfate_heptahydrate", "potassium_iodide",
+        "iron_ii_sulfate_heptahydrate", "disodium_edta_dihydrate", "myo_inositol", "thiamine_hydrochloride",
+        "glycine", "sucrose", "bap", "naa", "gibberellic_acid", "l_glutamine", "agar", "mannitol",
+        "calcium_nitrate_tetrahydrate", "potassium_sulfate"]
+
+
+@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(amounts=st.dictionaries(st.sampled_from(_IDS), st.floats(0.01, 3000.0), min_size=1, max_size=10),
+       volume_ml=st.sampled_from([50.0, 250.0, 1000.0, 2000.0, 20000.0]),
+       molal=st.booleans())
+def test_stocks_recombine_exactly(catalog, amounts, volume_ml, molal):
+    """Σ stocks (stock g/L × mL per batch) + direct weighings = the plan's grams per batch (1e-9 relative)."""
+    r = Recipe()
+    for i, (cid, mg) in enumerate(amounts.items()):
+        if molal and i == 0 and catalog.components[cid].molar_mass:
+            r = r.with_amount(cid, f"{mg / 1e5:.6g} mol/kg")
+        else:
+            r = r.with_amount(cid, f"{mg:.6g} mg/L")
+    sheet = build_sheet(r, catalog, volume=f"{volume_ml} mL", stocks=True)
+    want = sheet.grams_per_batch()
+    got = sheet.recombined()
+    assert set(got) == set(want)
+    for cid, g in want.items():
+        assert math.isclose(got[cid], g, rel_tol=1e-9), cid
