@@ -12,7 +12,7 @@ from dataclasses import asdict, dataclass, field
 import numpy as np
 
 from mediaplan.catalog import GROUP_LABELS, Catalog, get_catalog
-from mediaplan.errors import MediaplanError
+from mediaplan.errors import AmountError, MediaplanError
 from mediaplan.model import compiled
 from mediaplan.recipe import Line, Recipe
 from mediaplan.thermo import potential
@@ -144,8 +144,7 @@ def evaluate(recipe: Recipe, catalog: Catalog | None = None, *, cell_reference_m
     y = float(mix.osmolality[0])
     ideal = float(mix.ideal[0])
     # freezing-point osmometer: the same medium at 0 °C
-    st0 = model.solve(n[None, :], b[None, :], T=T0) if lines else st
-    y0 = float(st0.mix.osmolality[0])
+    y0 = float(model.mixture(st.species_m, T0).osmolality[0]) if lines else y
     aw = float(potential.water_activity(y))
     aw0 = float(potential.water_activity(y0))
     theta = float(potential.freezing_point_depression(aw0))
@@ -219,18 +218,36 @@ def evaluate(recipe: Recipe, catalog: Catalog | None = None, *, cell_reference_m
 
 
 def classify_tonicity(effective_mosmol: float, reference_mosmol: float, tolerance: float) -> dict:
-    """Hypotonic / isotonic / hypertonic toward cells of the given sap osmolality [mOsm/kg]."""
-    if reference_mosmol <= 0:
-        raise MediaplanError("the cell reference must be a positive osmolality", field="cell_reference")
+    """Hypotonic / isotonic / hypertonic toward cells of the given sap osmolality.
+
+    Parameters
+    ----------
+    effective_mosmol : the medium's effective osmolality toward the cells [mOsm/kg]: each solute's
+        osmolal share weighted by its reflection coefficient (1 = impermeant)
+    reference_mosmol : osmolality of the cell sap [mOsm/kg] (typed in, or from a plasmolysis fit)
+    tolerance : half-width of the isotonic band [fraction of the reference], 0 <= tolerance < 1
+
+    Returns
+    -------
+    dict with ``class``, ``ratio`` (effective / reference), ``difference_mosmol_per_kg`` (effective −
+    reference), the inputs, and ``water_flow`` (expected direction of net water movement).
+    """
+    if not math.isfinite(reference_mosmol) or reference_mosmol <= 0:
+        raise AmountError(f"the cell reference ({reference_mosmol:g} mOsm/kg) must be a positive osmolality",
+                          field="cells", hint='e.g. "450 mOsm/kg" or "-1.1 MPa"')
+    if isinstance(tolerance, bool) or not math.isfinite(tolerance) or not 0 <= tolerance < 1:
+        raise AmountError(f"isotonic tolerance {tolerance!r} must be a fraction from 0 to below 1",
+                          field="cells.tolerance", hint="e.g. 0.05 for ±5 %")
     ratio = effective_mosmol / reference_mosmol
-    if abs(ratio - 1) <= tolerance:
+    if abs(ratio - 1) <= tolerance * (1 + 1e-12):  # the band's edges count as isotonic
         cls, flow = "isotonic", "no net water flow"
     elif ratio < 1:
         cls, flow = "hypotonic", "water moves into the cells (they swell; turgor rises)"
     else:
         cls, flow = "hypertonic", "water leaves the cells (they shrink; plasmolysis possible)"
     return {"class": cls, "ratio": ratio, "reference_mosmol_per_kg": reference_mosmol,
-            "effective_mosmol_per_kg": effective_mosmol, "tolerance": tolerance, "water_flow": flow}
+            "effective_mosmol_per_kg": effective_mosmol, "difference_mosmol_per_kg": effective_mosmol - reference_mosmol,
+            "tolerance": tolerance, "water_flow": flow}
 
 
 def _warnings(recipe: Recipe, catalog: Catalog, lines: list[Line], model, st, ev: Evaluation) -> list[Warning_]:

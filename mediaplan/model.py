@@ -151,15 +151,20 @@ class MediumModel:
         molality = n / W[:, None] + b
         n_all = molality * W[:, None]
         species_m = molality @ self.S
+        mix = self.mixture(species_m, T)
+        return ModelState(W, n_all, molality, species_m, mix)
+
+    def mixture(self, species_m: np.ndarray, T: float) -> MixtureResult:
+        """ZSR solution for species molalities (B, n_species) [mol/kg] at temperature T [K]."""
+        species_m = np.atleast_2d(species_m)
         ion_m = species_m[:, self.ion_idx] if self.ion_idx else None
         neutral_m = species_m[:, self.neutral_idx]
-        # PEG: g PEG per g water = molality * molar mass (kg/mol) -> kg/kg
+        # PEG: g PEG per g water = molality [mol/kg] * molar mass [g/mol] / 1000
         peg_c = np.zeros((species_m.shape[0], len(self.peg_idx)))
         for j, k in enumerate(self.peg_idx):
             peg_c[:, j] = species_m[:, k] * self.peg_grades[j] / 1000.0
-        mix = zsr_osmolality(MixtureInput(self.pitzer, ion_m, self.neutral_params, neutral_m,
-                                          self.peg_grades, peg_c, T))
-        return ModelState(W, n_all, molality, species_m, mix)
+        return zsr_osmolality(MixtureInput(self.pitzer, ion_m, self.neutral_params, neutral_m,
+                                           self.peg_grades, peg_c, T))
 
 
 _MODEL_CACHE: OrderedDict[tuple, MediumModel] = OrderedDict()

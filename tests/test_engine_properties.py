@@ -42,10 +42,10 @@ def test_adding_any_solute_lowers_the_potential(catalog, d, extra, x):
 def test_dilution_tends_to_vant_hoff(catalog, d):
     """As the medium is diluted the non-ideal osmolality tends to the van't Hoff sum."""
     ratios = []
-    for scale in (1.0, 1e-2, 1e-4):
+    for scale in (1.0, 1e-2, 1e-6):
         ev = evaluate(make(d, scale), catalog)
         ratios.append(ev.osmolality_mosmol_per_kg / ev.osmolality_ideal_mosmol_per_kg)
-    assert abs(ratios[-1] - 1) < 0.01
+    assert abs(ratios[-1] - 1) < 2e-3  # Debye–Hückel limiting law: 2:2 salts at ~1e-4 mol/kg still ~0.1 %
     assert abs(ratios[-1] - 1) <= abs(ratios[0] - 1) + 1e-9
 
 

@@ -31,7 +31,7 @@ from mediaplan.thermo import peg as _peg
 from mediaplan.thermo.params import NeutralParams
 
 _MAX_OUTER = 30
-_TOL = 1e-12
+_TOL = 1e-11
 
 
 @dataclass
@@ -73,47 +73,6 @@ class MixtureResult:
     fraction_peg: np.ndarray
 
 
-def _neutral_terms(y: np.ndarray, params: Sequence[NeutralParams], m: np.ndarray):
-    """Sum over neutral solutes of m/x(y) and its derivative in y; also each m/x."""
-    B = y.shape[0]
-    total = np.zeros(B)
-    dtotal = np.zeros(B)
-    fr = np.zeros((B, len(params)))
-    for j, p in enumerate(params):
-        mj = m[:, j]
-        if not np.any(mj > 0):
-            continue
-        x = _neutral.molality_at_osmolality(y, p)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            r = np.where(mj > 0, mj / x, 0.0)
-            dxdy = 1.0 / _neutral.binary_osmolality_dm(x, p)
-            dr = np.where(mj > 0, -mj / x**2 * dxdy, 0.0)
-        fr[:, j] = r
-        total += r
-        dtotal += dr
-    return total, dtotal, fr
-
-
-def _peg_terms(y: np.ndarray, grades: Sequence[int], c: np.ndarray, T: float):
-    B = y.shape[0]
-    total = np.zeros(B)
-    dtotal = np.zeros(B)
-    fr = np.zeros((B, len(grades)))
-    for j, g in enumerate(grades):
-        cj = c[:, j]
-        if not np.any(cj > 0):
-            continue
-        x = _peg.peg_concentration_at_osmolality(y, T, g)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            r = np.where(cj > 0, cj / x, 0.0)
-            dxdy = 1.0 / _peg.peg_osmolality_dc(x, T, g)
-            dr = np.where(cj > 0, -cj / x**2 * dxdy, 0.0)
-        fr[:, j] = r
-        total += r
-        dtotal += dr
-    return total, dtotal, fr
-
-
 def _ion_phi(pitzer, ion_m: np.ndarray, scale: np.ndarray, T: float) -> np.ndarray:
     return np.asarray(pitzer.osmotic_coefficient(ion_m * scale[:, None], T), dtype=float)
 
@@ -123,64 +82,106 @@ def zsr_osmolality(inp: MixtureInput) -> MixtureResult:
 
     Notes
     -----
-    With the electrolyte group at scale s (ion molalities s·m), its binary osmolality is
-    O_e(s) = s·M_e·φ_e(s), M_e = Σ m_ions. We iterate on φ_e: hold φ̂ fixed, solve the scalar ZSR
-    equation  M_e φ̂ / y + Σ_neutral m_j/x_j(y) + Σ_PEG c_k/x_k(y) = 1  for y by safeguarded Newton,
-    then update φ̂ = φ_e(y / (M_e φ̂)). φ_e varies slowly with s, so two to four Pitzer evaluations
-    reach 1e-12. Without electrolytes the Newton solve alone is exact.
+    Unknowns: the mixture osmolality y and, for each neutral solute and PEG grade j, the amount x_j
+    of its binary solution that has the same water activity. Equations: O_j(x_j) = y for every j
+    (O_j: binary osmolality), and Σ_j m_j/x_j + r_e(y) = 1, where the electrolytes, at scale s of
+    their own ion molalities, contribute r_e = 1/s with s·M_e·φ_e(s) = y (M_e = Σ m_ions).
+    One Newton step on the whole system reduces to a scalar equation in δy (δx_j = (δy − R_j)/O_j');
+    φ_e is refreshed by one Pitzer evaluation per step at s = y/(M_e φ_e). Each step costs one
+    evaluation of every binary model and of the Pitzer sum; five to seven steps reach 1e-12.
     """
     nm = np.atleast_2d(np.asarray(inp.neutral_m, dtype=float)) if len(inp.neutral) else None
     pc = np.atleast_2d(np.asarray(inp.peg_c, dtype=float)) if len(inp.peg_grades) else None
-    im = np.atleast_2d(np.asarray(inp.ion_m, dtype=float)) if inp.pitzer is not None and inp.ion_m is not None else None
+    im = (np.atleast_2d(np.asarray(inp.ion_m, dtype=float))
+          if inp.pitzer is not None and inp.ion_m is not None else None)
     B = next(a.shape[0] for a in (im, nm, pc, np.zeros((1, 0))) if a is not None)
-    if nm is None:
-        nm = np.zeros((B, 0))
-    if pc is None:
-        pc = np.zeros((B, 0))
+    nm = np.zeros((B, 0)) if nm is None else nm
+    pc = np.zeros((B, 0)) if pc is None else pc
+    T = inp.T
     M_e = im.sum(axis=1) if im is not None else np.zeros(B)
     has_e = M_e > 0
-    phi_own = _ion_phi(inp.pitzer, im, np.ones(B), inp.T) if im is not None else np.ones(B)
-    phi_hat = phi_own.copy()
-    # additive first guess: each group's binary osmolality at its own amount
-    y = M_e * phi_hat
-    for j, p in enumerate(inp.neutral):
-        y = y + _neutral.binary_osmolality(nm[:, j], p)
-    for j, g in enumerate(inp.peg_grades):
-        y = y + _peg.peg_osmolality(pc[:, j], inp.T, g)
+    phi_own = _ion_phi(inp.pitzer, im, np.ones(B), T) if im is not None else np.ones(B)
+    # neutral solutes: only columns in use, all at once (stacked Norrish constants)
+    used_n = [j for j in range(nm.shape[1]) if np.any(nm[:, j] > 0)]
+    stacked = _neutral.stack([inp.neutral[j] for j in used_n]) if used_n else None
+    mN = nm[:, used_n]
+    used_p = [j for j in range(pc.shape[1]) if np.any(pc[:, j] > 0)]
+    cP = pc[:, used_p]
+    grades = [inp.peg_grades[j] for j in used_p]
+
+    def binaries(xN, xP):
+        """Binary osmolalities and their derivatives of every neutral and PEG group."""
+        if stacked is not None:
+            oN = _neutral.binary_osmolality(xN, stacked)
+            dN = _neutral.binary_osmolality_dm(xN, stacked)
+        else:
+            oN = dN = np.zeros((B, 0))
+        oP = np.empty_like(xP)
+        dP = np.empty_like(xP)
+        for k, g in enumerate(grades):
+            oP[:, k] = _peg.peg_osmolality(xP[:, k], T, g)
+            dP[:, k] = _peg.peg_osmolality_dc(xP[:, k], T, g)
+        return oN, dN, oP, dP
+
+    # additive first guess
+    oN0, _, oP0, _ = binaries(mN, cP)
+    y = M_e * phi_own + oN0.sum(axis=1) + oP0.sum(axis=1)
     active = y > 0
-    y = np.where(active, y, 1.0)  # placeholder for empty rows, reset below
-    for _outer in range(8):
-        # Newton on y with phi_hat fixed
-        for _ in range(_MAX_OUTER):
-            tn, dtn, _ = _neutral_terms(y, inp.neutral, nm)
-            tp, dtp, _ = _peg_terms(y, inp.peg_grades, pc, inp.T)
-            re = M_e * phi_hat / y
-            G = re + tn + tp - 1.0
-            dG = -re / y + dtn + dtp
+    y = np.where(active, y, 1.0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        xN = np.where(mN > 0, mN * (y[:, None] / np.where(oN0 > 0, oN0, 1.0)), 1.0)
+        xP = np.where(cP > 0, cP * (y[:, None] / np.where(oP0 > 0, oP0, 1.0)), 1.0)
+    # electrolyte group: local power law phi_e(s) ≈ phi_c (s/s_c)^g around the last Pitzer point
+    s_c = np.ones(B)
+    phi_c = phi_own.copy()
+    g = np.zeros(B)
+    Me = np.where(has_e, M_e, 1.0)
+
+    def e_scale(y):
+        return np.where(has_e, (y * s_c**g / (Me * phi_c)) ** (1.0 / (1.0 + g)), 1.0)
+
+    maskN = mN > 0
+    maskP = cP > 0
+    for _ in range(_MAX_OUTER):
+        oN, dN, oP, dP = binaries(xN, xP)
+        RN = np.where(maskN, oN - y[:, None], 0.0)
+        RP = np.where(maskP, oP - y[:, None], 0.0)
+        re = np.where(has_e, 1.0 / e_scale(y), 0.0)
+        F = re + np.where(maskN, mN / xN, 0.0).sum(axis=1) + np.where(maskP, cP / xP, 0.0).sum(axis=1) - 1.0
+        # d(m/x)/dx = -m/x^2 ; δx = (δy - R)/O' ; d r_e/dy = -r_e / ((1+g) y)
+        aN = np.where(maskN, mN / xN**2 / dN, 0.0)
+        aP = np.where(maskP, cP / xP**2 / dP, 0.0)
+        denom = -re / ((1.0 + g) * y) - aN.sum(axis=1) - aP.sum(axis=1)
+        rhs = -F - (aN * RN).sum(axis=1) - (aP * RP).sum(axis=1)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            dy = np.where(active & (denom != 0), rhs / denom, 0.0)
+        y_new = np.clip(y + dy, 0.2 * y, 5.0 * y)
+        dy = y_new - y
+        xN = np.where(maskN, np.maximum(xN + (dy[:, None] - RN) / dN, 0.2 * xN), xN)
+        xP = np.where(maskP, np.maximum(xP + (dy[:, None] - RP) / dP, 0.2 * xP), xP)
+        y = y_new
+        dphi = 0.0
+        if im is not None:
+            s_new = e_scale(y)
+            phi_pred = phi_c * (s_new / s_c) ** g
+            phi_new = np.where(has_e, _ion_phi(inp.pitzer, im, s_new, T), 1.0)
+            dphi = float(np.max(np.abs(phi_new - phi_pred))) if B else 0.0
             with np.errstate(divide="ignore", invalid="ignore"):
-                step = np.where(active & (dG != 0), G / dG, 0.0)
-            y_new = y - step
-            y_new = np.where(y_new <= 0.1 * y, 0.1 * y, y_new)
-            y_new = np.where(y_new >= 10 * y, 10 * y, y_new)
-            done = np.all(np.abs(y_new - y) <= _TOL * np.maximum(y, 1e-300))
-            y = y_new
-            if done:
-                break
-        if im is None or not np.any(has_e):
+                ls = np.log(s_new / s_c)
+                g = np.where(has_e & (np.abs(ls) > 1e-9), np.log(phi_new / phi_c) / np.where(ls != 0, ls, 1.0), g)
+            g = np.clip(g, -0.5, 2.0)
+            s_c, phi_c = s_new, phi_new
+        if (np.all(np.abs(dy) <= _TOL * y) and dphi <= 10 * _TOL
+                and np.all(np.abs(RN) <= 1e-10 * y[:, None]) and np.all(np.abs(RP) <= 1e-10 * y[:, None])):
             break
-        scale = np.where(has_e, y / np.where(has_e, M_e * phi_hat, 1.0), 1.0)
-        phi_new = np.where(has_e, _ion_phi(inp.pitzer, im, scale, inp.T), 1.0)
-        converged = bool(np.all(np.abs(phi_new - phi_hat) < 1e-13))
-        phi_hat = phi_new
-        if converged:
-            break
+    phi_hat = phi_c
     y = np.where(active, y, 0.0)
     with np.errstate(divide="ignore", invalid="ignore"):
-        fe = np.where(active & has_e, M_e * phi_hat / np.where(active, y, 1.0), 0.0)
-    _, _, fn = _neutral_terms(np.where(active, y, 1.0), inp.neutral, nm)
-    _, _, fp = _peg_terms(np.where(active, y, 1.0), inp.peg_grades, pc, inp.T)
-    fn = np.where(active[:, None], fn, 0.0)
-    fp = np.where(active[:, None], fp, 0.0)
+        fe = np.where(active & has_e, 1.0 / e_scale(np.where(active, y, 1.0)), 0.0)
+    fn = np.zeros((B, nm.shape[1]))
+    fn[:, used_n] = np.where(maskN & active[:, None], mN / xN, 0.0)
+    fp = np.zeros((B, pc.shape[1]))
+    fp[:, used_p] = np.where(maskP & active[:, None], cP / xP, 0.0)
     peg_mol = np.zeros(B)
     for j, g in enumerate(inp.peg_grades):
         peg_mol = peg_mol + pc[:, j] * 1000.0 / g

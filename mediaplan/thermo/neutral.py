@@ -116,12 +116,22 @@ def _finite(value, where: str, key: str) -> float:
     return v
 
 
-def _K(p: NeutralParams) -> float:
+def _K(p: NeutralParams):
+    """Norrish constant of ``p`` (0 for ideal). ``p.K`` may be an array when several solutes are
+    stacked (see :func:`stack`); the model must then be "norrish" with ideal ones at K = 0."""
     if p.model == "ideal":
         return 0.0
     if p.model == "norrish":
-        return float(p.K)
+        return p.K if isinstance(p.K, np.ndarray) else float(p.K)
     raise ValueError(f"neutral solute {p.species!r}: unknown model {p.model!r}")
+
+
+def stack(params) -> NeutralParams:
+    """Several solutes as one NeutralParams whose K is an array (ideal solutes at K = 0), so that the
+    functions of this module evaluate all of them in one vectorised call (last axis = solute)."""
+    K = np.array([_K(p) for p in params], dtype=float)
+    m_max = float(min((p.m_max for p in params), default=float("inf")))
+    return NeutralParams("+".join(p.species for p in params), "norrish", K, m_max, "stacked")
 
 
 def _molality(m) -> np.ndarray:
@@ -212,7 +222,7 @@ def molality_at_osmolality(y, p: NeutralParams) -> np.ndarray:
     K = _K(p)
     target = M_WATER * y
     u = -np.expm1(-target)  # ideal solution, exact for K = 0
-    if K != 0.0:
+    if np.any(K != 0.0):
         for _ in range(100):
             one_minus = 1.0 - u
             g = -np.log1p(-u) + K * u * u - target
