@@ -1,0 +1,219 @@
+"""The mediaplan terminal app: compose a medium and watch its water relations change.
+
+The App owns the :class:`~mediaplan.tui.state.Session` (plan, undo history, recovery file) and the
+file actions (open, save, save as, new, quit); the main screen owns the recipe actions.
+"""
+
+from __future__ import annotations
+
+import os
+from pathlib import Path
+
+from textual.app import App
+from textual.theme import Theme
+from textual.timer import Timer
+
+from mediaplan.catalog import Catalog
+from mediaplan.errors import ConflictError, MediaplanError
+from mediaplan.tui.actions import bindings
+from mediaplan.tui.palette import PlanCommands
+from mediaplan.tui.screens.files import ChoiceScreen, PathScreen
+from mediaplan.tui.screens.main import MainScreen
+from mediaplan.tui.state import Session, find_recoveries, restore
+
+#: seconds of quiet after an edit before unsaved work is written to the recovery folder
+AUTOSAVE_DELAY = 2.0
+#: set to 1 to exit right after the first painted screen (start-up benchmark)
+EXIT_AFTER_PAINT = "MEDIAPLAN_TUI_EXIT_AFTER_PAINT"
+
+THEME = Theme(
+    name="mediaplan-agar",
+    primary="#7fb069",  # leaf green
+    secondary="#e6aa68",  # amber of an autoclaved medium
+    accent="#8fc1e3",
+    warning="#e6aa68",
+    error="#e4572e",
+    success="#7fb069",
+    background="#161b1f",
+    surface="#1f262b",
+    panel="#2a3339",
+    dark=True,
+)
+
+
+class MediaplanApp(App):
+    CSS_PATH = "mediaplan.tcss"
+    TITLE = "mediaplan"
+    COMMANDS = App.COMMANDS | {PlanCommands}
+    BINDINGS = bindings("app")
+
+    def __init__(self, session: Session, *, offer_recovery: bool = True, start_dir: Path | None = None) -> None:
+        super().__init__()
+        self.session = session
+        self.offer_recovery = offer_recovery
+        self.start_dir = start_dir or Path.cwd()
+        self._autosave: Timer | None = None
+
+    @property
+    def catalog(self) -> Catalog:
+        return self.session.catalog
+
+    @property
+    def main(self) -> MainScreen:
+        return self.get_screen("main")  # type: ignore[return-value]
+
+    def on_mount(self) -> None:
+        self.register_theme(THEME)
+        self.theme = THEME.name
+        self.install_screen(MainScreen(), name="main")
+        self.push_screen("main")
+        if os.environ.get(EXIT_AFTER_PAINT) == "1":
+            self.call_after_refresh(self.exit)
+            return
+        if self.offer_recovery:
+            self.call_after_refresh(self._offer_recovery)
+
+    # ---- recovery of unsaved work -------------------------------------------------------------
+    def _offer_recovery(self) -> None:
+        found = find_recoveries(self.catalog, self.session.plan.path)
+        if not found:
+            return
+        rec = found[0]
+        more = f"\n({len(found) - 1} more recovery files are kept for later.)" if len(found) > 1 else ""
+
+        def done(answer: str | None) -> None:
+            if answer == "restore":
+                self._replace_session(restore(rec, self.catalog))
+                self.notify("Unsaved work restored; save it to keep it.", markup=False)
+            elif answer == "discard":
+                rec.file.unlink(missing_ok=True)
+
+        self.push_screen(ChoiceScreen("unsaved work found", f"Autosaved, never saved:\n{rec.summary}{more}",
+                                      [("restore", "Restore"), ("discard", "Discard"), ("later", "Later")]), done)
+
+    def schedule_autosave(self) -> None:
+        """Write the recovery file once edits pause for AUTOSAVE_DELAY seconds."""
+        if self._autosave is not None:
+            self._autosave.stop()
+        self._autosave = self.set_timer(AUTOSAVE_DELAY, self.autosave_now)
+
+    def autosave_now(self) -> None:
+        try:
+            self.session.write_recovery()
+        except (OSError, MediaplanError) as exc:
+            self.notify(f"autosave failed: {exc}", severity="warning", markup=False)
+
+    def _replace_session(self, session: Session) -> None:
+        self.session = session
+        self.main.refresh_all()
+
+    # ---- file actions -------------------------------------------------------------------------
+    def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
+        if action in ("save", "save_as", "open_plan", "new_plan"):
+            return isinstance(self.screen, MainScreen)
+        return True
+
+    def action_save(self) -> None:
+        if self.session.plan.path is None:
+            self.action_save_as()
+        else:
+            self._save(None)
+
+    def action_save_as(self) -> None:
+        plan = self.session.plan
+        folder = plan.path.parent if plan.path else self.start_dir
+        name = plan.path.name if plan.path else _file_name(plan.title)
+        self.push_screen(PathScreen("save as", folder, str(folder / name), must_exist=False),
+                         lambda p: p is not None and self._save(p))
+
+    def _save(self, path: Path | None, *, force: bool = False) -> None:
+        try:
+            saved = self.session.save(path, force=force)
+        except ConflictError as exc:
+            self._conflict(path or self.session.plan.path, exc)
+            return
+        except MediaplanError as exc:
+            self.notify(str(exc), title="not saved", severity="error", markup=False)
+            return
+        self.notify(f"saved {saved}", markup=False)
+        self.main.refresh_all()
+
+    def _conflict(self, target: Path, exc: ConflictError) -> None:
+        beside = _beside(target)
+
+        def done(answer: str | None) -> None:
+            if answer == "beside":
+                self._save(beside)
+            elif answer == "overwrite":
+                self._save(target, force=True)
+
+        self.push_screen(ChoiceScreen("not saved", f"{exc.message}:\n{target}\n\nSave beside it as {beside.name}?",
+                                      [("beside", f"Save as {beside.name}"), ("overwrite", "Overwrite"),
+                                       ("cancel", "Cancel")]), done)
+
+    def action_open_plan(self) -> None:
+        folder = self.session.plan.path.parent if self.session.plan.path else self.start_dir
+        self._if_saved(lambda: self.push_screen(PathScreen("open a plan", folder, must_exist=True), self._open))
+
+    def _open(self, path: Path | None) -> None:
+        if path is None:
+            return
+        try:
+            session = Session.open(path, self.catalog)
+        except MediaplanError as exc:
+            self.notify(str(exc), title="not opened", severity="error", markup=False, timeout=10)
+            return
+        self.session.discard_recovery()
+        self._replace_session(session)
+        self.call_after_refresh(self._offer_recovery)
+
+    def action_new_plan(self) -> None:
+        def fresh() -> None:
+            self.session.discard_recovery()
+            self._replace_session(Session.new(self.catalog))
+
+        self._if_saved(fresh)
+
+    def action_help(self) -> None:
+        from mediaplan.tui.screens.help import HelpScreen
+
+        if not isinstance(self.screen, HelpScreen):
+            self.push_screen(HelpScreen())
+
+    async def action_quit(self) -> None:
+        def leave() -> None:
+            self.session.discard_recovery()
+            self.exit(0)
+
+        self._if_saved(leave)
+
+    def _if_saved(self, then) -> None:
+        """Run ``then`` now if nothing is unsaved; otherwise ask: save, discard or cancel."""
+        if not self.session.dirty:
+            then()
+            return
+
+        def done(answer: str | None) -> None:
+            if answer == "save":
+                self.action_save()
+                if not self.session.dirty:
+                    then()
+            elif answer == "discard":
+                then()
+
+        self.push_screen(ChoiceScreen("unsaved changes", f"{self.session.label} has changes that are not saved.",
+                                      [("save", "Save"), ("discard", "Discard changes"), ("cancel", "Cancel")]), done)
+
+
+def _file_name(title: str) -> str:
+    stem = "".join(ch if ch.isalnum() else "_" for ch in title.lower()).strip("_")
+    return (stem[:40] or "plan") + ".toml"
+
+
+def _beside(path: Path) -> Path:
+    """A free file name next to ``path``: NAME-2.toml, NAME-3.toml..."""
+    for i in range(2, 1000):
+        cand = path.with_name(f"{path.stem}-{i}{path.suffix}")
+        if not cand.exists():
+            return cand
+    raise MediaplanError("no free file name beside the plan", file=str(path), hint="use save as")

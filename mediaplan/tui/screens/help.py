@@ -1,0 +1,49 @@
+"""Keys and a few words on reading the main screen."""
+
+from __future__ import annotations
+
+from rich.table import Table
+from rich.text import Text
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import VerticalScroll
+from textual.screen import ModalScreen
+from textual.widgets import Static
+
+from mediaplan.tui.actions import ACTIONS
+
+NOTES = (
+    "Rows marked + were added to the base, * replace a base amount, ! carry a caution (see notes).",
+    "Osmolality: non-ideal (Pitzer, Norrish, Michel, mixed by ZSR) beside the van't Hoff ideal sum.",
+    "ψs is the osmotic potential of the medium; tonicity needs the cells' sap (c, conditions).",
+    "Amounts: 30 g/L, 1900 mg/L, 3 % w/v, 20 mM, 0.4 mol/L, 0.5 mol/kg (per kg water); 0 removes.",
+    "Ctrl+P opens the command palette: every action, and 'add NAME' / 'amount of NAME' by typing.",
+)
+
+
+def _keys(text: str) -> str:
+    return " ".join(k.replace("question_mark", "?").replace("delete", "Del") for k in text.split(","))
+
+
+def bindings_table() -> Table:
+    table = Table.grid(padding=(0, 2))
+    table.add_column(style="bold", no_wrap=True)
+    table.add_column()
+    for a in ACTIONS:
+        table.add_row(_keys(a.keys), a.tooltip)
+    table.add_row("Ctrl+P", "Command palette")
+    table.add_row("Tab", "Move between table, panels and dialog fields")
+    return table
+
+
+class HelpScreen(ModalScreen[None]):
+    BINDINGS = [Binding("escape,question_mark,q", "close", "Close", id="help.close", tooltip="Close the help")]
+
+    def compose(self) -> ComposeResult:
+        with VerticalScroll(classes="dialog", id="help-dialog") as box:
+            box.border_title = "keys · Esc closes"
+            yield Static(bindings_table())
+            yield Static(Text("\n".join(NOTES), style="dim"), id="help-notes")
+
+    def action_close(self) -> None:
+        self.dismiss(None)

@@ -1,0 +1,247 @@
+"""The main screen: recipe table, water-relations panel, notes and the contribution chart."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from rich.text import Text
+from textual import on
+from textual.app import ComposeResult
+from textual.containers import Horizontal, Vertical, VerticalScroll
+from textual.message import Message
+from textual.screen import Screen
+from textual.widgets import DataTable, Footer, Static
+
+from mediaplan.errors import MediaplanError
+from mediaplan.tui.actions import bindings
+from mediaplan.tui.state import Outcome
+from mediaplan.tui.widgets.recipe_table import RecipeTable
+from mediaplan.tui.widgets.relations import GroupChart, NotesPanel, RelationsPanel, figures
+
+
+class MainScreen(Screen):
+    BINDINGS = bindings("screen")
+    HORIZONTAL_BREAKPOINTS = [(0, "-narrow"), (110, "-wide")]
+
+    @dataclass
+    class Evaluated(Message):
+        """Posted after every (re-)evaluation: what the panel now shows."""
+
+        outcome: Outcome
+        preview: bool = False
+
+    def compose(self) -> ComposeResult:
+        yield Static("", id="topbar", markup=False)
+        with Horizontal(id="body"):
+            with Vertical(id="left"):
+                yield RecipeTable(id="recipe")
+                yield Static("", id="detail", markup=False)
+                yield GroupChart(id="groups")
+            with Vertical(id="right"):
+                yield RelationsPanel(id="relations")
+                with VerticalScroll(id="notes-scroll"):
+                    yield NotesPanel(id="notes")
+        yield Footer(compact=True)
+
+    @property
+    def session(self):
+        return self.app.session
+
+    def on_mount(self) -> None:
+        self.query_one("#groups").border_title = "osmolality by group · mOsm/kg"
+        self.query_one(RecipeTable).focus()
+        self.refresh_all()
+
+    # ---- showing the plan -----------------------------------------------------------------
+    def refresh_all(self, outcome: Outcome | None = None) -> Outcome:
+        """Evaluate the plan and re-render every figure; returns what was shown."""
+        outcome = outcome or self.session.evaluate()
+        ev = outcome.evaluation
+        self.query_one(RecipeTable).show(ev)
+        self.query_one(RelationsPanel).show(ev, outcome.error)
+        self.query_one(NotesPanel).show(ev)
+        self.query_one(GroupChart).show(ev)
+        self._topbar()
+        self._detail()
+        self.refresh_bindings()
+        self.post_message(self.Evaluated(outcome))
+        return outcome
+
+    def _topbar(self) -> None:
+        s = self.session
+        t = Text(" mediaplan ", style="bold reverse")
+        t.append(f" {s.label} ", style="bold")
+        t.append(f"· {s.plan.title}")
+        if s.dirty:
+            t.append("  ● unsaved", style="bold")
+        self.query_one("#topbar", Static).update(t)
+
+    def _detail(self) -> None:
+        cid = self.query_one(RecipeTable).selected_id
+        ev = self.query_one(RelationsPanel).evaluation
+        c = ev.component(cid) if ev and cid else None
+        detail = self.query_one("#detail", Static)
+        if c is None:
+            detail.update(Text("Empty recipe: press a to add a component, b to start from a base formulation.",
+                               style="dim") if not (ev and ev.components) else "")
+            return
+        origin = {"base": "from the base", "user": "added", "override": "replaces the base amount"}[c.origin]
+        t = Text(c.name, style="bold")
+        if c.formula:
+            t.append(f" {c.formula}")
+        t.append(f" · {origin}")
+        if c.confidence:
+            t.append(f" (confidence {c.confidence})")
+        t.append(f" · {c.osmolality_mosmol_per_kg:.1f} mOsm/kg · {c.grams_per_litre:.4g} g/L")
+        if c.hazard:
+            t.append(" · caution: see notes", style="bold")
+        detail.update(t)
+
+    def preview(self, component_id: str, text: str | None) -> str:
+        """Show the figures the recipe would have with this amount (None restores). Returns a summary."""
+        base = self.query_one(RelationsPanel).evaluation
+        if text is None:
+            self.refresh_all()
+            return ""
+        try:
+            recipe = self.session.recipe.with_amount(component_id, text)
+        except MediaplanError as exc:
+            return str(exc)
+        outcome = self.session.evaluate(recipe)
+        ev = outcome.evaluation
+        self.query_one(RelationsPanel).show(ev, outcome.error, preview=True)
+        self.query_one(GroupChart).show(ev)
+        self.post_message(self.Evaluated(outcome, preview=True))
+        if ev is None:
+            return outcome.error or ""
+        now, was = figures(ev), figures(base) if base else None
+        if was is None:
+            return f"osmolality {now['osmolality']} mOsm/kg · ψs {now['potential_mpa']} MPa"
+        return (f"osmolality {was['osmolality']} → {now['osmolality']} mOsm/kg · "
+                f"ψs {was['potential_mpa']} → {now['potential_mpa']} MPa")
+
+    # ---- table events -------------------------------------------------------------------
+    @on(DataTable.RowHighlighted)
+    def _highlighted(self) -> None:
+        self._detail()
+        self.refresh_bindings()
+
+    @on(DataTable.RowSelected)
+    def _row_selected(self) -> None:
+        self.action_edit_amount()
+
+    # ---- actions ------------------------------------------------------------------------
+    def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
+        if action in ("edit_amount", "remove_component"):
+            return True if self.query_one(RecipeTable).selected_id else None
+        if action == "undo":
+            return True if self.session.can_undo else None
+        if action == "redo":
+            return True if self.session.can_redo else None
+        return True
+
+    def _apply(self, change, *args) -> None:
+        """Run one Session edit; a MediaplanError is shown in words, the recipe stays as it was."""
+        try:
+            change(*args)
+        except MediaplanError as exc:
+            self.notify(str(exc), title="not changed", severity="error", markup=False)
+            return
+        self.refresh_all()
+        self.app.schedule_autosave()
+
+    def action_add_component(self, query: str = "") -> None:
+        from mediaplan.tui.screens.picker import PickerScreen
+
+        present = {c.id for c in (self.query_one(RelationsPanel).evaluation or _NoEv).components}
+        self.app.push_screen(PickerScreen(self.session.catalog, present, query), self._picked)
+
+    def _picked(self, component_id: str | None) -> None:
+        if component_id is None:
+            return
+        self.query_one(RecipeTable).select_id(component_id)
+        amount = self.session.recipe.amount_of(component_id)
+        ev = self.query_one(RelationsPanel).evaluation
+        current = ev.component(component_id) if ev else None
+        text = amount.text if amount else (current.amount if current else "")
+        self.edit(component_id, text)
+
+    def action_edit_amount(self) -> None:
+        cid = self.query_one(RecipeTable).selected_id
+        ev = self.query_one(RelationsPanel).evaluation
+        c = ev.component(cid) if ev and cid else None
+        if c is not None:
+            self.edit(cid, c.amount)
+
+    def edit(self, component_id: str, text: str) -> None:
+        from mediaplan.tui.screens.amount import AmountScreen
+
+        comp = self.session.catalog.components[component_id]
+        name = comp.name + (f"  {comp.formula}" if comp.formula else "")
+
+        def done(value: str | None) -> None:
+            if value is not None:
+                self._apply(self.session.set_amount, component_id, value)
+                self.query_one(RecipeTable).select_id(component_id)
+            else:
+                self.refresh_all()
+
+        self.app.push_screen(AmountScreen(name, text, lambda t: self.preview(component_id, t)), done)
+
+    def action_remove_component(self) -> None:
+        cid = self.query_one(RecipeTable).selected_id
+        if cid:
+            self._apply(self.session.remove, cid)
+
+    def action_choose_base(self) -> None:
+        from mediaplan.tui.screens.base import BaseScreen
+
+        r = self.session.recipe
+
+        def done(result) -> None:
+            if result is not None:
+                base, strength = result
+                self._apply(lambda: self.session.set_recipe(r.with_settings(base=base, strength=strength)))
+
+        self.app.push_screen(BaseScreen(self.session.catalog, r.base, r.strength), done)
+
+    def action_conditions(self) -> None:
+        from mediaplan.tui.screens.conditions import Conditions, ConditionsScreen
+
+        plan = self.session.plan
+        cells = ""
+        if plan.cells:
+            cells = str(plan.cells.get("osmolality") or plan.cells.get("potential") or "")
+        current = Conditions(plan.title, plan.recipe.volume, plan.recipe.temperature, cells)
+
+        def done(c: Conditions | None) -> None:
+            if c is not None:
+                self._apply(self._set_conditions, c)
+
+        self.app.push_screen(ConditionsScreen(current), done)
+
+    def _set_conditions(self, c) -> None:
+        from dataclasses import replace
+
+        from mediaplan.units import parse_target
+
+        plan = self.session.plan
+        cells = {k: v for k, v in (plan.cells or {}).items() if k not in ("osmolality", "potential")}
+        if c.cells:
+            cells[parse_target(c.cells).kind] = c.cells
+        recipe = plan.recipe.with_settings(volume=c.volume, temperature=c.temperature)
+        self.session.change(replace(plan, title=c.title, recipe=recipe, cells=cells or None))
+
+    def action_undo(self) -> None:
+        if self.session.undo():
+            self.refresh_all()
+            self.app.schedule_autosave()
+
+    def action_redo(self) -> None:
+        if self.session.redo():
+            self.refresh_all()
+            self.app.schedule_autosave()
+
+
+class _NoEv:
+    components: list = []

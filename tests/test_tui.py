@@ -1,0 +1,267 @@
+"""Terminal app, driven by Textual's pilot: state and posted messages, not only pixels."""
+
+from __future__ import annotations
+
+import asyncio
+import functools
+import html
+import re
+
+import pytest
+
+from mediaplan import planfile
+from mediaplan.catalog import get_catalog
+from mediaplan.evaluate import evaluate
+from mediaplan.planfile import Plan
+from mediaplan.recipe import Recipe
+from mediaplan.tui.app import MediaplanApp
+from mediaplan.tui.screens.amount import AmountScreen
+from mediaplan.tui.screens.files import ChoiceScreen
+from mediaplan.tui.screens.main import MainScreen
+from mediaplan.tui.screens.picker import PickerScreen
+from mediaplan.tui.state import Session, find_recoveries
+from mediaplan.tui.widgets.relations import RelationsPanel, figures
+
+SIZE = (100, 32)
+
+
+def run_async(fn):
+    """Run a pilot scenario in its own event loop (no async pytest plugin needed)."""
+    @functools.wraps(fn)
+    def wrapper(*args, **kwargs):
+        return asyncio.run(fn(*args, **kwargs))
+    return wrapper
+
+
+@pytest.fixture(autouse=True)
+def _isolated(tmp_path, monkeypatch):
+    monkeypatch.setenv("MEDIAPLAN_CONFIG_DIR", str(tmp_path / "config"))
+    monkeypatch.setenv("MEDIAPLAN_STATE_DIR", str(tmp_path / "state"))
+    monkeypatch.chdir(tmp_path)
+
+
+@pytest.fixture
+def catalog():
+    return get_catalog()
+
+
+def write_plan(path, recipe: Recipe, title="Test medium (invented)"):
+    planfile.write(Plan(recipe=recipe, title=title), path)
+    return path
+
+
+def app_for(session, messages=None) -> MediaplanApp:
+    return MediaplanApp(session, offer_recovery=False, start_dir=session.plan.path.parent if session.plan.path else None)
+
+
+def panel(app) -> RelationsPanel:
+    return app.get_screen("main").query_one(RelationsPanel)
+
+
+def screen_text(app) -> str:
+    """The visible text of the screen (from the SVG screenshot; one string per styled run)."""
+    svg = app.export_screenshot()
+    return "\n".join(html.unescape(t).replace("\xa0", " ") for t in re.findall(r">([^<]*)</text>", svg))
+
+
+async def type_text(pilot, text: str) -> None:
+    for ch in text:
+        await pilot.press("space" if ch == " " else ch)
+
+
+@run_async
+async def test_panel_shows_evaluate_figures(catalog, tmp_path):
+    recipe = Recipe(base="ms1962").with_amount("sucrose", "30 g/L")
+    path = write_plan(tmp_path / "p.toml", recipe)
+    seen = []
+    app = app_for(Session.open(path, catalog))
+    async with app.run_test(size=SIZE, message_hook=seen.append) as pilot:
+        await pilot.pause()
+        ev = panel(app).evaluation
+        ref = evaluate(recipe, catalog)
+        assert ev.osmolality_mosmol_per_kg == pytest.approx(ref.osmolality_mosmol_per_kg, rel=1e-12)
+        assert ev.water_activity == pytest.approx(ref.water_activity, rel=1e-12)
+        assert ev.osmotic_potential_mpa == pytest.approx(ref.osmotic_potential_mpa, rel=1e-12)
+        # the rendered panel carries the same figures, formatted
+        shown = screen_text(app)
+        for key in ("osmolality", "osmolality_ideal", "water_activity", "potential_mpa"):
+            assert figures(ref)[key] in shown
+        assert any(isinstance(m, MainScreen.Evaluated) and m.outcome.evaluation is not None for m in seen)
+        # cautions of hazardous components (ammonium nitrate in MS) reach the notes
+        assert ref.cautions and "ammonium nitrate" in shown
+
+
+@run_async
+async def test_add_component_and_edit_amount(catalog):
+    seen = []
+    app = app_for(Session.new(catalog))
+    async with app.run_test(size=SIZE, message_hook=seen.append) as pilot:
+        await pilot.press("a")
+        assert isinstance(app.screen, PickerScreen)
+        await type_text(pilot, "KNO3")
+        await pilot.press("enter")
+        assert isinstance(app.screen, AmountScreen)
+        await type_text(pilot, "1900 mg/L")
+        await pilot.press("enter")
+        await pilot.pause()
+        assert isinstance(app.screen, MainScreen)
+        recipe = app.session.recipe
+        assert recipe.amount_of("potassium_nitrate").text == "1900 mg/L"
+        assert app.session.dirty
+        ref = evaluate(recipe, catalog)
+        assert panel(app).evaluation.osmolality_mosmol_per_kg == pytest.approx(ref.osmolality_mosmol_per_kg)
+        # edit it through the table: Enter on the row opens the amount dialog
+        await pilot.press("enter")
+        assert isinstance(app.screen, AmountScreen)
+        await pilot.press("ctrl+u")  # clear the input
+        await type_text(pilot, "3.8 g/L")
+        await pilot.press("enter")
+        await pilot.pause()
+        assert app.session.recipe.amount_of("potassium_nitrate").text == "3.8 g/L"
+        after = evaluate(app.session.recipe, catalog)
+        assert panel(app).evaluation.osmolality_mosmol_per_kg == pytest.approx(after.osmolality_mosmol_per_kg)
+        assert after.osmolality_mosmol_per_kg > ref.osmolality_mosmol_per_kg
+        # undo brings the first amount back
+        await pilot.press("u")
+        assert app.session.recipe.amount_of("potassium_nitrate").text == "1900 mg/L"
+        evaluated = [m for m in seen if isinstance(m, MainScreen.Evaluated)]
+        assert len(evaluated) >= 3
+
+
+@run_async
+async def test_bad_amount_is_shown_inline_and_changes_nothing(catalog):
+    app = app_for(Session(Plan(recipe=Recipe().with_amount("sucrose", "30 g/L")), catalog))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("e")
+        assert isinstance(app.screen, AmountScreen)
+        await pilot.press("ctrl+u")
+        await type_text(pilot, "30 g/xyz")
+        await pilot.press("enter")
+        await pilot.pause()
+        assert isinstance(app.screen, AmountScreen)  # still open: nothing applied
+        message = app.screen.query_one("#amount-message")
+        assert message.has_class("-error")
+        assert "unknown unit" in str(message.render())
+        await pilot.press("escape")
+        await pilot.pause()
+        assert app.session.recipe.amount_of("sucrose").text == "30 g/L"
+        assert not app.session.dirty
+
+
+@run_async
+async def test_base_and_strength(catalog):
+    app = app_for(Session.new(catalog))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("b")
+        ids = ["-none-", *sorted(catalog.media)]
+        ol = app.screen.query_one("#base-list")
+        ol.highlighted = ids.index("ms1962")
+        app.screen.query_one("#strength-input").value = "1/2"
+        await pilot.pause()
+        await pilot.click("#base-apply")
+        await pilot.pause()
+        assert app.session.recipe.base == "ms1962"
+        assert app.session.recipe.strength == 0.5
+        half = evaluate(app.session.recipe, catalog)
+        assert panel(app).evaluation.osmolality_mosmol_per_kg == pytest.approx(half.osmolality_mosmol_per_kg)
+
+
+@run_async
+async def test_save_reopen_and_conflict(catalog, tmp_path):
+    path = write_plan(tmp_path / "plan.toml", Recipe().with_amount("sucrose", "30 g/L"))
+    app = app_for(Session.open(path, catalog))
+    async with app.run_test(size=SIZE) as pilot:
+        app.get_screen("main")._apply(app.session.set_amount, "sucrose", "45 g/L")
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        assert not app.session.dirty
+        assert planfile.read(path, catalog=catalog).recipe.amount_of("sucrose").text == "45 g/L"
+        # someone else changes the file: the next save is refused and offered beside it
+        path.write_text(path.read_text().replace("45 g/L", "50 g/L"))
+        app.get_screen("main")._apply(app.session.set_amount, "sucrose", "60 g/L")
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        assert isinstance(app.screen, ChoiceScreen)
+        await pilot.click("#choice-beside")
+        await pilot.pause()
+        beside = tmp_path / "plan-2.toml"
+        assert beside.exists()
+        assert planfile.read(beside, catalog=catalog).recipe.amount_of("sucrose").text == "60 g/L"
+        assert planfile.read(path, catalog=catalog).recipe.amount_of("sucrose").text == "50 g/L"
+    reopened = Session.open(beside, catalog)
+    assert reopened.recipe.amount_of("sucrose").text == "60 g/L"
+
+
+@run_async
+async def test_quit_with_unsaved_work_asks_first(catalog):
+    app = app_for(Session(Plan(recipe=Recipe().with_amount("sucrose", "30 g/L")), catalog))
+    async with app.run_test(size=SIZE) as pilot:
+        app.get_screen("main")._apply(app.session.set_amount, "sucrose", "20 g/L")
+        await pilot.press("q")
+        await pilot.pause()
+        assert isinstance(app.screen, ChoiceScreen)
+        await pilot.press("escape")
+        await pilot.pause()
+        assert app.is_running and isinstance(app.screen, MainScreen)
+
+
+@run_async
+async def test_autosave_recovery_is_offered(catalog, tmp_path):
+    path = write_plan(tmp_path / "plan.toml", Recipe().with_amount("sucrose", "30 g/L"))
+    app = app_for(Session.open(path, catalog))
+    async with app.run_test(size=SIZE) as pilot:
+        app.get_screen("main")._apply(app.session.set_amount, "mannitol", "0.2 mol/kg")
+        app.autosave_now()  # what the debounce timer does after a pause
+        await pilot.pause()
+    found = find_recoveries(catalog, path)
+    assert len(found) == 1 and found[0].plan.recipe.amount_of("mannitol").text == "0.2 mol/kg"
+    # the next start on the same plan offers it
+    app2 = MediaplanApp(Session.open(path, catalog))
+    async with app2.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        assert isinstance(app2.screen, ChoiceScreen)
+        await pilot.click("#choice-restore")
+        await pilot.pause()
+        assert app2.session.recipe.amount_of("mannitol").text == "0.2 mol/kg"
+        assert app2.session.dirty and app2.session.plan.path == path.resolve()
+
+
+@run_async
+async def test_palette_offers_state_dependent_commands(catalog):
+    from mediaplan.tui.palette import PlanCommands
+
+    app = app_for(Session.new(catalog))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        provider = PlanCommands(app.screen)
+        titles = [t for t, _, _ in provider._available()]
+        assert "Add a component" in titles
+        assert "Edit the selected amount" not in titles  # empty recipe: nothing to edit
+        assert "Undo the last change" not in titles
+        hits = [h.text async for h in provider.search("mannitol")]
+        assert "add D-mannitol" in hits
+
+
+@run_async
+async def test_help_lists_every_binding(catalog):
+    from mediaplan.tui.actions import ACTIONS
+
+    app = app_for(Session.new(catalog))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("question_mark")
+        await pilot.pause()
+        shown = screen_text(app)
+        for a in ACTIONS:
+            assert a.tooltip.split()[0] in shown
+        ids = {b.id for b in app.screen.query_one("Static").screen.app.BINDINGS}
+        assert "mediaplan.save" in ids
+
+
+def test_domain_modules_do_not_import_textual():
+    import subprocess
+    import sys
+
+    code = ("import sys, mediaplan.evaluate, mediaplan.planfile, mediaplan.tui.state; "
+            "print('textual' in sys.modules, 'rich' in sys.modules)")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout.split()
+    assert out[0] == "False"
