@@ -1,0 +1,49 @@
+"""Timing of the plasmolysis designer and fitter (prints medians and ratios; asserts nothing).
+
+Run: python benchmarks/bench_plasmolysis.py
+"""
+
+from __future__ import annotations
+
+import statistics
+import time
+
+import numpy as np
+
+from mediaplan.catalog import get_catalog
+from mediaplan.evaluate import evaluate
+from mediaplan.plasmolysis import Counts, design_series, fit_counts, inverse_link, potentials_between
+from mediaplan.recipe import Recipe
+
+
+def median_ms(fn, repeat: int = 7) -> float:
+    fn()  # warm caches (compiled models, scipy imports)
+    times = []
+    for _ in range(repeat):
+        t = time.perf_counter()
+        fn()
+        times.append(time.perf_counter() - t)
+    return 1000 * statistics.median(times)
+
+
+def main() -> None:
+    cat = get_catalog()
+    psi = potentials_between(-0.4e6, -1.8e6, 8)
+    cases = {"water": Recipe(volume="50 mL"), "ms1962 x0.5": Recipe(volume="50 mL", base="ms1962", strength=0.5)}
+    for name, bg in cases.items():
+        by_weight = median_ms(lambda bg=bg: design_series(bg, "mannitol", psi, catalog=cat))
+        with_stock = median_ms(lambda bg=bg: design_series(bg, "mannitol", psi, catalog=cat, stock="1 mol/kg"))
+        one_eval = median_ms(lambda bg=bg: evaluate(bg.with_amount("mannitol", "50 g/L"), cat))
+        print(f"design 8 levels in {name:12s}: by weight {by_weight:7.1f} ms, with stock {with_stock:7.1f} ms; "
+              f"one evaluate() {one_eval:5.1f} ms (design = {by_weight / one_eval:.1f} evaluations)")
+    rng = np.random.default_rng(1)
+    x = np.repeat(np.linspace(-0.4, -1.6, 8), 3)
+    n = np.full(x.size, 50.0)
+    for link in ("logit", "probit"):
+        y = rng.binomial(50, inverse_link(-7 * (x + 1.0), link)).astype(float)
+        ms = median_ms(lambda link=link, y=y: fit_counts(Counts(x, y, n, "bench"), link), repeat=51)
+        print(f"fit {link:6s} 24 rows: {ms:6.2f} ms")
+
+
+if __name__ == "__main__":
+    main()
