@@ -6,10 +6,11 @@ Design
     the full non-ideal model (:class:`~mediaplan.model.MediumModel`, ZSR mixing) and ``brentq``.
     Preparation is given by weight (osmoticum per litre of finished solution, everything made up
     to volume) and, when a stock is named, as volumes of stock and diluent. The stock is the
-    osmoticum dissolved in the background; the diluent is the background. Their mixing ratio is
-    solved on the mixture's composition per kg of water (stock and diluent water contents come from
-    the model's solution density), not by C1V1 = C2V2, and the two volumes are scaled so that the
-    mixture's own volume is the batch volume.
+    osmoticum dissolved in the background; the diluent is the background. The mixture's composition
+    per kg of water follows from the water content per litre of stock and diluent (the model's
+    solution density), not from C1V1 = C2V2; the mixing ratio is solved (brentq) so that the mixture
+    has the level's water potential, which in water means the level's osmoticum molality exactly.
+    The two volumes are then scaled so that the mixture's own volume is the batch volume.
 
 Fit
     Counts (plasmolysed of total, per level, replicates allowed) are fitted by a binomial GLM in

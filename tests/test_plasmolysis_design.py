@@ -62,8 +62,8 @@ def test_levels_are_evenly_spaced_in_potential_not_in_concentration(catalog):
     np.testing.assert_allclose(np.diff(psi), -0.2, rtol=1e-9)
     m = np.array([lv.molality_mol_per_kg for lv in d.levels])
     steps = np.diff(m)
-    # mannitol's osmotic coefficient falls below 1 at higher molality (Norrish K < 0 effect): molality
-    # steps must not be constant if the design is really non-ideal
+    # mannitol's osmotic coefficient departs from 1 as molality rises (Norrish equation): molality steps
+    # must not be constant if the design is really non-ideal
     assert np.ptp(steps) / steps.mean() > 1e-3
     assert np.all(steps > 0)
 
