@@ -9,23 +9,97 @@ from mediaplan.commands.common import add_recipe_arguments, catalog_from, print_
 
 def add_arguments(p) -> None:
     add_recipe_arguments(p)
-    p.add_argument("--cells", metavar="REF", help='cell reference for tonicity: "450 mOsm/kg" or "-1.1 MPa"')
+    p.add_argument("--cells", metavar="REF", help='cell reference for tonicity: "450 mOsm/kg" or "-1.1 MPa" '
+                   "(default: the plan's [cells] table)")
+    p.add_argument("--tolerance", metavar="FRACTION",
+                   help='half-width of the isotonic band: 0.05 or "5 %%" (default: [cells] tolerance, else 5 %%)')
+    p.add_argument("--project", action="store_true",
+                   help="add columns as made / after autoclaving / after N weeks (settings from the plan's "
+                        "[projection] table and the options below)")
+    p.add_argument("--hydrolysis", metavar="FRACTION",
+                   help='sucrose hydrolysed on autoclaving: 0.1 or "10 %%" (default 10 %%; published 5-20 %% in '
+                        "ordinary media, 53-95 %% with activated charcoal or at low pH)")
+    loss = p.add_mutually_exclusive_group()
+    loss.add_argument("--water-loss", metavar="FRACTION", help="water lost by the end of the culture (total)")
+    loss.add_argument("--water-loss-per-week", metavar="FRACTION", help="water lost per week (of the water first present)")
+    p.add_argument("--weeks", metavar="N", help="length of the culture in weeks (default 4)")
     p.add_argument("--json", action="store_true", help="print one JSON object")
 
 
 def cell_reference(text: str | None, plan, T: float) -> float | None:
-    """Cell reference [mOsm/kg] from --cells or the plan's [cells] table."""
+    """Cell reference [mOsm/kg] from --cells or the plan's [cells] table (osmolality, else potential)."""
     from mediaplan.thermo.potential import osmolality_from_potential
     from mediaplan.units import parse_target
 
+    field = "cells"
     if text is None and plan is not None and plan.cells:
-        text = plan.cells.get("osmolality") or plan.cells.get("potential")
+        key = "osmolality" if plan.cells.get("osmolality") else "potential"
+        text, field = plan.cells.get(key), f"cells.{key}"
     if not text:
         return None
-    t = parse_target(str(text), field="cells")
-    if t.kind == "osmolality":
-        return t.value * 1000.0
-    return float(osmolality_from_potential(t.value, T)) * 1000.0
+    t = parse_target(str(text), field=field)
+    value = t.value * 1000.0 if t.kind == "osmolality" else float(osmolality_from_potential(t.value, T)) * 1000.0
+    if value <= 0:
+        from mediaplan.errors import AmountError
+
+        raise AmountError(f"cell reference {text!r} must be below 0 MPa or above 0 mOsm/kg", field=field)
+    return value
+
+
+def cell_tolerance(text: str | None, plan) -> float:
+    """Isotonic band [fraction] from --tolerance, the plan's [cells] tolerance, or the default 5 %."""
+    from mediaplan.evaluate import ISOTONIC_TOLERANCE
+    from mediaplan.projection import parse_fraction
+
+    if text is None and plan is not None and plan.cells and "tolerance" in plan.cells:
+        return parse_fraction(plan.cells["tolerance"], field="cells.tolerance", upper=0.5)
+    if text is None:
+        return ISOTONIC_TOLERANCE
+    return parse_fraction(text, field="--tolerance", upper=0.5)
+
+
+def projection_from(args, plan, recipe, catalog, ref: float | None, tol: float):
+    """The projection asked for by --project (None when not asked)."""
+    if not getattr(args, "project", False):
+        return None
+    from mediaplan.projection import project, settings_from
+
+    settings = settings_from(plan.projection if plan else None, autoclave_hydrolysis=args.hydrolysis,
+                             water_loss=args.water_loss, water_loss_per_week=args.water_loss_per_week,
+                             weeks=args.weeks)
+    return project(recipe, catalog, settings, cell_reference_mosmol=ref, isotonic_tolerance=tol)
+
+
+def projection_text(proj) -> str:
+    """The three columns as plain text."""
+    from mediaplan.projection import GUIDANCE
+
+    s = proj.settings
+    loss = (f"water loss {100 * s.total_water_loss:.3g} % by week {s.weeks:g}" +
+            (f" ({100 * s.water_loss_per_week:.3g} % per week)" if s.water_loss is None and s.water_loss_per_week
+             else ""))
+    head = [""] + [st.label for st in proj.stages]
+    evs = [st.evaluation for st in proj.stages]
+
+    def sugar(ev, cid):
+        c = ev.component(cid)
+        return f"{c.molality_mmol_per_kg:.2f}" if c else "0"
+
+    rows = [["osmolality, mOsm/kg"] + [f"{e.osmolality_mosmol_per_kg:.1f}" for e in evs],
+            ["van't Hoff sum, mOsm/kg"] + [f"{e.osmolality_ideal_mosmol_per_kg:.1f}" for e in evs],
+            ["water activity"] + [f"{e.water_activity:.5f}" for e in evs],
+            ["osmotic potential, MPa"] + [f"{e.osmotic_potential_mpa:.4f}" for e in evs],
+            ["freezing point, °C"] + [f"−{e.freezing_point_depression_k:.3f}" for e in evs]]
+    rows += [[f"{cid}, mmol/kg"] + [sugar(e, cid) for e in evs] for cid in ("sucrose", "glucose", "fructose")]
+    if evs[0].tonicity:
+        rows.append(["tonicity"] + [e.tonicity["class"] for e in evs])
+    widths = [max(len(r[i]) for r in [head, *rows]) for i in range(len(head))]
+    out = [f"Projection: sucrose hydrolysed on autoclaving {100 * s.autoclave_hydrolysis:.3g} %; {loss}", ""]
+    for r in [head, *rows]:
+        out.append("  ".join([r[0].ljust(widths[0])] + [c.rjust(w) for c, w in zip(r[1:], widths[1:], strict=True)]))
+    out += [f"  - {n}" for n in proj.notes]
+    out.append(f"  guidance: {GUIDANCE}")
+    return "\n".join(out)
 
 
 def run(args) -> int:
@@ -35,18 +109,22 @@ def run(args) -> int:
     catalog = catalog_from(args)
     notes: list[str] = []
     plan, recipe = recipe_from(args, catalog, notes=notes)
-    tol = 0.05
-    if plan is not None and plan.cells and "tolerance" in plan.cells:
-        tol = float(plan.cells["tolerance"])
+    tol = cell_tolerance(args.tolerance, plan)
     ref = cell_reference(args.cells, plan, recipe.temperature_k)
     ev = evaluate(recipe, catalog, cell_reference_mosmol=ref, isotonic_tolerance=tol)
+    proj = projection_from(args, plan, recipe, catalog, ref, tol)
     if args.json:
         d = ev.to_dict()
         d["notes"] = notes
         d["title"] = plan.title if plan else None
+        if proj is not None:
+            d["projection"] = proj.to_dict()
         print_json(d)
     else:
         for n in notes:
             print(f"note: {n}", file=sys.stderr)
         print(evaluation_text(ev, plan.title if plan else None))
+        if proj is not None:
+            print()
+            print(projection_text(proj))
     return 0
