@@ -265,3 +265,33 @@ def test_domain_modules_do_not_import_textual():
             "print('textual' in sys.modules, 'rich' in sys.modules)")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout.split()
     assert out[0] == "False"
+
+
+@run_async
+async def test_prep_sheet_is_built_in_a_worker(catalog):
+    from mediaplan.tui.screens.prep import PrepScreen
+
+    seen = []
+    app = app_for(Session(Plan(recipe=Recipe(base="ms1962").with_amount("sucrose", "30 g/L")), catalog))
+    async with app.run_test(size=SIZE, message_hook=seen.append) as pilot:
+        await pilot.press("m")
+        assert isinstance(app.screen, PrepScreen)
+        await app.workers.wait_for_complete()
+        await pilot.pause()
+        ready = [m for m in seen if isinstance(m, PrepScreen.Ready)]
+        assert ready and ready[-1].error is None
+        assert "sucrose" in ready[-1].markdown and "**batch:** 1 L" in ready[-1].markdown
+        # a bad batch volume is refused inline, in words
+        app.screen.query_one("#prep-volume").value = "2 parsecs"
+        await pilot.press("enter")
+        await pilot.pause()
+        assert app.screen.query_one("#prep-message").has_class("-error")
+        app.screen.query_one("#prep-volume").value = "2 L"
+        await pilot.pause()
+        app.screen.rebuild()
+        await app.workers.wait_for_complete()
+        await pilot.pause()
+        ready = [m for m in seen if isinstance(m, PrepScreen.Ready)]
+        assert "**batch:** 2 L" in ready[-1].markdown and "**batch:** 2 L" in app.screen.markdown
+        await pilot.press("escape")
+        assert isinstance(app.screen, MainScreen)

@@ -36,6 +36,8 @@ ACTIONS: tuple[UserAction, ...] = (
                "Start from a published formulation at full, half or any strength"),
     UserAction("conditions", "c", "conditions", "Conditions", "Set title, volume, temperature, cell reference",
                "Batch volume, temperature and the cells' sap osmolality for tonicity"),
+    UserAction("prep", "m", "prep_sheet", "Prep", "Preparation sheet for a batch",
+               "What to weigh for a batch volume, with or without stock solutions"),
     UserAction("undo", "u,ctrl+z", "undo", "Undo", "Undo the last change", "Undo the last change", key_display="u"),
     UserAction("redo", "r,ctrl+y", "redo", "Redo", "Redo", "Redo the change just undone", key_display="r"),
     UserAction("help", "question_mark,f1", "help", "Keys", "Show keys and help", "List every key binding",

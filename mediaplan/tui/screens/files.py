@@ -89,7 +89,11 @@ class PathScreen(ModalScreen[Path | None]):
 class ChoiceScreen(ModalScreen[str | None]):
     """A question with a few answers (buttons; the first is the default). Dismisses with the answer id."""
 
-    BINDINGS = [Binding("escape", "cancel", "Cancel", id="choice.cancel", tooltip="Do nothing")]
+    BINDINGS = [
+        Binding("escape", "cancel", "Cancel", id="choice.cancel", tooltip="Do nothing"),
+        Binding("left", "app.focus_previous", "Previous", show=False, id="choice.left", tooltip="Previous answer"),
+        Binding("right", "app.focus_next", "Next", show=False, id="choice.right", tooltip="Next answer"),
+    ]
 
     def __init__(self, title: str, text: str, choices: list[tuple[str, str]]) -> None:
         super().__init__()

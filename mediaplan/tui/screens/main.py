@@ -43,6 +43,8 @@ class MainScreen(Screen):
                     yield NotesPanel(id="notes")
         yield Footer(compact=True)
 
+    _binding_state: tuple = ()
+
     @property
     def session(self):
         return self.app.session
@@ -63,7 +65,7 @@ class MainScreen(Screen):
         self.query_one(GroupChart).show(ev)
         self._topbar()
         self._detail()
-        self.refresh_bindings()
+        self._refresh_bindings_if_changed()
         self.post_message(self.Evaluated(outcome))
         return outcome
 
@@ -121,10 +123,17 @@ class MainScreen(Screen):
                 f"ψs {was['potential_mpa']} → {now['potential_mpa']} MPa")
 
     # ---- table events -------------------------------------------------------------------
+    def _refresh_bindings_if_changed(self) -> None:
+        """The footer is rebuilt only when what can be done has changed (it is costly to redraw)."""
+        state = tuple(self.check_action(a, ()) for a in _STATEFUL)
+        if state != self._binding_state:
+            self._binding_state = state
+            self.refresh_bindings()
+
     @on(DataTable.RowHighlighted)
     def _highlighted(self) -> None:
         self._detail()
-        self.refresh_bindings()
+        self._refresh_bindings_if_changed()
 
     @on(DataTable.RowSelected)
     def _row_selected(self) -> None:
@@ -132,6 +141,9 @@ class MainScreen(Screen):
 
     # ---- actions ------------------------------------------------------------------------
     def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
+        if action == "prep_sheet":
+            ev = self.query_one(RelationsPanel).evaluation
+            return True if ev and ev.components else None
         if action in ("edit_amount", "remove_component"):
             return True if self.query_one(RecipeTable).selected_id else None
         if action == "undo":
@@ -232,6 +244,11 @@ class MainScreen(Screen):
         recipe = plan.recipe.with_settings(volume=c.volume, temperature=c.temperature)
         self.session.change(replace(plan, title=c.title, recipe=recipe, cells=cells or None))
 
+    def action_prep_sheet(self) -> None:
+        from mediaplan.tui.screens.prep import PrepScreen
+
+        self.app.push_screen(PrepScreen())
+
     def action_undo(self) -> None:
         if self.session.undo():
             self.refresh_all()
@@ -241,6 +258,10 @@ class MainScreen(Screen):
         if self.session.redo():
             self.refresh_all()
             self.app.schedule_autosave()
+
+
+#: actions whose availability depends on the state of the plan
+_STATEFUL = ("edit_amount", "remove_component", "undo", "redo", "prep_sheet")
 
 
 class _NoEv:

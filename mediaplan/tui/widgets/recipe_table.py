@@ -52,6 +52,7 @@ class RecipeTable(DataTable):
         super().__init__(cursor_type="row", zebra_stripes=True, cell_padding=0, **kw)
         self._ids: list[str] = []
         self._evaluation: Evaluation | None = None
+        self._shown: dict[tuple[str, str], tuple[str, object]] = {}  # what each cell shows now
         self.name_width = 30
 
     def on_mount(self) -> None:
@@ -87,13 +88,18 @@ class RecipeTable(DataTable):
         if ids == self._ids:
             for c in comps:
                 for col, cell in row_cells(c, self.name_width).items():
-                    self.update_cell(c.id, col, cell)
+                    key = (c.id, col)
+                    if self._shown.get(key) != (cell.plain, cell.style):
+                        self._shown[key] = (cell.plain, cell.style)
+                        self.update_cell(c.id, col, cell)
             return
         keep = self.selected_id
         self.clear()
         self._ids = ids
+        self._shown = {}
         for c in comps:
             cells = row_cells(c, self.name_width)
+            self._shown.update({(c.id, k): (v.plain, v.style) for k, v in cells.items()})
             self.add_row(*(cells[k] for k, _ in COLUMNS), key=c.id)
         if keep in ids:
             self.move_cursor(row=ids.index(keep))

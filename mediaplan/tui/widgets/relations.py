@@ -44,9 +44,13 @@ class RelationsPanel(Static):
 
     def show(self, ev: Evaluation | None, error: str | None = None, *, preview: bool = False) -> None:
         self.evaluation, self.error, self.preview = ev, error, preview
-        self.set_class(preview, "-preview")
-        self.set_class(error is not None, "-error")
-        self.border_title = "water relations" + (" · preview" if preview else "")
+        if preview != self.has_class("-preview"):
+            self.set_class(preview, "-preview")
+        if (error is not None) != self.has_class("-error"):
+            self.set_class(error is not None, "-error")
+        title = "water relations" + (" · preview" if preview else "")
+        if self.border_title != title:
+            self.border_title = title
         self.update(self._figures_renderable())
 
     def _figures_renderable(self):
@@ -111,7 +115,9 @@ class NotesPanel(Static):
         self.count = len(lines)
         n_w = len(ev.warnings) if ev else 0
         n_c = len(ev.cautions) if ev else 0
-        self.border_title = f"notes · {n_w} warnings · {n_c} cautions"
+        title = f"notes · {n_w} warnings · {n_c} cautions"
+        if self.border_title != title:
+            self.border_title = title
         self.update(Group(*lines) if lines else Text("no warnings, no hazardous components", style="dim"))
 
 

@@ -1,0 +1,124 @@
+"""Preparation sheet for a batch volume: weights on the shelf and, optionally, stock solutions.
+
+The sheet is built by mediaplan.prep in a worker and shown as the Markdown that mediaplan.export
+writes; ``w`` writes it next to the plan.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+
+from textual import on, work
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Horizontal, VerticalScroll
+from textual.message import Message
+from textual.screen import Screen
+from textual.widgets import Footer, Input, Label, Markdown, Static, Switch
+from textual.worker import Worker, WorkerState
+
+from mediaplan.errors import MediaplanError
+from mediaplan.tui.widgets.fields import FieldMessage, VolumeValidator, validated_value
+
+
+def sheet_markdown(plan, catalog, volume: str, stocks: bool) -> str:
+    """Build the sheet and format it (pure; runs in a worker thread)."""
+    from mediaplan import export, prep
+
+    sheet = prep.build_sheet(plan.recipe, catalog, volume=volume, stocks=stocks, title=plan.title)
+    return export.prep_sheet(sheet, plan, "md")
+
+
+class PrepScreen(Screen):
+    BINDINGS = [
+        Binding("escape", "close", "Back", id="prep.close", tooltip="Back to the recipe"),
+        Binding("s", "toggle_stocks", "Stocks", id="prep.stocks", tooltip="Weigh everything, or use stock solutions"),
+        Binding("w", "write", "Write .md", id="prep.write", tooltip="Write the sheet as Markdown beside the plan"),
+    ]
+
+    @dataclass
+    class Ready(Message):
+        """A sheet was built (or could not be: ``error`` says why, in words)."""
+
+        markdown: str | None
+        error: str | None = None
+
+    def __init__(self) -> None:
+        super().__init__()
+        self.markdown: str | None = None
+
+    def compose(self) -> ComposeResult:
+        recipe = self.app.session.recipe
+        yield Static("", id="topbar", markup=False)
+        with Horizontal(id="prep-controls"):
+            yield Label("batch", classes="field-label")
+            yield Input(recipe.volume, id="prep-volume", validators=[VolumeValidator()])
+            yield Label("stock solutions", classes="field-label")
+            yield Switch(False, id="prep-stocks")
+        yield FieldMessage("Enter rebuilds the sheet for this volume", id="prep-message")
+        with VerticalScroll(id="prep-scroll"):
+            yield Markdown("", id="prep-sheet")
+        yield Footer(compact=True)
+
+    def on_mount(self) -> None:
+        self.query_one("#topbar", Static).update(f" preparation sheet · {self.app.session.plan.title}")
+        self.rebuild()
+
+    def rebuild(self) -> None:
+        volume = validated_value(self.query_one("#prep-volume", Input), self.query_one(FieldMessage))
+        if volume is not None:
+            self.query_one(FieldMessage).update("building…")
+            self.build(volume, self.query_one(Switch).value)
+
+    @work(thread=True, exclusive=True, exit_on_error=False)
+    def build(self, volume: str, stocks: bool) -> None:
+        session = self.app.session
+        try:
+            self.post_message(self.Ready(sheet_markdown(session.plan, session.catalog, volume, stocks)))
+        except MediaplanError as exc:
+            self.post_message(self.Ready(None, str(exc)))
+
+    @on(Ready)
+    def _ready(self, event: Ready) -> None:
+        msg = self.query_one(FieldMessage)
+        if event.error:
+            msg.update("✗ " + event.error)
+            msg.add_class("-error")
+            return
+        msg.remove_class("-error")
+        msg.update("s switches stock solutions · w writes the sheet beside the plan")
+        self.markdown = event.markdown
+        self.query_one(Markdown).update(event.markdown or "")
+
+    @on(Worker.StateChanged)
+    def _failed(self, event: Worker.StateChanged) -> None:
+        if event.state == WorkerState.ERROR:
+            self.query_one(FieldMessage).update(f"✗ the sheet could not be built: {event.worker.error}")
+
+    @on(Input.Submitted, "#prep-volume")
+    @on(Switch.Changed)
+    def _changed(self) -> None:
+        self.rebuild()
+
+    def action_toggle_stocks(self) -> None:
+        self.query_one(Switch).toggle()
+
+    def action_write(self) -> None:
+        from mediaplan.planfile import atomic_write
+
+        if not self.markdown:
+            return
+        plan = self.app.session.plan
+        folder = plan.path.parent if plan.path else Path.cwd()
+        stem = plan.path.stem if plan.path else "plan"
+        target = folder / f"{stem}-prep.md"
+        try:
+            atomic_write(target, self.markdown.encode("utf-8"))
+        except OSError as exc:
+            self.notify(f"not written: {exc}", severity="error", markup=False)
+            return
+        self.notify(f"written {target}", markup=False)
+
+    def action_close(self) -> None:
+        self.dismiss()
