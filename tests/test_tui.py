@@ -295,3 +295,32 @@ async def test_prep_sheet_is_built_in_a_worker(catalog):
         assert "**batch:** 2 L" in ready[-1].markdown and "**batch:** 2 L" in app.screen.markdown
         await pilot.press("escape")
         assert isinstance(app.screen, MainScreen)
+
+
+@run_async
+async def test_solve_a_target_and_apply(catalog):
+    from mediaplan.solve import solve_target
+    from mediaplan.tui.screens.target import TargetScreen
+
+    start = Recipe(base="ms1962", strength=0.5).with_amount("sucrose", "20 g/L")
+    seen = []
+    app = app_for(Session(Plan(recipe=start), catalog))
+    async with app.run_test(size=SIZE, message_hook=seen.append) as pilot:
+        await pilot.press("t")
+        assert isinstance(app.screen, TargetScreen)
+        app.screen.query_one("#target-value").value = "-0.9 MPa"
+        app.screen.query_one("#target-osmotica").value = "mannitol"
+        await pilot.pause()
+        await pilot.click("#target-solve")
+        await app.workers.wait_for_complete()
+        await pilot.pause()
+        solved = [m for m in seen if isinstance(m, TargetScreen.Solved)]
+        assert solved and solved[-1].error is None
+        await pilot.click("#target-apply")
+        await pilot.pause()
+        assert isinstance(app.screen, MainScreen)
+        ref = solve_target(start, catalog, "-0.9 MPa", ["mannitol"])
+        assert app.session.recipe.amount_of("mannitol").text == ref.recipe.amount_of("mannitol").text
+        assert app.session.plan.target["value"] == "-0.9 MPa"
+        # the panel shows the solved medium, which sits on the target
+        assert panel(app).evaluation.osmotic_potential_mpa == pytest.approx(-0.9, abs=0.002)

@@ -36,6 +36,8 @@ ACTIONS: tuple[UserAction, ...] = (
                "Start from a published formulation at full, half or any strength"),
     UserAction("conditions", "c", "conditions", "Conditions", "Set title, volume, temperature, cell reference",
                "Batch volume, temperature and the cells' sap osmolality for tonicity"),
+    UserAction("target", "t", "set_target", "Target", "Reach a target with an osmoticum",
+               "Solve for the osmoticum addition that reaches a water potential, osmolality or tonicity"),
     UserAction("prep", "m", "prep_sheet", "Prep", "Preparation sheet for a batch",
                "What to weigh for a batch volume, with or without stock solutions"),
     UserAction("undo", "u,ctrl+z", "undo", "Undo", "Undo the last change", "Undo the last change", key_display="u"),

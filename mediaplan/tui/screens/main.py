@@ -244,6 +244,18 @@ class MainScreen(Screen):
         recipe = plan.recipe.with_settings(volume=c.volume, temperature=c.temperature)
         self.session.change(replace(plan, title=c.title, recipe=recipe, cells=cells or None))
 
+    def action_set_target(self) -> None:
+        from dataclasses import replace
+
+        from mediaplan.tui.screens.target import TargetScreen
+
+        def done(applied) -> None:
+            if applied is not None:
+                self._apply(lambda: self.session.change(replace(self.session.plan, recipe=applied.recipe,
+                                                                target=applied.target)))
+
+        self.app.push_screen(TargetScreen(self.session), done)
+
     def action_prep_sheet(self) -> None:
         from mediaplan.tui.screens.prep import PrepScreen
 
