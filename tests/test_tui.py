@@ -324,3 +324,32 @@ async def test_solve_a_target_and_apply(catalog):
         assert app.session.plan.target["value"] == "-0.9 MPa"
         # the panel shows the solved medium, which sits on the target
         assert panel(app).evaluation.osmotic_potential_mpa == pytest.approx(-0.9, abs=0.002)
+
+
+@run_async
+async def test_projection_figures_follow_the_fractions(catalog):
+    from mediaplan.projection import project, settings_from
+    from mediaplan.tui.screens.projection import ProjectionScreen
+
+    recipe = Recipe(base="ms1962").with_amount("sucrose", "30 g/L")
+    app = app_for(Session(Plan(recipe=recipe), catalog))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("w")
+        assert isinstance(app.screen, ProjectionScreen)
+        app.screen.query_one("#proj-autoclave_hydrolysis").value = "15 %"
+        app.screen.query_one("#proj-water_loss_per_week").value = "2 %"
+        app.screen.query_one("#proj-weeks").value = "6"
+        await pilot.pause()
+        shown = screen_text(app)
+        ref = project(recipe, catalog, settings_from({"autoclave_hydrolysis": "15 %", "water_loss_per_week": "2 %",
+                                                      "weeks": "6"}))
+        for st in ref.stages:
+            assert f"{st.evaluation.osmolality_mosmol_per_kg:.1f}" in shown
+        app.screen.query_one("#proj-weeks").value = "two hundred"
+        await pilot.pause()
+        assert app.screen.query_one("#proj-message").has_class("-error")
+        app.screen.query_one("#proj-weeks").value = "6"
+        await pilot.pause()
+        await pilot.click("#proj-keep")
+        await pilot.pause()
+        assert app.session.plan.projection["weeks"] == 6

@@ -141,7 +141,7 @@ class MainScreen(Screen):
 
     # ---- actions ------------------------------------------------------------------------
     def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
-        if action == "prep_sheet":
+        if action in ("prep_sheet", "projection"):
             ev = self.query_one(RelationsPanel).evaluation
             return True if ev and ev.components else None
         if action in ("edit_amount", "remove_component"):
@@ -256,6 +256,17 @@ class MainScreen(Screen):
 
         self.app.push_screen(TargetScreen(self.session), done)
 
+    def action_projection(self) -> None:
+        from dataclasses import replace
+
+        from mediaplan.tui.screens.projection import ProjectionScreen
+
+        def done(table) -> None:
+            if table is not None:
+                self._apply(lambda: self.session.change(replace(self.session.plan, projection=table)))
+
+        self.app.push_screen(ProjectionScreen(self.session), done)
+
     def action_prep_sheet(self) -> None:
         from mediaplan.tui.screens.prep import PrepScreen
 
@@ -273,7 +284,7 @@ class MainScreen(Screen):
 
 
 #: actions whose availability depends on the state of the plan
-_STATEFUL = ("edit_amount", "remove_component", "undo", "redo", "prep_sheet")
+_STATEFUL = ("edit_amount", "remove_component", "undo", "redo", "prep_sheet", "projection")
 
 
 class _NoEv:
