@@ -324,7 +324,7 @@ class Catalog:
                 if cid not in ids:
                     ids.append(cid)
         if ids:
-            return "did you mean " + ", ".join(ids[:4]) + "? (mediaplan catalog search TEXT)"
+            return "did you mean " + ", ".join(ids[:4]) + "? Or search: mediaplan catalog search TEXT"
         return "search with: mediaplan catalog search TEXT"
 
     def medium(self, mid: str, *, field: str | None = None) -> Medium:

@@ -28,6 +28,7 @@ Saving is atomic (temp file in the same folder, flush, fsync, ``os.replace``), k
 
 from __future__ import annotations
 
+import contextlib
 import hashlib
 import os
 import re
@@ -38,6 +39,11 @@ from pathlib import Path
 from typing import Any
 
 import tomli_w
+
+try:  # advisory locks where the platform has them
+    import fcntl
+except ImportError:  # pragma: no cover - Windows
+    fcntl = None
 
 from mediaplan.catalog import Catalog
 from mediaplan.errors import AmountError, ConflictError, MediaplanError, PlanFileError
@@ -252,6 +258,7 @@ def atomic_write(path: Path, data: bytes, *, backup: bool = True) -> None:
     folder = path.parent if str(path.parent) else Path(".")
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=folder)
     try:
+        _set_mode(fd, path)
         with os.fdopen(fd, "wb") as fh:
             fh.write(data)
             fh.flush()
@@ -272,14 +279,36 @@ def atomic_write(path: Path, data: bytes, *, backup: bool = True) -> None:
         raise
 
 
+def _set_mode(fd: int, path: Path) -> None:
+    """Give the new file the old file's permissions, or the usual ones (mkstemp makes it 0600)."""
+    try:
+        mode = path.stat().st_mode & 0o777
+    except OSError:
+        umask = os.umask(0)
+        os.umask(umask)
+        mode = 0o666 & ~umask
+    try:
+        os.fchmod(fd, mode)
+    except (OSError, AttributeError):  # pragma: no cover - platforms without fchmod
+        pass
+
+
 def _copy_backup(src: Path, dst: Path) -> None:
     data = src.read_bytes()
     fd, tmp = tempfile.mkstemp(prefix=f".{dst.name}.", suffix=".tmp", dir=dst.parent)
-    with os.fdopen(fd, "wb") as fh:
-        fh.write(data)
-        fh.flush()
-        os.fsync(fh.fileno())
-    os.replace(tmp, dst)
+    try:
+        _set_mode(fd, src)
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(data)
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.replace(tmp, dst)
+    except BaseException:
+        try:
+            os.unlink(tmp)
+        except OSError:
+            pass
+        raise
 
 
 def _fsync_dir(folder: Path) -> None:
@@ -303,25 +332,48 @@ def write(plan: Plan, path: str | Path | None = None, *, force: bool = False) ->
     if target is None:
         raise PlanFileError("no file name to save to", hint="use save as")
     data = dumps(plan).encode("utf-8")
-    if target.exists() and not force:
-        current = _digest(target.read_bytes())
-        same_file = plan.path is not None and _same(plan.path, target)
-        if not same_file:
-            raise ConflictError("a different file already exists there", file=str(target),
-                                hint="choose another name, or overwrite on purpose (--force)")
-        if plan.disk_digest is not None and current != plan.disk_digest:
-            raise ConflictError("the file changed on disk since it was opened", file=str(target),
-                                hint="save beside it under another name, then compare (mediaplan diff)")
-    try:
-        atomic_write(target, data)
-    except PermissionError:
-        raise PlanFileError("no permission to write there", file=str(target), hint="save in another folder") from None
-    except OSError as exc:
-        raise PlanFileError(f"could not save ({exc.strerror or exc})", file=str(target),
-                            hint="the previous file is unchanged; free space or save elsewhere") from None
+    with _locked(target):
+        if target.exists() and not force:
+            current = _digest(target.read_bytes())
+            same_file = plan.path is not None and _same(plan.path, target)
+            if not same_file:
+                raise ConflictError("a different file already exists there", file=str(target),
+                                    hint="choose another name, or overwrite on purpose (--force)")
+            if plan.disk_digest is not None and current != plan.disk_digest:
+                raise ConflictError("the file changed on disk since it was opened", file=str(target),
+                                    hint="save beside it under another name, then compare (mediaplan diff)")
+        try:
+            atomic_write(target, data)
+        except PermissionError:
+            raise PlanFileError("no permission to write there", file=str(target),
+                                hint="save in another folder") from None
+        except OSError as exc:
+            raise PlanFileError(f"could not save ({exc.strerror or exc})", file=str(target),
+                                hint="the previous file is unchanged; free space or save elsewhere") from None
     plan.path = target
     plan.disk_digest = _digest(data)
     return target
+
+
+@contextlib.contextmanager
+def _locked(target: Path):
+    """Hold an exclusive advisory lock on the existing file while checking and replacing it, so that of
+    two processes saving the same plan the second sees the first one's change and is refused."""
+    fd = None
+    try:
+        if fcntl is not None and target.exists():
+            try:
+                fd = os.open(target, os.O_RDONLY)
+                fcntl.flock(fd, fcntl.LOCK_EX)
+            except OSError:
+                fd = None
+        yield
+    finally:
+        if fd is not None:
+            try:
+                fcntl.flock(fd, fcntl.LOCK_UN)
+            finally:
+                os.close(fd)
 
 
 def _same(a: Path, b: Path) -> bool:

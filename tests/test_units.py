@@ -91,7 +91,7 @@ def test_volume_temperature_target():
             parse_target(bad)
 
 
-@settings(max_examples=400, deadline=None)
+@settings(max_examples=1000, deadline=None)
 @given(st.text(max_size=30))
 def test_amount_parser_never_crashes(text):
     """Any text ends in an Amount with a finite, non-negative value or in a MediaplanError."""
