@@ -353,3 +353,46 @@ async def test_projection_figures_follow_the_fractions(catalog):
         await pilot.click("#proj-keep")
         await pilot.pause()
         assert app.session.plan.projection["weeks"] == 6
+
+
+@run_async
+async def test_plasmolysis_series_design_counts_fit_keep(catalog):
+    from mediaplan.plasmolysis import counts_from_series, fit_counts
+    from mediaplan.tui.screens.plasmolysis import CountsScreen, SeriesScreen
+
+    seen = []
+    app = app_for(Session(Plan(recipe=Recipe(base="ms1962", strength=0.5).with_amount("sucrose", "20 g/L")), catalog))
+    async with app.run_test(size=SIZE, message_hook=seen.append) as pilot:
+        await pilot.press("p")
+        screen = app.screen
+        assert isinstance(screen, SeriesScreen)
+        screen.query_one("#series-steps").value = "5"
+        screen.action_design()
+        await app.workers.wait_for_complete()
+        await pilot.pause()
+        assert len(screen.series["levels"]) == 5
+        # invented counts (a demo scenario), entered through the counts dialog for the first level
+        screen.query_one("#series-levels").focus()
+        await pilot.press("enter")
+        assert isinstance(app.screen, CountsScreen)
+        await pilot.press("ctrl+u", *"1/50,0/40", "enter")
+        await pilot.pause()
+        for lv, counts in zip(screen.series["levels"][1:], ([(6, 50)], [(24, 50)], [(44, 50)], [(50, 50)]),
+                              strict=True):
+            lv["plasmolysed"], lv["total"] = [k for k, _ in counts], [n for _, n in counts]
+        assert screen.series["levels"][0]["plasmolysed"] == [1, 0]
+        screen.action_fit()
+        await app.workers.wait_for_complete()
+        await pilot.pause()
+        fitted = [m for m in seen if isinstance(m, SeriesScreen.Fitted)]
+        assert fitted and fitted[-1].error is None
+        ref = fit_counts(counts_from_series(screen.series, temperature_k=298.15), "logit")
+        assert fitted[-1].fit.water_potential_50_mpa == pytest.approx(ref.water_potential_50_mpa, rel=1e-9)
+        await pilot.press("k", "escape")
+        await pilot.pause()
+        assert isinstance(app.screen, MainScreen)
+        assert app.session.plan.series["levels"][0]["plasmolysed"] == [1, 0]
+        # the fitted cell sap becomes the tonicity reference of the main panel
+        assert panel(app).evaluation.tonicity is not None
+        assert panel(app).evaluation.tonicity["reference_mosmol_per_kg"] == pytest.approx(
+            ref.osmolality_50_mosmol_per_kg, rel=1e-3)

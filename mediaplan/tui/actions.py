@@ -38,6 +38,8 @@ ACTIONS: tuple[UserAction, ...] = (
                "Batch volume, temperature and the cells' sap osmolality for tonicity"),
     UserAction("target", "t", "set_target", "Target", "Reach a target with an osmoticum",
                "Solve for the osmoticum addition that reaches a water potential, osmolality or tonicity"),
+    UserAction("series", "p", "plasmolysis", "Plasmolysis", "Plasmolysis series: design, counts, fit",
+               "Design a series evenly spaced in water potential, enter counts, fit the 50 % point"),
     UserAction("projection", "w", "projection", "Weeks", "Project autoclaving and weeks of culture",
                "The medium as made, after autoclaving and after weeks of culture"),
     UserAction("prep", "m", "prep_sheet", "Prep", "Preparation sheet for a batch",

@@ -267,6 +267,11 @@ class MainScreen(Screen):
 
         self.app.push_screen(ProjectionScreen(self.session), done)
 
+    def action_plasmolysis(self) -> None:
+        from mediaplan.tui.screens.plasmolysis import SeriesScreen
+
+        self.app.push_screen(SeriesScreen(self.session), lambda _: self.refresh_all())
+
     def action_prep_sheet(self) -> None:
         from mediaplan.tui.screens.prep import PrepScreen
 

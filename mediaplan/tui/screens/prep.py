@@ -19,7 +19,7 @@ from textual.widgets import Footer, Input, Label, Markdown, Static, Switch
 from textual.worker import Worker, WorkerState
 
 from mediaplan.errors import MediaplanError
-from mediaplan.tui.widgets.fields import FieldMessage, VolumeValidator, validated_value
+from mediaplan.tui.widgets.fields import FieldMessage, VolumeValidator, report, validated_value
 
 
 def sheet_markdown(plan, catalog, volume: str, stocks: bool) -> str:
@@ -81,13 +81,9 @@ class PrepScreen(Screen):
 
     @on(Ready)
     def _ready(self, event: Ready) -> None:
-        msg = self.query_one(FieldMessage)
-        if event.error:
-            msg.update("✗ " + event.error)
-            msg.add_class("-error")
+        if not report(self.query_one(FieldMessage), event.error,
+                      "s switches stock solutions · w writes the sheet beside the plan"):
             return
-        msg.remove_class("-error")
-        msg.update("s switches stock solutions · w writes the sheet beside the plan")
         self.markdown = event.markdown
         self.query_one(Markdown).update(event.markdown or "")
 

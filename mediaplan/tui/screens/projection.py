@@ -15,7 +15,7 @@ from textual.screen import ModalScreen
 from textual.widgets import Button, Input, Label, Static
 
 from mediaplan.errors import MediaplanError
-from mediaplan.tui.widgets.fields import FieldMessage
+from mediaplan.tui.widgets.fields import FieldMessage, report
 
 #: the inputs: key in ProjectionSettings, label, placeholder
 FIELDS = (("autoclave_hydrolysis", "sucrose hydrolysed", "10 %"),
@@ -77,13 +77,11 @@ class ProjectionScreen(ModalScreen[dict | None]):
                            cell_reference_mosmol=self.session.cell_reference_mosmol())
         except MediaplanError as exc:
             self.table = None
-            msg.update("✗ " + str(exc))
-            msg.add_class("-error")
+            report(msg, str(exc), "")
             self.query_one("#proj-keep", Button).disabled = True
             return
         self.table = settings.to_table()
-        msg.remove_class("-error")
-        msg.update(" · ".join(proj.notes) or "fractions as 10 % or 0.1; empty hydrolysis = 10 %")
+        report(msg, None, " · ".join(proj.notes) or "fractions as 10 % or 0.1; empty hydrolysis = 10 %")
         self.query_one("#proj-keep", Button).disabled = False
         self.query_one("#proj-stages", Static).update(stages_table(proj))
 

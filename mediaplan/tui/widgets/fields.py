@@ -118,6 +118,13 @@ class FieldMessage(Static):
         return False
 
 
+def report(message: FieldMessage, error: str | None, ok_text: str) -> bool:
+    """Show a worker's error in words (returns False), or ``ok_text`` (returns True)."""
+    message.set_class(error is not None, "-error")
+    message.update("✗ " + error if error is not None else ok_text)
+    return error is None
+
+
 def validated_value(inp: Input, message: FieldMessage) -> str | None:
     """The input's value if it validates (showing the reason inline if not)."""
     result = inp.validate(inp.value)
