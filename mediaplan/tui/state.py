@@ -190,7 +190,7 @@ class Recovery:
     def summary(self) -> str:
         where = self.original.name if self.original else "new plan"
         n = len(self.plan.recipe.amounts)
-        return f"{self.plan.title} ({where}, {n} edited lines, autosaved {self.saved.replace('T', ' ')})"
+        return f"{self.plan.title} ({where}, {n} components set in the plan, autosaved {self.saved.replace('T', ' ')})"
 
 
 def find_recoveries(catalog: Catalog, for_path: str | Path | None = None) -> list[Recovery]:

@@ -16,16 +16,22 @@ from mediaplan.tui.widgets.recipe_table import share_bar
 _TONICITY_WORD = {"hypotonic": "hypotonic ▼", "isotonic": "isotonic ●", "hypertonic": "hypertonic ▲"}
 
 
+def num(x: float, digits: int) -> str:
+    """Fixed decimals without a negative zero (pure water shows 0.000, not -0.000)."""
+    return f"{round(x, digits) + 0.0:.{digits}f}"
+
+
 def figures(ev: Evaluation) -> dict[str, str]:
     """The panel's figures as text (keys are stable: tests and the palette refer to them)."""
     out = {
-        "osmolality": f"{ev.osmolality_mosmol_per_kg:.1f}",
-        "osmolality_ideal": f"{ev.osmolality_ideal_mosmol_per_kg:.1f}",
-        "water_activity": f"{ev.water_activity:.5f}",
-        "potential_mpa": f"{ev.osmotic_potential_mpa:.3f}",
-        "potential_bar": f"{ev.osmotic_potential_bar:.2f}",
-        "vant_hoff_mpa": f"{ev.vant_hoff_potential_mpa:.3f}",
-        "freezing_point": f"{-ev.freezing_point_depression_k:.3f}",
+        "osmolality": num(ev.osmolality_mosmol_per_kg, 1),
+        "osmolality_ideal": num(ev.osmolality_ideal_mosmol_per_kg, 1),
+        "water_activity": num(ev.water_activity, 5),
+        "potential_mpa": num(ev.osmotic_potential_mpa, 3),
+        "potential_bar": num(ev.osmotic_potential_bar, 2),
+        "vant_hoff_mpa": num(ev.vant_hoff_potential_mpa, 3),
+        "vant_hoff_bar": num(ev.vant_hoff_potential_mpa * 10, 2),
+        "freezing_point": num(-ev.freezing_point_depression_k, 3),
     }
     if ev.tonicity:
         out["tonicity"] = ev.tonicity["class"]
@@ -65,7 +71,7 @@ class RelationsPanel(Static):
         pair.add_row("", Text("non-ideal", style="dim"), Text("van't Hoff", style="dim"))
         pair.add_row("mOsm/kg", Text(f["osmolality"], style="bold"), f["osmolality_ideal"])
         pair.add_row("ψs MPa", Text(f["potential_mpa"], style="bold"), f["vant_hoff_mpa"])
-        pair.add_row("ψs bar", f["potential_bar"], f"{float(f['vant_hoff_mpa']) * 10:.2f}")
+        pair.add_row("ψs bar", f["potential_bar"], f["vant_hoff_bar"])
         single = Table.grid(padding=(0, 0), expand=True)
         single.add_column(ratio=1, no_wrap=True)
         single.add_column(justify="right", width=11)
