@@ -217,6 +217,15 @@ def evaluate(recipe: Recipe, catalog: Catalog | None = None, *, cell_reference_m
     return ev
 
 
+def _pairs_present(model, species_m) -> list[tuple[str, str]]:
+    """Cation-anion pairs with parameters whose ions are both present."""
+    present = [model.species[k] for k in model.ion_idx if species_m[k] > 0]
+    cats = [i for i in present if parse_species(i).charge > 0]
+    ans = [i for i in present if parse_species(i).charge < 0]
+    binary = model.catalog.pitzer.binary if model.catalog.pitzer else {}
+    return [(c, a) for c in cats for a in ans if (c, a) in binary]
+
+
 def classify_tonicity(effective_mosmol: float, reference_mosmol: float, tolerance: float) -> dict:
     """Hypotonic / isotonic / hypertonic toward cells of the given sap osmolality.
 
@@ -311,8 +320,11 @@ def _warnings(recipe: Recipe, catalog: Catalog, lines: list[Line], model, st, ev
         for c, a in over:
             out.append(Warning_("validity", f"{c}–{a}: ionic strength beyond the Pitzer parameters' data range"))
         if abs(T - 298.15) > 10.5:
-            out.append(Warning_("temperature", "Pitzer binary parameters are 25 °C values; at "
-                                f"{T - T0:.0f} °C only the Debye–Hückel slope follows temperature"))
+            fixed = [f"{c}–{a}" for c, a in _pairs_present(model, species_m)
+                     if not catalog.pitzer.binary[(c, a)].temperature_terms]
+            if fixed:
+                out.append(Warning_("temperature", "Pitzer parameters of " + ", ".join(fixed[:5]) +
+                                    (" …" if len(fixed) > 5 else "") + f" are 25 °C values, used at {T - T0:.0f} °C"))
         # precipitation screen
         I = ev.ionic_strength_mol_per_kg
         def m_of(sp):

@@ -95,18 +95,17 @@ def test_osmometer_reading_against_crc_freezing_points(solute, cid, m_max, catal
 @pytest.mark.parametrize("solute, cid", [("Sodium chloride", "sodium_chloride"), ("Potassium chloride", "potassium_chloride"),
                                          ("Calcium chloride", "calcium_chloride_anhydrous")])
 def test_salt_freezing_points_against_crc(solute, cid, catalog):
-    """Salt freezing points through the whole engine vs CRC (102nd ed., 2021). Our Pitzer parameters are
-    25 °C values and only A_phi follows temperature, so at the freezing point phi is a little high
-    (NaCl at 1 mol/kg: 0.935 at 25 °C vs 0.917 at 0 °C, Pitzer, Peiper & Busey 1984; about 2 % at
-    0.5 mol/kg and growing with m): tolerance 3.5 % plus the 0.005 K rounding, up to 0.7 mol/kg
-    (media hold well under 0.1 mol/kg of salts)."""
-    rows = [r for r in _crc_rows(solute) if 0.04 <= float(r["Molality_m"]) <= 0.7]
+    """Salt freezing points through the whole engine vs CRC (102nd ed., 2021), up to 1.5 mol/kg: the
+    medium is evaluated again at 0 °C with the Pitzer temperature terms. Tolerance 3 % plus the
+    0.005 K rounding of the table (measured: worst 2.5 %, CaCl2 near 0.4-0.6 mol/kg; the freezing-point
+    relation used is itself approximate at several kelvin)."""
+    rows = [r for r in _crc_rows(solute) if 0.04 <= float(r["Molality_m"]) <= 1.5]
     assert len(rows) >= 3
     for r in rows:
         m = float(r["Molality_m"])
         ev = evaluate(Recipe().with_amount(cid, f"{m} mol/kg"), catalog)
         fpd = float(r["FPD_C"])
-        assert ev.freezing_point_depression_k == pytest.approx(fpd, abs=0.005 + 0.035 * fpd), (m, fpd)
+        assert ev.freezing_point_depression_k == pytest.approx(fpd, abs=0.005 + 0.03 * fpd), (m, fpd)
 
 
 @pytest.mark.parametrize("solute, cid, c, m, tol", [

@@ -512,20 +512,27 @@ def test_temperature_per_row(params):
     T = np.array([273.15, 298.15, 313.15])
     per_row = system.osmotic_coefficient(m, T)
     assert np.allclose(per_row, [system.osmotic_coefficient(m[0], t) for t in T], rtol=1e-13, atol=0)
-    # only A_phi follows T: a larger A_phi at higher T lowers phi
-    assert per_row[0] > per_row[1] > per_row[2]
+    assert len(set(np.round(per_row, 12))) == 3  # the three temperatures give three values
 
 
-# Pitzer, Peiper & Busey 1984 NaCl table at 0 °C and 40 °C (thermo_sources.yaml, NaCl_osmotic_PPB84).
-# Only A_phi follows T here; the binary parameters stay at their 25 °C values.
-@pytest.mark.parametrize(("T", "phi_ref"), [(273.15, 0.932), (313.15, 0.932)], ids=["PPB84-NaCl-0.1m-0C",
-                                                                                      "PPB84-NaCl-0.1m-40C"])
-def test_nacl_dilute_off_25c_vs_ppb84(params, T, phi_ref):
-    # measured +0.0037 at 0 °C, -0.0022 at 40 °C: the 25 °C-parameter approximation holds to 0.005 at 0.1 m
-    assert _salt_phi(params, "Na[+]", "Cl[-]", 1, 1, 0.1, T) == pytest.approx(phi_ref, abs=0.005)
+# Pitzer, Peiper & Busey 1984, J Phys Chem Ref Data 13:1, NaCl osmotic coefficients at 1 bar
+# (as copied in the project's thermo_sources.yaml, NaCl_osmotic_PPB84; 3 decimals).
+PPB84_NACL_T = {
+    0: [0.932, 0.912, 0.917, 0.951], 10: [0.933, 0.917, 0.927, 0.968], 20: [0.933, 0.921, 0.934, 0.979],
+    30: [0.932, 0.923, 0.938, 0.987], 40: [0.932, 0.924, 0.941, 0.992],
+}
+PPB84_CASES = [(t, m, phi) for t, row in PPB84_NACL_T.items() for m, phi in zip((0.1, 0.5, 1.0, 2.0), row)]
 
 
-@pytest.mark.xfail(reason="binary parameters have no temperature terms: at 0 °C and 1 mol/kg phi is 0.944 "
-                          "against 0.917 (PPB84); A_phi alone moves phi the wrong way")
-def test_nacl_concentrated_0c_vs_ppb84(params):
-    assert _salt_phi(params, "Na[+]", "Cl[-]", 1, 1, 1.0, 273.15) == pytest.approx(0.917, abs=0.005)
+@pytest.mark.parametrize(("t", "m", "phi_ref"), PPB84_CASES, ids=[f"PPB84-NaCl-{t}C-{m}m" for t, m, _ in PPB84_CASES])
+def test_nacl_off_25c_vs_ppb84(params, t, m, phi_ref):
+    """Temperature terms (PHREEQC pitzer.dat) on the May 2011 25 °C values: measured within 0.003 at
+    0-40 °C up to 2 mol/kg; tolerance 0.004 (the 25 °C rows themselves sit 0.0025 high, and the table
+    has 3 decimals)."""
+    assert _salt_phi(params, "Na[+]", "Cl[-]", 1, 1, m, 273.15 + t) == pytest.approx(phi_ref, abs=0.004)
+
+
+def test_temperature_terms_vanish_at_25c(params):
+    from mediaplan.thermo.pitzer import temperature_basis
+
+    assert np.allclose(temperature_basis(298.15), 0.0, atol=1e-12)

@@ -23,6 +23,11 @@ class BinaryPitzer:
     alpha2: float
     max_m: float
     source: str
+    #: temperature terms: ((parameter, (A1, A2, A3, A4, A5)), ...) with
+    #: P(T) - P(Tr) = A1 (1/T - 1/Tr) + A2 ln(T/Tr) + A3 (T - Tr) + A4 (T^2 - Tr^2) + A5 (1/T^2 - 1/Tr^2),
+    #: Tr = 298.15 K; parameter one of beta0, beta1, beta2, cphi
+    temperature_terms: tuple = ()
+    temperature_source: str = ""
 
 
 @dataclass(frozen=True)

@@ -150,6 +150,17 @@ def _x_dj(x: np.ndarray) -> np.ndarray:
 # ---------------------------------------------------------------------------------------------------------
 # Parameters from the catalog mapping
 # ---------------------------------------------------------------------------------------------------------
+T_REF = 298.15
+
+
+def temperature_basis(T: float) -> np.ndarray:
+    """The five functions of T [K] multiplying A1..A5 of a parameter's temperature terms:
+    (1/T - 1/Tr, ln(T/Tr), T - Tr, T^2 - Tr^2, 1/T^2 - 1/Tr^2), Tr = 298.15 K (the analytical form of
+    PHREEQC's Pitzer database; Parkhurst & Appelo 2013, USGS Techniques and Methods 6-A43)."""
+    Tr = T_REF
+    return np.array([1.0 / T - 1.0 / Tr, math.log(T / Tr), T - Tr, T * T - Tr * Tr, 1.0 / T**2 - 1.0 / Tr**2])
+
+
 def default_alphas(z_cation: int, z_anion: int) -> tuple[float, float]:
     """alpha1, alpha2 [kg^1/2 mol^-1/2] by charge type.
 
@@ -237,11 +248,25 @@ def pitzer_params_from_dict(data: Mapping[str, Any]) -> PitzerParams:
         alpha1, alpha2 = _num(e, "alpha1", where, a1), _num(e, "alpha2", where, a2)
         if alpha1 <= 0 or alpha2 <= 0:
             raise ValueError(f"{where}: alpha1 and alpha2 must be positive")
+        tterms = []
+        traw = e.get("temperature")
+        if traw is not None:
+            if not isinstance(traw, Mapping):
+                raise ValueError(f"{where}: 'temperature' must map beta0/beta1/beta2/cphi to 5 coefficients")
+            for pname, coeffs in traw.items():
+                if pname not in ("beta0", "beta1", "beta2", "cphi"):
+                    raise ValueError(f"{where}: temperature terms for unknown parameter {pname!r}")
+                if (not isinstance(coeffs, (list, tuple)) or len(coeffs) != 5
+                        or not all(isinstance(c, (int, float)) and not isinstance(c, bool) and math.isfinite(c)
+                                   for c in coeffs)):
+                    raise ValueError(f"{where}: temperature.{pname} must list 5 numbers (A1..A5)")
+                tterms.append((pname, tuple(float(c) for c in coeffs)))
         binary[key] = BinaryPitzer(
             cation=key[0], anion=key[1],
             beta0=_num(e, "beta0", where), beta1=_num(e, "beta1", where),
             beta2=_num(e, "beta2", where, 0.0), cphi=_num(e, "cphi", where, 0.0),
             alpha1=alpha1, alpha2=alpha2, max_m=max_m, source=str(e.get("source", "")),
+            temperature_terms=tuple(tterms), temperature_source=str(e.get("temperature_source", "")),
         )
 
     theta: dict[tuple[str, str], float] = {}
@@ -316,12 +341,13 @@ class PitzerSystem:
     Notes
     -----
     * Binary and mixing parameters are 25 °C values (May et al. 2011; Harvie, Møller & Weare 1984;
-      Pitzer & Mayorga 1973; Pitzer & Kim 1974). Only A_phi follows temperature (Møller 1988 eq. 13);
-      the temperature terms that PHREEQC's pitzer.dat gives for some HMW84 rows are not used. Away from
-      25 °C the result is therefore an approximation whose error grows with ionic strength: for NaCl
-      against Pitzer, Peiper & Busey (1984) it is +0.004 at 0.1 mol/kg and 0 °C, but +0.027 at 1 mol/kg
-      and 0 °C (A_phi alone moves phi the wrong way there). Dilute culture media (I < 0.1 mol/kg) stay
-      within about 0.5 %.
+      Pitzer & Mayorga 1973; Pitzer & Kim 1974). A_phi follows temperature (Møller 1988 eq. 13), and so
+      do the binary parameters of the pairs that carry temperature terms (``BinaryPitzer.
+      temperature_terms``: the analytical form of PHREEQC's pitzer.dat, see :func:`temperature_basis`,
+      for the Na-K-Ca-Mg-Cl-SO4 pairs). For NaCl against Pitzer, Peiper & Busey (1984) this holds within
+      0.003 at 0-40 °C up to 2 mol/kg (without the terms: +0.027 at 1 mol/kg and 0 °C). Pairs without
+      terms (nitrates, ammonium, phosphates) keep their 25 °C values; in dilute culture media
+      (I < 0.1 mol/kg) that costs under about 0.5 %.
     * Like-charged ions of unlike charge (e.g. K+/Ca2+, Cl-/SO4 2-) get the unsymmetric-mixing terms
       E-theta of Pitzer (1975), with J(x) from Pitzer's eq. 47 empirical form (:func:`j_function`).
       In the osmotic coefficient only Phi^phi = theta + E-theta + I E-theta' enters, and
@@ -365,6 +391,10 @@ class PitzerSystem:
         beta0 = np.zeros((n, n))
         cmat = np.zeros((n, n))
         exp_terms: dict[float, np.ndarray] = {}
+        # temperature terms: per parameter matrix, the 5 coefficient matrices (see BinaryPitzer)
+        d_beta0 = np.zeros((5, n, n))
+        d_cmat = np.zeros((5, n, n))
+        d_exp: dict[float, np.ndarray] = {}
         missing = []
         self._pairs: list[tuple[int, int, float]] = []      # (i_cation, i_anion, I at max_m)
         for i in cat:
@@ -375,9 +405,16 @@ class PitzerSystem:
                     continue
                 beta0[i, j] = bp.beta0
                 cmat[i, j] = bp.cphi / (2.0 * math.sqrt(abs(z[i] * z[j])))
-                for beta, alpha in ((bp.beta1, bp.alpha1), (bp.beta2, bp.alpha2)):
-                    if beta != 0.0:
+                tt = dict(bp.temperature_terms)
+                for beta, alpha, pname in ((bp.beta1, bp.alpha1, "beta1"), (bp.beta2, bp.alpha2, "beta2")):
+                    if beta != 0.0 or pname in tt:
                         exp_terms.setdefault(float(alpha), np.zeros((n, n)))[i, j] += beta
+                    if pname in tt:
+                        d_exp.setdefault(float(alpha), np.zeros((5, n, n)))[:, i, j] += tt[pname]
+                if "beta0" in tt:
+                    d_beta0[:, i, j] += tt["beta0"]
+                if "cphi" in tt:
+                    d_cmat[:, i, j] += np.asarray(tt["cphi"]) / (2.0 * math.sqrt(abs(z[i] * z[j])))
                 g = math.gcd(z[i], -z[j])
                 nu_c, nu_a = -z[j] // g, z[i] // g
                 self._pairs.append((i, j, 0.5 * bp.max_m * (nu_c * z[i] ** 2 + nu_a * z[j] ** 2)))
@@ -395,6 +432,10 @@ class PitzerSystem:
         # m @ Mflat -> (..., K*n); reshape (..., K, n); times m and summed -> (..., K)
         self._K = len(mats)
         self._mflat = np.concatenate(mats, axis=1)          # (n, K*n)
+        dmats = [d_beta0, d_cmat] + [d_exp.get(a, np.zeros((5, n, n))) for a in self._alphas]
+        self._dflat = np.concatenate(dmats, axis=2)         # (5, n, K*n)
+        self._has_dT = bool(np.any(self._dflat))
+        self._mflat_cache: tuple[float, np.ndarray] = (298.15, self._mflat)
 
         # --- psi: sparse index list of triplets ---------------------------------------------------------
         ps_i, ps_j, ps_k, ps_v = [], [], [], []
@@ -452,7 +493,7 @@ class PitzerSystem:
         Parameters
         ----------
         m : array (..., n_ions), free-ion molalities [mol/kg water] in ``self.ions`` order
-        T : float, temperature [K] (A_phi only; binary and mixing parameters are 25 °C values); an array
+        T : float, temperature [K] (A_phi, and binary parameters with temperature terms); an array
             broadcastable to m.shape[:-1] gives one temperature per row
 
         Returns
@@ -465,8 +506,20 @@ class PitzerSystem:
         """
         m = self._check(m)
         scalar_T = np.ndim(T) == 0
+        if not scalar_T and self._has_dT:
+            Tb = np.broadcast_to(np.asarray(T, dtype=float), m.shape[:-1])
+            uniq = np.unique(Tb)
+            if len(uniq) == 1:
+                T, scalar_T = float(uniq[0]), True
+            else:  # parameters differ per temperature: one pass per distinct temperature
+                out = np.empty(m.shape[:-1])
+                for t in uniq:
+                    sel = Tb == t
+                    out[sel] = self.osmotic_coefficient(m[sel], float(t))
+                return out
         if m.ndim == 1 and scalar_T:
             return self._phi_row(m, T)
+        mflat = self._mflat_at(T) if scalar_T else self._mflat
         lead = m.shape[:-1]
         mtot = m.sum(axis=-1)
         v = m @ self._lin                       # (..., 2 + n_groups): I, Z, group totals
@@ -480,7 +533,7 @@ class PitzerSystem:
         A = self._a_phi_scalar(T) if scalar_T else np.asarray(a_phi(T, self._a_coeffs))
 
         # binary and theta terms: q[..., k] = m · M_k · m
-        q = ((m @ self._mflat).reshape(*lead, self._K, self._n) @ m[..., None])[..., 0]
+        q = ((m @ mflat).reshape(*lead, self._K, self._n) @ m[..., None])[..., 0]
         s = q[..., 0] + v[..., 1] * q[..., 1] - A * I * sqI / (1.0 + self.b * sqI)
         if self._nalpha:
             s = s + (np.exp(sqI[..., None] * self._neg_alphas) * q[..., 2:]).sum(axis=-1)
@@ -506,7 +559,7 @@ class PitzerSystem:
         I = float(v[0])
         sqI = math.sqrt(I)
         A = self._a_phi_scalar(T)
-        q = (m @ self._mflat).reshape(self._K, self._n) @ m
+        q = (m @ self._mflat_at(T)).reshape(self._K, self._n) @ m
         s = float(q[0]) + float(v[1]) * float(q[1]) - A * I * sqI / (1.0 + self.b * sqI)
         if self._nalpha:
             s += float(np.exp(self._neg_alphas * sqI) @ q[2:])
@@ -516,6 +569,19 @@ class PitzerSystem:
             G = v[2:]
             s += float((_x_dj((A * sqI) * self._prods6) @ self._ew) @ (G[self._pt_a] * G[self._pt_b])) / I
         return np.float64(1.0 + 2.0 * s / mtot)
+
+    def _mflat_at(self, T: float) -> np.ndarray:
+        """Binary-term matrices at T [K]: 25 °C values plus the temperature terms where given."""
+        if not self._has_dT:
+            return self._mflat
+        T = float(T)
+        last_T, last = self._mflat_cache          # one tuple, replaced atomically: thread-safe
+        if T == last_T:
+            return last
+        f = temperature_basis(T)
+        mflat = self._mflat + np.tensordot(f, self._dflat, axes=1)
+        self._mflat_cache = (T, mflat)
+        return mflat
 
     def _a_phi_scalar(self, T: float) -> float:
         T = float(T)
