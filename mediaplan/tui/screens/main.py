@@ -76,17 +76,24 @@ class MainScreen(Screen):
         t.append(f"· {s.plan.title}")
         if s.dirty:
             t.append("  ● unsaved", style="bold")
-        self.query_one("#topbar", Static).update(t)
+        self.query_one("#topbar", Static).update(t, layout=False)  # one line, fixed size
 
     def _detail(self) -> None:
+        detail = self.query_one("#detail", Static)
+        text = self._detail_text()
+        if text.plain != self._detail_shown:
+            self._detail_shown = text.plain
+            detail.update(text)
+
+    _detail_shown: str | None = None
+
+    def _detail_text(self) -> Text:
         cid = self.query_one(RecipeTable).selected_id
         ev = self.query_one(RelationsPanel).evaluation
         c = ev.component(cid) if ev and cid else None
-        detail = self.query_one("#detail", Static)
         if c is None:
-            detail.update(Text("Empty recipe: press a to add a component, b to start from a base formulation.",
-                               style="dim") if not (ev and ev.components) else "")
-            return
+            return Text("Empty recipe: press a to add a component, b to start from a base formulation.",
+                        style="dim") if not (ev and ev.components) else Text("")
         origin = {"base": "from the base", "user": "added", "override": "replaces the base amount"}[c.origin]
         t = Text(c.name, style="bold")
         if c.formula:
@@ -97,7 +104,7 @@ class MainScreen(Screen):
         t.append(f" · {c.osmolality_mosmol_per_kg:.1f} mOsm/kg · {c.grams_per_litre:.4g} g/L")
         if c.hazard:
             t.append(" · caution: see notes", style="bold")
-        detail.update(t)
+        return t
 
     def preview(self, component_id: str, text: str | None) -> str:
         """Show the figures the recipe would have with this amount (None restores). Returns a summary."""

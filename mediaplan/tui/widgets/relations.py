@@ -47,6 +47,7 @@ class RelationsPanel(Static):
         self.evaluation: Evaluation | None = None
         self.error: str | None = None
         self.preview = False
+        self._shape: tuple = ()
 
     def show(self, ev: Evaluation | None, error: str | None = None, *, preview: bool = False) -> None:
         self.evaluation, self.error, self.preview = ev, error, preview
@@ -57,7 +58,10 @@ class RelationsPanel(Static):
         title = "water relations" + (" · preview" if preview else "")
         if self.border_title != title:
             self.border_title = title
-        self.update(self._figures_renderable())
+        # re-layout the screen only when the panel's height can have changed (a layout is costly)
+        shape = (ev is None, bool(ev and ev.tonicity), error is not None, bool(ev and ev.base))
+        self.update(self._figures_renderable(), layout=shape != self._shape)
+        self._shape = shape
 
     def _figures_renderable(self):
         ev = self.evaluation
@@ -106,6 +110,7 @@ class NotesPanel(Static):
     def __init__(self, **kw) -> None:
         super().__init__("", **kw)
         self.count = 0
+        self._shown: tuple = (None,)
 
     def show(self, ev: Evaluation | None) -> None:
         lines: list[Text] = []
@@ -118,6 +123,10 @@ class NotesPanel(Static):
                 t.append(names.get(c["component"], c["component"]), style="bold")
                 t.append(": " + first_sentence(c["caution"]))
                 lines.append(t)
+        key = tuple(t.plain for t in lines)
+        if key == self._shown:
+            return
+        self._shown = key
         self.count = len(lines)
         n_w = len(ev.warnings) if ev else 0
         n_c = len(ev.cautions) if ev else 0
@@ -146,8 +155,10 @@ class GroupChart(Static):
         self.groups: dict[str, float] = {}
 
     def show(self, ev: Evaluation | None) -> None:
+        rows_before = len(chart_rows(self.groups)) if self.groups else 0
         self.groups = dict(ev.groups) if ev else {}
-        self.update(self._chart_renderable())
+        rows_now = len(chart_rows(self.groups)) if self.groups else 0
+        self.update(self._chart_renderable(), layout=rows_now != rows_before)
 
     def on_resize(self) -> None:
         self.update(self._chart_renderable())
