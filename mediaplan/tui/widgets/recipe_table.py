@@ -11,7 +11,7 @@ from mediaplan.evaluate import ComponentResult, Evaluation
 COLUMNS = (("name", "component"), ("amount", "amount"), ("molality", "mmol/kg"), ("share", "share"))
 BAR_WIDTH = 4
 #: widths of the columns other than the name [characters]
-FIXED_WIDTHS = {"amount": 11, "molality": 8, "share": 7 + BAR_WIDTH}
+FIXED_WIDTHS = {"amount": 12, "molality": 8, "share": 7 + BAR_WIDTH}
 _ORIGIN_MARK = {"user": "+", "override": "*", "base": " "}
 
 
