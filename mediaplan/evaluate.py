@@ -302,8 +302,10 @@ def _warnings(recipe: Recipe, catalog: Catalog, lines: list[Line], model, st, ev
         miss = [(c, a) for c, a in missing if c in present and a in present]
         if miss:
             # weight of the cation-anion interaction terms that fall back to Debye-Hückel only
+            idx = {sp: k for k, sp in enumerate(model.species)}
+
             def m_ion(sp):
-                return float(species_m[model.species.index(sp)])
+                return float(species_m[idx[sp]])
             ions_present = [model.species[k] for k in model.ion_idx if species_m[k] > 0]
             cats = [i for i in ions_present if parse_species(i).charge > 0]
             ans = [i for i in ions_present if parse_species(i).charge < 0]

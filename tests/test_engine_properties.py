@@ -94,3 +94,22 @@ def test_temperature_scales_potential(catalog):
     warm = evaluate(r.with_settings(temperature="35 degC"), catalog)
     assert cold.osmotic_potential_mpa > warm.osmotic_potential_mpa
     assert cold.osmolality_mosmol_per_kg == pytest.approx(warm.osmolality_mosmol_per_kg, rel=1e-9)
+
+
+@settings(max_examples=40, deadline=None)
+@given(media)
+def test_single_row_path_equals_batch_path(catalog, d):
+    """The float fast path for one composition and the vectorised path solve the same system."""
+    import numpy as np
+
+    from mediaplan.model import compiled
+
+    r = make(d)
+    lines = r.lines(catalog)
+    model = compiled(catalog, [ln.component for ln in lines], r.temperature_k)
+    n, b = model.amounts_to_arrays([ln.amount for ln in lines])
+    one = model.solve(n[None, :], b[None, :]).mix
+    two = model.solve(np.vstack([n, n]), np.vstack([b, b])).mix
+    assert one.osmolality[0] == pytest.approx(two.osmolality[0], rel=1e-10)
+    assert one.fraction_electrolyte[0] == pytest.approx(two.fraction_electrolyte[0], rel=1e-8, abs=1e-12)
+    assert np.allclose(one.fraction_neutral[0], two.fraction_neutral[0], rtol=1e-8, atol=1e-12)
