@@ -16,8 +16,12 @@ class LineDict(dict):
     line: int = 0
 
 
-class _LineLoader(yaml.SafeLoader):
-    """SafeLoader (no arbitrary objects) whose mappings are LineDicts."""
+# libyaml's parser where PyYAML was built with it (several times faster); both are safe loaders
+_SafeBase = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
+
+
+class _LineLoader(_SafeBase):  # type: ignore[misc, valid-type]
+    """Safe loader (no arbitrary objects) whose mappings are LineDicts."""
 
 
 def _construct_mapping(loader: _LineLoader, node: yaml.MappingNode) -> LineDict:
@@ -47,7 +51,7 @@ def load_yaml(path: Path) -> Any:
     except OSError as exc:
         raise CatalogError(f"cannot read file ({exc.strerror})", file=str(path)) from exc
     try:
-        return yaml.load(text, Loader=_LineLoader)  # noqa: S506 - _LineLoader derives from SafeLoader
+        return yaml.load(text, Loader=_LineLoader)  # noqa: S506 - _LineLoader derives from (C)SafeLoader
     except CatalogError as exc:
         raise exc.located(file=str(path)) from None
     except yaml.MarkedYAMLError as exc:

@@ -533,7 +533,7 @@ class PitzerSystem:
         A = self._a_phi_scalar(T) if scalar_T else np.asarray(a_phi(T, self._a_coeffs))
 
         # binary and theta terms: q[..., k] = m · M_k · m
-        q = ((m @ mflat).reshape(*lead, self._K, self._n) @ m[..., None])[..., 0]
+        q = ((m @ mflat).reshape(*lead, self._K, self._n) * m[..., None, :]).sum(axis=-1)
         s = q[..., 0] + v[..., 1] * q[..., 1] - A * I * sqI / (1.0 + self.b * sqI)
         if self._nalpha:
             s = s + (np.exp(sqI[..., None] * self._neg_alphas) * q[..., 2:]).sum(axis=-1)
