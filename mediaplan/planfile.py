@@ -252,25 +252,36 @@ def atomic_write(path: Path, data: bytes, *, backup: bool = True) -> None:
     """Write ``data`` to ``path`` so that a crash leaves the old file or the new one, never a torn one.
 
     Temp file in the same folder, write, flush, fsync, then ``os.replace``; the folder is fsynced
-    so the rename itself is durable. The previous version is kept as ``path + '.bak'``.
+    so the rename itself is durable. The previous version is kept as ``path + '.bak'`` (written the
+    same way; a backup that cannot be made does not stop the save).
     """
     path = Path(path)
     folder = path.parent if str(path.parent) else Path(".")
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=folder)
+
+    def before_replace() -> None:
+        if backup and path.exists():
+            try:
+                _replace_with(path.with_name(path.name + ".bak"), path.read_bytes(), mode_from=path)
+            except OSError:
+                pass
+
+    _replace_with(path, data, mode_from=path, before_replace=before_replace)
+    _fsync_dir(folder)
+
+
+def _replace_with(path: Path, data: bytes, *, mode_from: Path, before_replace=None) -> None:
+    """Temp file beside ``path``: write, flush, fsync, then rename over ``path``; the temp file never
+    outlives a failure."""
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
     try:
-        _set_mode(fd, path)
+        _set_mode(fd, mode_from)
         with os.fdopen(fd, "wb") as fh:
             fh.write(data)
             fh.flush()
             os.fsync(fh.fileno())
-        if backup and path.exists():
-            bak = path.with_name(path.name + ".bak")
-            try:
-                _copy_backup(path, bak)
-            except OSError:
-                pass  # a backup that cannot be made must not stop the save
+        if before_replace is not None:
+            before_replace()
         os.replace(tmp, path)
-        _fsync_dir(folder)
     except BaseException:
         try:
             os.unlink(tmp)
@@ -291,24 +302,6 @@ def _set_mode(fd: int, path: Path) -> None:
         os.fchmod(fd, mode)
     except (OSError, AttributeError):  # pragma: no cover - platforms without fchmod
         pass
-
-
-def _copy_backup(src: Path, dst: Path) -> None:
-    data = src.read_bytes()
-    fd, tmp = tempfile.mkstemp(prefix=f".{dst.name}.", suffix=".tmp", dir=dst.parent)
-    try:
-        _set_mode(fd, src)
-        with os.fdopen(fd, "wb") as fh:
-            fh.write(data)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.replace(tmp, dst)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except OSError:
-            pass
-        raise
 
 
 def _fsync_dir(folder: Path) -> None:

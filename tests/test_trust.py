@@ -117,7 +117,14 @@ def test_interrupted_save_keeps_a_whole_file(step, tmp_path, monkeypatch, catalo
     elif step == "fsync":
         monkeypatch.setattr(os, "fsync", lambda fd: (_ for _ in ()).throw(Crash()))
     elif step == "backup":
-        monkeypatch.setattr(planfile, "_copy_backup", lambda a, b: (_ for _ in ()).throw(Crash()))
+        real = planfile._replace_with
+
+        def crash_on_backup(path, data, **kw):
+            if path.name.endswith(".bak"):
+                raise Crash()
+            return real(path, data, **kw)
+
+        monkeypatch.setattr(planfile, "_replace_with", crash_on_backup)
     elif step == "replace":
         monkeypatch.setattr(os, "replace", lambda a, b: (_ for _ in ()).throw(Crash()))
     elif step == "dirsync":
