@@ -14,6 +14,7 @@ import numpy as np
 from mediaplan.catalog import GROUP_LABELS, Catalog, get_catalog
 from mediaplan.errors import AmountError, MediaplanError
 from mediaplan.model import compiled
+from mediaplan.precipitation import calcium_saturation
 from mediaplan.recipe import Line, Recipe
 from mediaplan.thermo import potential
 from mediaplan.thermo.constants import T0
@@ -93,33 +94,18 @@ class Evaluation:
         d = asdict(self)
         d["osmotic_potential_bar"] = self.osmotic_potential_bar
         d["warnings"] = [w.to_dict() for w in self.warnings]
-        return _finite(d)
+        return finite(d)
 
 
-def _finite(obj):
+def finite(obj):
     """No NaN or infinity ever reaches an output: they become None (JSON null)."""
     if isinstance(obj, float):
         return obj if math.isfinite(obj) else None
     if isinstance(obj, dict):
-        return {k: _finite(v) for k, v in obj.items()}
+        return {k: finite(v) for k, v in obj.items()}
     if isinstance(obj, list):
-        return [_finite(v) for v in obj]
+        return [finite(v) for v in obj]
     return obj
-
-
-# Davies (1938) activity coefficients for the precipitation screen (J Chem Soc 2093)
-def _davies_log10_gamma(z: int, I: float) -> float:
-    s = math.sqrt(I)
-    return -0.509 * z * z * (s / (1 + s) - 0.3 * I)
-
-
-#: thermodynamic solubility products at 25 °C used to screen for precipitation (from memory, unverified):
-#: gypsum CaSO4·2H2O 10^-4.58; brushite CaHPO4·2H2O 10^-6.59
-_KSP = {("Ca[2+]", "SO4[2-]"): (10**-4.58, "calcium sulfate (gypsum)"),
-        ("Ca[2+]", "HPO4[2-]"): (10**-6.59, "calcium hydrogen phosphate (brushite)")}
-#: fraction of dissolved orthophosphate present as HPO4[2-] at pH 5.8 (pKa2 = 7.2), used when the
-#: medium holds only H2PO4[-]: 10^(5.8-7.2)/(1+10^(5.8-7.2))
-_HPO4_FRACTION_PH58 = 10 ** (5.8 - 7.2) / (1 + 10 ** (5.8 - 7.2))
 
 
 def evaluate(recipe: Recipe, catalog: Catalog | None = None, *, cell_reference_mosmol: float | None = None,
@@ -328,19 +314,10 @@ def _warnings(recipe: Recipe, catalog: Catalog, lines: list[Line], model, st, ev
                 out.append(Warning_("temperature", "Pitzer parameters of " + ", ".join(fixed[:5]) +
                                     (" …" if len(fixed) > 5 else "") + f" are 25 °C values, used at {T - T0:.0f} °C"))
         # precipitation screen
-        I = ev.ionic_strength_mol_per_kg
-        def m_of(sp):
-            return species_m[model.species.index(sp)] if sp in model.species else 0.0
-        m_hpo4 = m_of("HPO4[2-]") + _HPO4_FRACTION_PH58 * m_of("H2PO4[-]")
-        for (cat, an), (ksp, name) in _KSP.items():
-            ma = m_hpo4 if an == "HPO4[2-]" else m_of(an)
-            mc = m_of(cat)
-            if mc <= 0 or ma <= 0:
-                continue
-            g = 10 ** (_davies_log10_gamma(2, I) * 2)
-            iap = mc * ma * g
-            if iap > 0.5 * ksp:
-                word = "exceeds" if iap > ksp else "approaches"
+        present = {sp: float(species_m[k]) for k, sp in enumerate(model.species) if species_m[k] > 0}
+        for an, name, ratio in calcium_saturation(present, ev.ionic_strength_mol_per_kg):
+            if ratio > 0.5:
+                word = "exceeds" if ratio > 1 else "approaches"
                 out.append(Warning_("precipitation", f"Ca²⁺ with {an.split('[')[0]}: ion activity product {word} the "
                                     f"solubility product of {name}; keep them in separate stocks and watch for "
                                     "cloudiness after autoclaving"))

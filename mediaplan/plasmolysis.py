@@ -43,7 +43,7 @@ import numpy as np
 
 from mediaplan.catalog import Catalog, Component, get_catalog
 from mediaplan.errors import AmountError, FitError, InfeasibleError, MediaplanError
-from mediaplan.evaluate import _finite  # no NaN or infinity in any output (shared rule)
+from mediaplan.evaluate import finite  # no NaN or infinity in any output (shared rule)
 from mediaplan.model import compiled
 from mediaplan.recipe import Recipe
 from mediaplan.thermo import potential
@@ -149,7 +149,7 @@ class SeriesDesign:
 
     def to_dict(self) -> dict:
         d = asdict(self)
-        return _finite(d)
+        return finite(d)
 
     def plan_table(self) -> dict:
         """The ``[series]`` table of a plan file: the design plus empty counts per level."""
@@ -880,7 +880,7 @@ class PlasmolysisFit:
         return np.array([self.intercept, self.slope_per_mpa])
 
     def to_dict(self) -> dict:
-        return _finite(asdict(self))
+        return finite(asdict(self))
 
     def cells_table(self, date: str) -> dict:
         """The ``[cells]`` table of a plan: the fitted reference for tonicity."""

@@ -328,7 +328,7 @@ def _solubility_fractions(items: list[tuple[Component, float]]) -> dict[str, flo
 
 def _ion_pair_risk(items: list[tuple[Component, float]]) -> str | None:
     """Calcium sulfate / phosphate saturation in a stock (Davies activities; screening only)."""
-    from mediaplan.evaluate import _HPO4_FRACTION_PH58, _KSP, _davies_log10_gamma
+    from mediaplan.precipitation import calcium_saturation
     from mediaplan.thermo.ions import parse_species
 
     m: dict[str, float] = {}
@@ -341,15 +341,9 @@ def _ion_pair_risk(items: list[tuple[Component, float]]) -> str | None:
     if m.get(_CA, 0) <= 0:
         return None
     ionic = 0.5 * sum(v * parse_species(s).charge ** 2 for s, v in m.items() if "[" in s)
-    hpo4 = m.get("HPO4[2-]", 0.0) + _HPO4_FRACTION_PH58 * m.get("H2PO4[-]", 0.0)
-    g2 = 10 ** _davies_log10_gamma(2, min(ionic, 0.5))
-    for (ca, an), (ksp, label) in _KSP.items():
-        a_an = (hpo4 if an == "HPO4[2-]" else m.get(an, 0.0))
-        if a_an <= 0:
-            continue
-        iap = m[ca] * g2 * a_an * g2
-        if iap > SOLUBILITY_MARGIN * ksp:
-            return f"{label} would precipitate (ion activity product {iap / ksp:.2g} × its solubility product)"
+    for _an, label, ratio in calcium_saturation(m, min(ionic, 0.5)):
+        if ratio > SOLUBILITY_MARGIN:
+            return f"{label} would precipitate (ion activity product {ratio:.2g} × its solubility product)"
     return None
 
 

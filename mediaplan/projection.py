@@ -167,7 +167,7 @@ class Projection:
     notes: list[str] = field(default_factory=list)
 
     def to_dict(self) -> dict:
-        from mediaplan.evaluate import _finite
+        from mediaplan.evaluate import finite
 
         out = []
         for st in self.stages:
@@ -180,7 +180,7 @@ class Projection:
                         "water_activity": ev.water_activity, "osmotic_potential_mpa": ev.osmotic_potential_mpa,
                         "freezing_point_depression_k": ev.freezing_point_depression_k,
                         "sugars_mmol_per_kg": sugars, "tonicity": ev.tonicity})
-        return _finite({"settings": self.settings.to_table(), "total_water_loss": self.settings.total_water_loss,
+        return finite({"settings": self.settings.to_table(), "total_water_loss": self.settings.total_water_loss,
                         "stages": out, "notes": list(self.notes), "guidance": GUIDANCE})
 
 

@@ -247,10 +247,10 @@ class Solution:
         return t
 
     def to_dict(self) -> dict:
-        from mediaplan.evaluate import _finite
+        from mediaplan.evaluate import finite
 
         ev = self.evaluation
-        return _finite({
+        return finite({
             "status": self.status, "message": self.message, "target": self.target.text,
             "matched": self.matched,
             "target_osmolality_mosmol_per_kg": self.target_osmolality_mosmol_per_kg,
