@@ -24,6 +24,9 @@ def add_arguments(p) -> None:
     loss.add_argument("--water-loss-per-week", metavar="FRACTION", help="water lost per week (of the water first present)")
     p.add_argument("--weeks", metavar="N", help="length of the culture in weeks (default 4)")
     p.add_argument("--json", action="store_true", help="print one JSON object")
+    p.add_argument("--format", choices=("text", "md", "csv", "html"), default="text",
+                   help="report format (md, csv and html include provenance and a place to sign)")
+    p.add_argument("-o", "--output", metavar="FILE", help="write the report to FILE (atomic) instead of stdout")
 
 
 def cell_reference(text: str | None, plan, T: float) -> float | None:
@@ -102,13 +105,34 @@ def projection_text(proj) -> str:
     return "\n".join(out)
 
 
+def write_output(text: str, path: str | None) -> None:
+    """Print, or write atomically to ``path``."""
+    if not path:
+        sys.stdout.write(text if text.endswith("\n") else text + "\n")
+        return
+    from pathlib import Path
+
+    from mediaplan.errors import PlanFileError
+    from mediaplan.planfile import atomic_write
+
+    try:
+        atomic_write(Path(path), text.encode("utf-8"), backup=False)
+    except OSError as exc:
+        raise PlanFileError(f"cannot write ({exc.strerror or exc})", file=path, hint="choose another folder") from None
+    print(f"wrote {path}", file=sys.stderr)
+
+
 def run(args) -> int:
     from mediaplan.evaluate import evaluate
     from mediaplan.report import evaluation_text
 
+    from mediaplan.sharing import compare_provenance, shadow_notes
+
     catalog = catalog_from(args)
-    notes: list[str] = []
+    notes: list[str] = list(shadow_notes(catalog))
     plan, recipe = recipe_from(args, catalog, notes=notes)
+    if plan is not None and plan.provenance:
+        notes += [f"catalog differs from the plan's record: {d.text()}" for d in compare_provenance(plan, catalog)]
     tol = cell_tolerance(args.tolerance, plan)
     ref = cell_reference(args.cells, plan, recipe.temperature_k)
     ev = evaluate(recipe, catalog, cell_reference_mosmol=ref, isotonic_tolerance=tol)
@@ -120,6 +144,17 @@ def run(args) -> int:
         if proj is not None:
             d["projection"] = proj.to_dict()
         print_json(d)
+    elif args.format != "text" or args.output:
+        from mediaplan.export import evaluation_report
+        from mediaplan.planfile import Plan
+        from mediaplan.sharing import provenance_of
+
+        fmt = "md" if args.format == "text" else args.format
+        text = evaluation_report(ev, plan or Plan(recipe=recipe), fmt,
+                                 provenance=provenance_of(recipe, catalog))
+        for n in notes:
+            print(f"note: {n}", file=sys.stderr)
+        write_output(text, args.output)
     else:
         for n in notes:
             print(f"note: {n}", file=sys.stderr)
