@@ -298,9 +298,13 @@ def _warnings(recipe: Recipe, catalog: Catalog, lines: list[Line], model, st, ev
             total_w = sum(m_ion(c) * m_ion(a) for c in cats for a in ans)
             miss_w = sum(m_ion(c) * m_ion(a) for c, a in miss)
             frac = miss_w / total_w if total_w > 0 else 0.0
-            out.append(Warning_("pitzer_default", "no Pitzer parameters for " + ", ".join(
-                f"{c}–{a}" for c, a in miss[:6]) + (" …" if len(miss) > 6 else "") +
-                f": Debye–Hückel only for these pairs ({100 * frac:.2g} % of the cation–anion interactions)"))
+            def short(ion):
+                return ion.split("[")[0]
+            miss.sort(key=lambda ca: -m_ion(ca[0]) * m_ion(ca[1]))  # the weightiest pairs first
+            named = ", ".join(f"{short(c)}–{short(a)}" for c, a in miss[:3]) + (" …" if len(miss) > 3 else "")
+            out.append(Warning_("pitzer_default", f"{len(miss)} ion pair{'s' if len(miss) > 1 else ''} without Pitzer "
+                                f"parameters ({named}): Debye–Hückel term only, {100 * frac:.2g} % of the "
+                                "cation–anion interactions"))
         try:
             over = model.pitzer.max_molality_exceeded(species_m[model.ion_idx])
         except Exception:  # noqa: BLE001 - a validity screen must never break an evaluation
