@@ -350,6 +350,14 @@ def _warnings(recipe: Recipe, catalog: Catalog, lines: list[Line], model, st, ev
         if unverified:
             out.append(Warning_("unverified", f"{len(unverified)} amounts of {med.id} are from memory and unverified "
                                 "(confidence C): check them against the original paper before use"))
+    if ev.tonicity is not None:
+        unknown = [c for c in ev.components if c.reflection_coefficient is None and c.share > 0.01]
+        if unknown:
+            frac = sum(c.share for c in unknown)
+            out.append(Warning_("reflection_unknown", "no reflection coefficient for " +
+                                ", ".join(c.id for c in unknown[:4]) + (" …" if len(unknown) > 4 else "") +
+                                f" ({100 * frac:.3g} % of the osmolality): counted as impermeant (σ = 1); solutes "
+                                "that enter the cells make the medium less hypertonic than shown"))
     if model.default_volume:
         big = [cid for cid in model.default_volume
                if ev.component(cid) and ev.component(cid).grams_per_litre > 10]
