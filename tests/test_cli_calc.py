@@ -71,3 +71,10 @@ def test_bad_input_one_line_exit_2(capsys, argv, fragment):
     code, out, err = run(capsys, *argv)
     assert code == 2
     assert fragment in err and err.count("\n") == 1 and "Traceback" not in err
+
+
+def test_locate_names_the_user_folders(capsys, tmp_path, monkeypatch):
+    monkeypatch.setenv("MEDIAPLAN_CONFIG_DIR", str(tmp_path / "cfg"))
+    code, out, _ = run(capsys, "locate", "--json")
+    d = json.loads(out)
+    assert code == 0 and d["user_catalog"] == str(tmp_path / "cfg" / "catalog")
