@@ -130,7 +130,7 @@ def evaluate(recipe: Recipe, catalog: Catalog | None = None, *, cell_reference_m
     y = float(mix.osmolality[0])
     ideal = float(mix.ideal[0])
     # freezing-point osmometer: the same medium at 0 °C
-    y0 = float(model.mixture(st.species_m, T0).osmolality[0]) if lines else y
+    y0 = float(model.mixture(st.species_m, T0, start=mix.state).osmolality[0]) if lines else y
     aw = float(potential.water_activity(y))
     aw0 = float(potential.water_activity(y0))
     theta = float(potential.freezing_point_depression(aw0))

@@ -154,8 +154,9 @@ class MediumModel:
         mix = self.mixture(species_m, T)
         return ModelState(W, n_all, molality, species_m, mix)
 
-    def mixture(self, species_m: np.ndarray, T: float) -> MixtureResult:
-        """ZSR solution for species molalities (B, n_species) [mol/kg] at temperature T [K]."""
+    def mixture(self, species_m: np.ndarray, T: float, *, start: tuple | None = None) -> MixtureResult:
+        """ZSR solution for species molalities (B, n_species) [mol/kg] at temperature T [K];
+        ``start``: ``MixtureResult.state`` of the same composition (warm start)."""
         species_m = np.atleast_2d(species_m)
         ion_m = species_m[:, self.ion_idx] if self.ion_idx else None
         neutral_m = species_m[:, self.neutral_idx]
@@ -164,7 +165,7 @@ class MediumModel:
         for j, k in enumerate(self.peg_idx):
             peg_c[:, j] = species_m[:, k] * self.peg_grades[j] / 1000.0
         return zsr_osmolality(MixtureInput(self.pitzer, ion_m, self.neutral_params, neutral_m,
-                                           self.peg_grades, peg_c, T))
+                                           self.peg_grades, peg_c, T), start=start)
 
 
 _MODEL_CACHE: OrderedDict[tuple, MediumModel] = OrderedDict()

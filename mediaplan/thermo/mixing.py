@@ -35,6 +35,8 @@ from mediaplan.thermo.params import NeutralParams
 
 _MAX_OUTER = 30
 _TOL = 1e-11
+#: convergence of the electrolyte group's osmotic coefficient between Pitzer evaluations
+_PHI_TOL = 1e-9
 
 
 @dataclass
@@ -74,13 +76,16 @@ class MixtureResult:
     fraction_electrolyte: np.ndarray
     fraction_neutral: np.ndarray
     fraction_peg: np.ndarray
+    #: solver state of a single-composition solve (osmolality, isopiestic amounts, power-law exponent),
+    #: usable as a warm start for the same composition at another temperature
+    state: tuple | None = None
 
 
 def _ion_phi(pitzer, ion_m: np.ndarray, scale: np.ndarray, T: float) -> np.ndarray:
     return np.asarray(pitzer.osmotic_coefficient(ion_m * scale[:, None], T), dtype=float)
 
 
-def zsr_osmolality(inp: MixtureInput) -> MixtureResult:
+def zsr_osmolality(inp: MixtureInput, *, start: tuple | None = None) -> MixtureResult:
     """Solve the ZSR rule for the osmolality of the mixture (vectorised over B rows).
 
     Notes
@@ -94,7 +99,7 @@ def zsr_osmolality(inp: MixtureInput) -> MixtureResult:
     evaluation of every binary model and of the Pitzer sum; five to seven steps reach 1e-12.
     """
     if np.ndim(inp.T) == 0 and _single_row(inp):
-        return _zsr_one(inp)
+        return _zsr_one(inp, start)
     nm = np.atleast_2d(np.asarray(inp.neutral_m, dtype=float)) if len(inp.neutral) else None
     pc = np.atleast_2d(np.asarray(inp.peg_c, dtype=float)) if len(inp.peg_grades) else None
     im = (np.atleast_2d(np.asarray(inp.ion_m, dtype=float))
@@ -176,7 +181,7 @@ def zsr_osmolality(inp: MixtureInput) -> MixtureResult:
                 g = np.where(has_e & (np.abs(ls) > 1e-9), np.log(phi_new / phi_c) / np.where(ls != 0, ls, 1.0), g)
             g = np.clip(g, -0.5, 2.0)
             s_c, phi_c = s_new, phi_new
-        if (np.all(np.abs(dy) <= _TOL * y) and dphi <= 10 * _TOL
+        if (np.all(np.abs(dy) <= _TOL * y) and dphi <= _PHI_TOL
                 and np.all(np.abs(RN) <= 1e-10 * y[:, None]) and np.all(np.abs(RP) <= 1e-10 * y[:, None])):
             break
     phi_hat = phi_c
@@ -201,7 +206,7 @@ def _single_row(inp: MixtureInput) -> bool:
     return True
 
 
-def _zsr_one(inp: MixtureInput) -> MixtureResult:
+def _zsr_one(inp: MixtureInput, start: tuple | None = None) -> MixtureResult:
     """The same Newton system as :func:`zsr_osmolality` for one composition, in Python floats.
 
     Numpy's per-call overhead dominates a single small row; this path is several times faster and is
@@ -248,11 +253,14 @@ def _zsr_one(inp: MixtureInput) -> MixtureResult:
                              np.zeros((1, len(inp.neutral))), np.zeros((1, len(inp.peg_grades))))
     x = [m * y / binary(kind, m, K)[0] for (kind, _j, m, K) in groups]
     s_c, phi_c, g_exp = 1.0, phi_own, 0.0
+    if start is not None and len(start[1]) == len(x) and start[0] > 0:
+        y, x, g_exp = start[0], list(start[1]), start[2]  # the same composition solved at another T
     Me = M_e if has_e else 1.0
 
     def e_scale(yv):
         return (yv * s_c**g_exp / (Me * phi_c)) ** (1.0 / (1.0 + g_exp)) if has_e else 1.0
 
+    last_dphi = float("inf") if has_e else 0.0
     for _ in range(_MAX_OUTER):
         re = 1.0 / e_scale(y) if has_e else 0.0
         F = re - 1.0
@@ -274,6 +282,8 @@ def _zsr_one(inp: MixtureInput) -> MixtureResult:
         dy = y_new - y
         x = [max(xi + (dy - R) / d, 0.2 * xi) for xi, (R, d) in zip(x, parts, strict=True)]
         y = y_new
+        if abs(dy) <= _TOL * y and last_dphi <= _PHI_TOL and maxR <= 1e-10 * y:
+            break  # the electrolyte group had already settled: no further Pitzer evaluation needed
         dphi = 0.0
         if has_e:
             s_new = e_scale(y)
@@ -284,7 +294,8 @@ def _zsr_one(inp: MixtureInput) -> MixtureResult:
             if abs(ls) > 1e-9:
                 g_exp = min(max(math.log(phi_new / phi_c) / ls, -0.5), 2.0)
             s_c, phi_c = s_new, phi_new
-        if abs(dy) <= _TOL * y and dphi <= 10 * _TOL and maxR <= 1e-10 * y:
+        last_dphi = dphi
+        if abs(dy) <= _TOL * y and dphi <= _PHI_TOL and maxR <= 1e-10 * y:
             break
     fe = 1.0 / e_scale(y) if has_e else 0.0
     fn = np.zeros((1, len(inp.neutral)))
@@ -293,4 +304,4 @@ def _zsr_one(inp: MixtureInput) -> MixtureResult:
         (fn if kind == "n" else fp)[0, j] = m / xi
     ideal = M_e + float(nm.sum()) + sum(float(pc[j]) * 1000.0 / g for j, g in enumerate(inp.peg_grades))
     return MixtureResult(np.array([y]), np.array([ideal]), np.array([phi_c]), np.array([phi_own]),
-                         np.array([fe]), fn, fp)
+                         np.array([fe]), fn, fp, state=(y, tuple(x), g_exp))
