@@ -24,6 +24,11 @@ def user_state_dir() -> Path:
     return Path(os.environ.get("MEDIAPLAN_STATE_DIR") or platformdirs.user_state_dir(APP))
 
 
+def user_cache_dir() -> Path:
+    """Caches that can be deleted at any time (the unit registry's parsed definitions)."""
+    return Path(os.environ.get("MEDIAPLAN_CACHE_DIR") or platformdirs.user_cache_dir(APP))
+
+
 def recovery_dir() -> Path:
     return user_state_dir() / "recovery"
 
