@@ -12,7 +12,7 @@ def run(args) -> int:
 
     from mediaplan.catalog import BUNDLED_DIR
     from mediaplan.commands.common import print_json
-    from mediaplan.paths import log_file, recovery_dir, user_catalog_dir, user_config_dir
+    from mediaplan.paths import log_file, recovery_dir, user_cache_dir, user_catalog_dir, user_config_dir
 
     places = {
         "bundled_catalog": str(BUNDLED_DIR),
@@ -21,6 +21,7 @@ def run(args) -> int:
         "config": str(user_config_dir()),
         "recovery": str(recovery_dir()),
         "error_log": str(log_file()),
+        "cache": str(user_cache_dir()),
     }
     if args.json:
         print_json(places)
