@@ -396,3 +396,103 @@ async def test_plasmolysis_series_design_counts_fit_keep(catalog):
         assert panel(app).evaluation.tonicity is not None
         assert panel(app).evaluation.tonicity["reference_mosmol_per_kg"] == pytest.approx(
             ref.osmolality_50_mosmol_per_kg, rel=1e-3)
+
+
+# ---- the recipe table (a Line API view) -----------------------------------------------------
+
+def table(app):
+    from mediaplan.tui.widgets.recipe_table import RecipeTable
+
+    return app.get_screen("main").query_one(RecipeTable)
+
+
+def visible_rows(t) -> range:
+    """Indices of the rows on screen below the header line."""
+    top = round(t.scroll_y)
+    return range(top, top + t.scrollable_content_region.height - 1)
+
+
+@run_async
+async def test_table_keys_move_the_cursor_and_keep_it_in_view(catalog):
+    from mediaplan.tui.widgets.recipe_table import RecipeTable
+
+    recipe = Recipe(base="ms1962").with_amount("sucrose", "30 g/L")
+    ids = [c.id for c in evaluate(recipe, catalog).components]
+    seen = []
+    app = app_for(Session(Plan(recipe=recipe), catalog))
+    async with app.run_test(size=(80, 24), message_hook=seen.append) as pilot:
+        await pilot.pause()
+        t = table(app)
+        assert t.has_focus and t.selected_id == ids[0]
+        assert len(visible_rows(t)) < len(ids)  # the table has to scroll at this size
+        start = len(seen)
+        keys = ("down", "down", "up", "end", "down", "pageup", "home", "pagedown")
+        at = []
+        for key in keys:
+            await pilot.press(key)
+            await pilot.pause()
+            at.append(t.cursor_row)
+            assert t.cursor_row in visible_rows(t), key
+        page = len(visible_rows(t))
+        last = len(ids) - 1
+        assert at == [1, 2, 1, last, last, last - page, 0, page]
+        assert round(t.scroll_y) > 0  # pagedown scrolled a page, the cursor kept its screen line
+        # every move was announced once, with the component under the cursor (the hook sees a
+        # bubbling message at each level: keep each message once)
+        distinct = {id(m): m for m in seen[start:] if isinstance(m, RecipeTable.RowHighlighted)}
+        moved = [m.component_id for m in distinct.values()]
+        assert moved == [ids[r] for i, r in enumerate(at) if i == 0 or r != at[i - 1]]
+        # the detail line follows the cursor
+        assert evaluate(recipe, catalog).components[t.cursor_row].name in screen_text(app)
+
+
+@run_async
+async def test_enter_on_a_row_opens_its_amount(catalog):
+    recipe = Recipe(base="ms1962").with_amount("sucrose", "30 g/L")
+    app = app_for(Session(Plan(recipe=recipe), catalog))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        table(app).select_id("sucrose")
+        await pilot.press("enter")
+        await pilot.pause()
+        assert isinstance(app.screen, AmountScreen)
+        assert app.screen.component_name.startswith("sucrose") and app.screen.amount == "30 g/L"
+        await pilot.press("escape")
+        await pilot.pause()
+        assert isinstance(app.screen, MainScreen) and table(app).selected_id == "sucrose"
+
+
+@run_async
+async def test_click_selects_a_row_and_a_second_click_edits_it(catalog):
+    recipe = Recipe(base="ms1962").with_amount("sucrose", "30 g/L")
+    ids = [c.id for c in evaluate(recipe, catalog).components]
+    app = app_for(Session(Plan(recipe=recipe), catalog))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        t = table(app)
+        # border line, header line, then row 0: row 3 is four lines below the table's top edge
+        await pilot.click(t, offset=(6, 5))
+        await pilot.pause()
+        assert t.selected_id == ids[3] and isinstance(app.screen, MainScreen)
+        await pilot.click(t, offset=(6, 1))  # the header selects nothing
+        await pilot.pause()
+        assert t.selected_id == ids[3] and isinstance(app.screen, MainScreen)
+        await pilot.click(t, offset=(6, 5))
+        await pilot.pause()
+        assert isinstance(app.screen, AmountScreen)
+        assert app.screen.component_name.startswith(catalog.components[ids[3]].name)
+
+
+def test_row_text_is_plain_and_fits_its_columns(catalog):
+    from dataclasses import replace
+
+    from mediaplan.tui.widgets.recipe_table import FIXED_WIDTHS, header_text, row_text
+
+    c = evaluate(Recipe().with_amount("sucrose", "30 g/L"), catalog).components[0]
+    odd = replace(c, name="K[+] [bold]not markup[/bold] with a very long tail", hazard="oxidiser")
+    row = row_text(odd, name_width=20)
+    assert row.name == "+!K[+] [bold]not ma…"  # brackets kept as typed, cut with an ellipsis
+    assert len(row.amount) == FIXED_WIDTHS["amount"] and row.amount.endswith("30 g/L")
+    assert len(row.numbers) + len(row.bar) == FIXED_WIDTHS["molality"] + FIXED_WIDTHS["share"]
+    assert "100.0%" in row.numbers and row.bar == "████"  # the only solute holds the whole share
+    assert len(header_text(20)) == 20 + sum(FIXED_WIDTHS.values())

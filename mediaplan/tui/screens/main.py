@@ -4,13 +4,13 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from rich.text import Text
 from textual import on
 from textual.app import ComposeResult
 from textual.containers import Horizontal, Vertical, VerticalScroll
+from textual.content import Content
 from textual.message import Message
 from textual.screen import Screen
-from textual.widgets import DataTable, Footer, Static
+from textual.widgets import Footer, Static
 
 from mediaplan.errors import MediaplanError
 from mediaplan.tui.actions import bindings
@@ -71,40 +71,44 @@ class MainScreen(Screen):
 
     def _topbar(self) -> None:
         s = self.session
-        t = Text(" mediaplan ", style="bold reverse")
-        t.append(f" {s.label} ", style="bold")
-        t.append(f"· {s.plan.title}")
-        if s.dirty:
-            t.append("  ● unsaved", style="bold")
-        self.query_one("#topbar", Static).update(t, layout=False)  # one line, fixed size
+        content = Content.assemble((" mediaplan ", "reverse"), f" {s.label} · {s.plan.title}",
+                                   "  ● unsaved" if s.dirty else "").stylize_before("bold")
+        if content.plain != self._topbar_shown:
+            self._topbar_shown = content.plain
+            self.query_one("#topbar", Static).update(content, layout=False)  # one line, fixed size
+
+    _topbar_shown: str | None = None
 
     def _detail(self) -> None:
+        """Re-lay out the screen only when the detail line's wrapped height changes."""
         detail = self.query_one("#detail", Static)
-        text = self._detail_text()
-        if text.plain != self._detail_shown:
-            self._detail_shown = text.plain
-            detail.update(text)
+        content = self._detail_content()
+        width = detail.content_size.width
+        shown = (content.plain, width)
+        if shown == self._detail_shown:
+            return
+        height = content.get_height(detail.styles, width) if width else None
+        detail.update(content, layout=height is None or (width, height) != self._detail_shape)
+        self._detail_shown, self._detail_shape = shown, (width, height)
 
-    _detail_shown: str | None = None
+    _detail_shown: tuple | None = None
+    _detail_shape: tuple | None = None
 
-    def _detail_text(self) -> Text:
+    def _detail_content(self) -> Content:
         cid = self.query_one(RecipeTable).selected_id
         ev = self.query_one(RelationsPanel).evaluation
         c = ev.component(cid) if ev and cid else None
         if c is None:
-            return Text("Empty recipe: press a to add a component, b to start from a base formulation.",
-                        style="dim") if not (ev and ev.components) else Text("")
+            if ev and ev.components:
+                return Content("")
+            return Content.styled("Empty recipe: press a to add a component, "
+                                  "b to start from a base formulation.", "dim")
         origin = {"base": "from the base", "user": "added", "override": "replaces the base amount"}[c.origin]
-        t = Text(c.name, style="bold")
-        if c.formula:
-            t.append(f" {c.formula}")
-        t.append(f" · {origin}")
-        if c.confidence:
-            t.append(f" (confidence {c.confidence})")
-        t.append(f" · {c.osmolality_mosmol_per_kg:.1f} mOsm/kg · {c.grams_per_litre:.4g} g/L")
-        if c.hazard:
-            t.append(" · caution: see notes", style="bold")
-        return t
+        return Content.assemble(
+            c.name, f" {c.formula}" if c.formula else "", f" · {origin}",
+            f" (confidence {c.confidence})" if c.confidence else "",
+            f" · {c.osmolality_mosmol_per_kg:.1f} mOsm/kg · {c.grams_per_litre:.4g} g/L",
+            " · caution: see notes" if c.hazard else "").stylize_before("bold")
 
     def preview(self, component_id: str, text: str | None) -> str:
         """Show the figures the recipe would have with this amount (None restores). Returns a summary."""
@@ -137,12 +141,12 @@ class MainScreen(Screen):
             self._binding_state = state
             self.refresh_bindings()
 
-    @on(DataTable.RowHighlighted)
+    @on(RecipeTable.RowHighlighted)
     def _highlighted(self) -> None:
         self._detail()
         self._refresh_bindings_if_changed()
 
-    @on(DataTable.RowSelected)
+    @on(RecipeTable.RowSelected)
     def _row_selected(self) -> None:
         self.action_edit_amount()
 

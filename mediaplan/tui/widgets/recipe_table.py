@@ -1,9 +1,25 @@
-"""The recipe table: a view of Evaluation.components (the Recipe is the source of truth)."""
+"""The recipe table: a view of Evaluation.components (the Recipe is the source of truth).
+
+A Line API widget: each row is one ``Strip`` built straight from ``Segment``s with styles taken from
+the component classes below (so the theme and the stylesheet still colour it). Strips are cached per
+(row content, zebra parity, cursor); an edit that changes every row's share re-renders each row in
+microseconds instead of laying out Rich renderables cell by cell.
+"""
 
 from __future__ import annotations
 
-from rich.text import Text
-from textual.widgets import DataTable
+from dataclasses import dataclass
+from typing import ClassVar, NamedTuple
+
+from rich.cells import cell_len, set_cell_size
+from rich.segment import Segment
+from rich.style import Style
+from textual import events
+from textual.binding import Binding, BindingType
+from textual.geometry import Region, Size
+from textual.message import Message
+from textual.scroll_view import ScrollView
+from textual.strip import Strip
 
 from mediaplan.evaluate import ComponentResult, Evaluation
 
@@ -13,6 +29,8 @@ BAR_WIDTH = 4
 #: widths of the columns other than the name [characters]
 FIXED_WIDTHS = {"amount": 12, "molality": 8, "share": 7 + BAR_WIDTH}
 _ORIGIN_MARK = {"user": "+", "override": "*", "base": " "}
+#: strips kept per table before the cache is emptied (rows x parity x cursor, many edits' worth)
+_CACHE_LIMIT = 2048
 
 
 def share_bar(share: float, width: int = BAR_WIDTH) -> str:
@@ -31,79 +49,294 @@ def molality_text(x: float) -> str:
     return f"{x:.1g}" if x >= 1e-4 else "<0.0001"
 
 
-def row_cells(c: ComponentResult, name_width: int = 30) -> dict[str, Text]:
-    """The cells of one component row, as plain Text (chemical names are never markup)."""
+def fit_left(text: str, width: int) -> str:
+    """``text`` in exactly ``width`` cells: padded on the right, or cut with an ellipsis."""
+    if cell_len(text) > width:
+        return set_cell_size(text, width - 1) + "…"
+    return set_cell_size(text, width)
+
+
+def fit_right(text: str, width: int) -> str:
+    """``text`` right-aligned in exactly ``width`` cells (cut with an ellipsis when too long)."""
+    n = cell_len(text)
+    return fit_left(text, width) if n >= width else " " * (width - n) + text
+
+
+class RowText(NamedTuple):
+    """What one row shows, as plain strings (chemical names like ``K[+]`` are never markup)."""
+
+    name: str
+    amount: str
+    numbers: str  # molality and share percent
+    bar: str
+    emphasis: bool  # amounts the user set are bold
+
+
+def row_text(c: ComponentResult, name_width: int = 30) -> RowText:
+    """The cells of one component row, each padded to its column width."""
     mark = _ORIGIN_MARK.get(c.origin, " ") + ("!" if c.hazard else " ")
-    name = Text(mark + c.name, style="" if c.origin == "base" else "bold")
-    name.truncate(name_width, overflow="ellipsis", pad=True)
-    amount = Text(" " + c.amount, justify="right", style="" if c.origin == "base" else "bold")
-    share = Text(f" {100 * c.share:4.1f}% ", justify="left")
-    share.append(share_bar(c.share), style="bold")
-    return {"name": name, "amount": amount, "molality": Text(" " + molality_text(c.molality_mmol_per_kg), justify="right"),
-            "share": share}
+    numbers = (fit_right(" " + molality_text(c.molality_mmol_per_kg), FIXED_WIDTHS["molality"])
+               + f"{100 * c.share:5.1f}% ")
+    return RowText(fit_left(mark + c.name, name_width), fit_right(" " + c.amount, FIXED_WIDTHS["amount"]),
+                   numbers, share_bar(c.share), c.origin != "base")
 
 
-class RecipeTable(DataTable):
-    """One row per component (row key = component id); cells re-rendered by row and column keys."""
+def header_text(name_width: int) -> str:
+    return fit_left("  " + COLUMNS[0][1], name_width) + "".join(
+        fit_right(" " + label, FIXED_WIDTHS[key]) for key, label in COLUMNS[1:])
 
-    DEFAULT_CSS = ""
+
+class RecipeTable(ScrollView, can_focus=True):
+    """One row per component, a fixed header line, a row cursor; no sideways scrolling."""
+
+    BINDINGS: ClassVar[list[BindingType]] = [
+        Binding("enter", "select_cursor", "Select", show=False),
+        Binding("up", "cursor_up", "Cursor up", show=False),
+        Binding("down", "cursor_down", "Cursor down", show=False),
+        Binding("pageup", "page_up", "Page up", show=False),
+        Binding("pagedown", "page_down", "Page down", show=False),
+        Binding("home,ctrl+home", "first", "First row", show=False),
+        Binding("end,ctrl+end", "last", "Last row", show=False),
+    ]
+
+    COMPONENT_CLASSES: ClassVar[set[str]] = {
+        "recipe-table--header",
+        "recipe-table--cursor",
+        "recipe-table--even-row",
+        "recipe-table--odd-row",
+    }
+
+    DEFAULT_CSS = """
+    RecipeTable {
+        background: $surface;
+        color: $foreground;
+        overflow-x: hidden;
+        overflow-y: auto;
+        &:focus {
+            background-tint: $foreground 5%;
+            & > .recipe-table--cursor {
+                background: $block-cursor-background;
+                color: $block-cursor-foreground;
+                text-style: $block-cursor-text-style;
+            }
+            & > .recipe-table--header {
+                background-tint: $foreground 5%;
+            }
+        }
+        &:dark > .recipe-table--even-row {
+            background: $surface-darken-1 40%;
+        }
+        & > .recipe-table--header {
+            text-style: bold;
+            background: $panel;
+            color: $foreground;
+        }
+        &:ansi > .recipe-table--header {
+            background: ansi_bright_blue;
+            color: ansi_default;
+        }
+        & > .recipe-table--even-row {
+            background: $surface-lighten-1 50%;
+        }
+        & > .recipe-table--cursor {
+            background: $block-cursor-blurred-background;
+            color: $block-cursor-blurred-foreground;
+            text-style: $block-cursor-blurred-text-style;
+        }
+    }
+    """
+
+    @dataclass
+    class RowHighlighted(Message):
+        """The cursor moved to another row (or the rows under it changed)."""
+
+        table: RecipeTable
+        cursor_row: int
+        component_id: str | None
+
+        @property
+        def control(self) -> RecipeTable:
+            return self.table
+
+    @dataclass
+    class RowSelected(Message):
+        """Enter, or a click on the row under the cursor: edit this component."""
+
+        table: RecipeTable
+        cursor_row: int
+        component_id: str
+
+        @property
+        def control(self) -> RecipeTable:
+            return self.table
 
     def __init__(self, **kw) -> None:
-        super().__init__(cursor_type="row", zebra_stripes=True, cell_padding=0, **kw)
+        super().__init__(**kw)
         self._ids: list[str] = []
+        self._rows: list[RowText] = []
         self._evaluation: Evaluation | None = None
-        self._shown: dict[tuple[str, str], tuple[str, object]] = {}  # what each cell shows now
+        self.cursor_row = 0
         self.name_width = 30
+        self._highlighted: tuple[int, str | None] = (0, None)  # last announced (row, id)
+        self._strips: dict[tuple, Strip] = {}
+        self._strip_basis: tuple = ()  # (width, styles) the cached strips were made for
+        self._styles: dict[tuple[int, bool], tuple[Style, Style]] = {}
+        self._header_style = Style()
 
-    def on_mount(self) -> None:
-        self._add_columns()
-
-    def _add_columns(self) -> None:
-        for key, label in COLUMNS:
-            head = Text((" " + label).rjust(FIXED_WIDTHS.get(key, 0)) if key != "name" else "  " + label)
-            self.add_column(head, key=key, width=FIXED_WIDTHS.get(key, self.name_width))
-
-    def on_resize(self) -> None:
-        """Give the name column whatever the other columns leave (no sideways scrolling)."""
-        rest = sum(FIXED_WIDTHS.values()) + 1  # + vertical scrollbar
-        width = max(12, self.scrollable_content_region.width - rest)
-        if width != self.name_width:
-            self.name_width = width
-            self.clear(columns=True)  # rebuild the columns and rows at the new width
-            self._add_columns()
-            self._ids = []
-            self.show(self._evaluation)
-
+    # ---- data ---------------------------------------------------------------------------
     @property
     def selected_id(self) -> str | None:
-        if not self._ids or self.cursor_row < 0 or self.cursor_row >= len(self._ids):
-            return None
-        return self._ids[self.cursor_row]
+        if 0 <= self.cursor_row < len(self._ids):
+            return self._ids[self.cursor_row]
+        return None
 
     def show(self, ev: Evaluation | None) -> None:
-        """Show an evaluation: update cells in place when the rows are the same, else rebuild."""
+        """Show an evaluation; only rows whose text changed are repainted."""
         self._evaluation = ev
         comps = ev.components if ev else []
         ids = [c.id for c in comps]
+        rows = [row_text(c, self.name_width) for c in comps]
         if ids == self._ids:
-            for c in comps:
-                for col, cell in row_cells(c, self.name_width).items():
-                    key = (c.id, col)
-                    if self._shown.get(key) != (cell.plain, cell.style):
-                        self._shown[key] = (cell.plain, cell.style)
-                        self.update_cell(c.id, col, cell)
+            changed = [i for i, (old, new) in enumerate(zip(self._rows, rows, strict=True)) if old != new]
+            self._rows = rows
+            if changed:  # one region from the first to the last changed row (line 0 is the header)
+                self.refresh_lines(changed[0] + 1, changed[-1] - changed[0] + 1)
             return
         keep = self.selected_id
-        self.clear()
-        self._ids = ids
-        self._shown = {}
-        for c in comps:
-            cells = row_cells(c, self.name_width)
-            self._shown.update({(c.id, k): (v.plain, v.style) for k, v in cells.items()})
-            self.add_row(*(cells[k] for k, _ in COLUMNS), key=c.id)
-        if keep in ids:
-            self.move_cursor(row=ids.index(keep))
+        self._ids, self._rows = ids, rows
+        self.virtual_size = Size(self.name_width + sum(FIXED_WIDTHS.values()), len(rows) + 1)
+        self.cursor_row = ids.index(keep) if keep in ids else min(self.cursor_row, max(len(ids) - 1, 0))
+        self.refresh()
+        self._cursor_moved()
 
     def select_id(self, component_id: str) -> None:
         if component_id in self._ids:
-            self.move_cursor(row=self._ids.index(component_id))
+            self.move_cursor(self._ids.index(component_id))
+
+    def move_cursor(self, row: int, *, scroll: bool = True) -> None:
+        """Put the cursor on ``row`` (clamped to the rows there are) and scroll it into view."""
+        row = max(0, min(row, len(self._ids) - 1))
+        if row != self.cursor_row:
+            self.refresh_line(self.cursor_row + 1)
+            self.refresh_line(row + 1)
+            self.cursor_row = row
+        if scroll:
+            self._scroll_to_cursor()
+        self._cursor_moved()
+
+    def _cursor_moved(self) -> None:
+        now = (self.cursor_row, self.selected_id)
+        if now != self._highlighted:
+            self._highlighted = now
+            self.post_message(self.RowHighlighted(self, *now))
+
+    @property
+    def _page(self) -> int:
+        """Rows that fit below the header."""
+        return max(1, self.scrollable_content_region.height - 1)
+
+    def _scroll_to_cursor(self) -> None:
+        top = round(self.scroll_y)
+        if self.cursor_row < top:
+            self.scroll_to(y=self.cursor_row, animate=False)
+        elif self.cursor_row >= top + self._page:
+            self.scroll_to(y=self.cursor_row - self._page + 1, animate=False)
+
+    def on_resize(self) -> None:
+        """Give the name column whatever the other columns leave (no sideways scrolling)."""
+        rest = sum(FIXED_WIDTHS.values()) + 1  # the last column is kept for the vertical scrollbar
+        width = max(12, self.size.width - rest)
+        if width != self.name_width:
+            self.name_width = width
+            self._ids = []  # re-cut every name at the new width
+            self.show(self._evaluation)
+        self._scroll_to_cursor()
+
+    # ---- keys and mouse ---------------------------------------------------------------------
+    def action_cursor_up(self) -> None:
+        self.move_cursor(self.cursor_row - 1)
+
+    def action_cursor_down(self) -> None:
+        self.move_cursor(self.cursor_row + 1)
+
+    def action_page_up(self) -> None:
+        self._page_by(-self._page)
+
+    def action_page_down(self) -> None:
+        self._page_by(self._page)
+
+    def _page_by(self, rows: int) -> None:
+        """Scroll a page and move the cursor as far, so it keeps its place on the screen."""
+        self.scroll_to(y=round(self.scroll_y) + rows, animate=False)
+        self.move_cursor(self.cursor_row + rows)
+
+    def action_first(self) -> None:
+        self.move_cursor(0)
+
+    def action_last(self) -> None:
+        self.move_cursor(len(self._ids) - 1)
+
+    def action_select_cursor(self) -> None:
+        if (cid := self.selected_id) is not None:
+            self.post_message(self.RowSelected(self, self.cursor_row, cid))
+
+    def on_click(self, event: events.Click) -> None:
+        """A click moves the cursor to the row; a click on the cursor's row selects it."""
+        offset = event.get_content_offset(self)
+        if offset is None or offset.y < 1:
+            return
+        row = round(self.scroll_y) + offset.y - 1
+        if row >= len(self._ids):
+            return
+        event.stop()
+        if row == self.cursor_row:
+            self.action_select_cursor()
+        else:
+            self.move_cursor(row)
+
+    # ---- rendering ------------------------------------------------------------------------
+    def render_lines(self, crop: Region) -> list[Strip]:
+        """Take the row styles from the component classes once per render."""
+        get = self.get_component_rich_style
+        base = self.rich_style
+        parity = {0: get("recipe-table--even-row"), 1: get("recipe-table--odd-row")}
+        cursor = get("recipe-table--cursor")
+        bold = Style(bold=True)
+        styles = {}
+        for p, row_style in parity.items():
+            for on in (False, True):
+                s = row_style + cursor if on else row_style
+                styles[p, on] = (s, s + bold)
+        basis = (self.size.width, base, tuple(styles.values()), get("recipe-table--header"))
+        if basis != self._strip_basis:
+            self._strip_basis, self._styles, self._header_style = basis, styles, basis[-1]
+            self._strips.clear()
+        return super().render_lines(crop)
+
+    def render_line(self, y: int) -> Strip:
+        width = self.size.width
+        if y == 0:
+            return self._strip(("header", self.name_width), width)
+        i = y - 1 + round(self.scroll_y)
+        if i >= len(self._rows):
+            return Strip.blank(width, self.rich_style)
+        return self._strip((self._rows[i], i % 2, i == self.cursor_row), width)
+
+    def _strip(self, key: tuple, width: int) -> Strip:
+        strip = self._strips.get(key)
+        if strip is None:
+            if len(self._strips) > _CACHE_LIMIT:
+                self._strips.clear()
+            strip = self._strips[key] = self._build(key, width)
+        return strip
+
+    def _build(self, key: tuple, width: int) -> Strip:
+        if key[0] == "header":
+            style = self._header_style
+            return Strip([Segment(header_text(self.name_width), style)]).adjust_cell_length(width, style)
+        row, parity, on = key
+        plain, bold = self._styles[parity, on]
+        strong = bold if row.emphasis else plain
+        segments = [Segment(row.name, strong), Segment(row.amount, strong), Segment(row.numbers, plain),
+                    Segment(row.bar, bold)]
+        return Strip(segments).adjust_cell_length(width, plain)

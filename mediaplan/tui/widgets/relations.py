@@ -6,12 +6,12 @@ Each widget formats an Evaluation it is given; none computes anything.
 from __future__ import annotations
 
 from rich.console import Group
-from rich.table import Table
 from rich.text import Text
+from textual.content import Content
 from textual.widgets import Static
 
 from mediaplan.evaluate import Evaluation
-from mediaplan.tui.widgets.recipe_table import share_bar
+from mediaplan.tui.widgets.recipe_table import fit_left, fit_right, share_bar
 
 _TONICITY_WORD = {"hypotonic": "hypotonic ▼", "isotonic": "isotonic ●", "hypertonic": "hypertonic ▲"}
 
@@ -40,7 +40,11 @@ def figures(ev: Evaluation) -> dict[str, str]:
 
 
 class RelationsPanel(Static):
-    """Osmolality (non-ideal beside van't Hoff), a_w, potential in MPa and bar, freezing point, tonicity."""
+    """Osmolality (non-ideal beside van't Hoff), a_w, potential in MPa and bar, freezing point, tonicity.
+
+    The figures are laid out as fixed-width lines of :class:`Content` (no Rich tables): an edit
+    re-renders a handful of short lines.
+    """
 
     def __init__(self, **kw) -> None:
         super().__init__("", **kw)
@@ -58,45 +62,52 @@ class RelationsPanel(Static):
         title = "water relations" + (" · preview" if preview else "")
         if self.border_title != title:
             self.border_title = title
-        # re-layout the screen only when the panel's height can have changed (a layout is costly)
-        shape = (ev is None, bool(ev and ev.tonicity), error is not None, bool(ev and ev.base))
-        self.update(self._figures_renderable(), layout=shape != self._shape)
+        self._update()
+
+    def on_resize(self) -> None:
+        self._update()
+
+    def _update(self) -> None:
+        """Re-lay out the screen only when the panel's height can have changed (a layout is costly)."""
+        width = self.content_size.width
+        content = self._figures_content(width or 30)
+        shape = (width, content.get_height(self.styles, width)) if width else None
+        self.update(content, layout=shape is None or shape != self._shape)
         self._shape = shape
 
-    def _figures_renderable(self):
+    def _figures_content(self, width: int) -> Content:
         ev = self.evaluation
         if ev is None:
-            return Text("No figures: " + (self.error or "nothing to evaluate yet"), style="bold")
+            return Content.styled("No figures: " + (self.error or "nothing to evaluate yet"), "bold")
         f = figures(ev)
-        pair = Table.grid(padding=(0, 0), expand=True)
-        pair.add_column(ratio=1, no_wrap=True)
-        pair.add_column(justify="right", width=10)
-        pair.add_column(justify="right", width=11)
-        pair.add_row("", Text("non-ideal", style="dim"), Text("van't Hoff", style="dim"))
-        pair.add_row("mOsm/kg", Text(f["osmolality"], style="bold"), f["osmolality_ideal"])
-        pair.add_row("ψs MPa", Text(f["potential_mpa"], style="bold"), f["vant_hoff_mpa"])
-        pair.add_row("ψs bar", f["potential_bar"], f["vant_hoff_bar"])
-        single = Table.grid(padding=(0, 0), expand=True)
-        single.add_column(ratio=1, no_wrap=True)
-        single.add_column(justify="right", width=11)
-        single.add_row("water activity", f["water_activity"])
-        single.add_row("freezes at °C", f["freezing_point"])
-        parts: list = [pair, single]
+        label_w = max(width - 21, 1)
+
+        def pair(label, a, b, a_style="", b_style=""):
+            return Content.assemble(fit_left(label, label_w), (fit_right(a, 10), a_style),
+                                    (fit_right(b, 11), b_style))
+
+        def single(label, value):
+            return Content.assemble(fit_left(label, max(width - 11, 1)), fit_right(value, 11))
+
+        lines = [pair("", "non-ideal", "van't Hoff", "dim", "dim"),
+                 pair("mOsm/kg", f["osmolality"], f["osmolality_ideal"], "bold"),
+                 pair("ψs MPa", f["potential_mpa"], f["vant_hoff_mpa"], "bold"),
+                 pair("ψs bar", f["potential_bar"], f["vant_hoff_bar"]),
+                 single("water activity", f["water_activity"]),
+                 single("freezes at °C", f["freezing_point"])]
         if ev.tonicity:
             t = ev.tonicity
-            line = Text("tonicity ", style="dim")
-            line.append(_TONICITY_WORD.get(t["class"], t["class"]), style="bold")
-            line.append(f"  {f['tonicity_ratio']} × cells ({t['reference_mosmol_per_kg']:.0f} mOsm/kg)")
-            parts += [line, Text(t["water_flow"], style="italic")]
+            ratio = f"  {f['tonicity_ratio']} × cells ({t['reference_mosmol_per_kg']:.0f} mOsm/kg)"
+            word = _TONICITY_WORD.get(t["class"], t["class"])
+            lines.append(Content.assemble(("tonicity ", "dim"), (word, "dim bold"), (ratio, "dim")))
+            lines.append(Content.styled(t["water_flow"], "italic"))
         else:
-            parts.append(Text("tonicity: no cells set (c)", style="dim"))
-        meta = Text(f"{ev.temperature_c:.1f} °C · {ev.volume_l:g} L", style="dim")
-        if ev.base:
-            meta.append(f" · {ev.base} × {ev.strength:g}")
-        parts.append(meta)
+            lines.append(Content.styled("tonicity: no cells set (c)", "dim"))
+        meta = f"{ev.temperature_c:.1f} °C · {ev.volume_l:g} L"
+        lines.append(Content.styled(meta + (f" · {ev.base} × {ev.strength:g}" if ev.base else ""), "dim"))
         if self.error:
-            parts.append(Text(self.error, style="bold"))
-        return Group(*parts)
+            lines.append(Content.styled(self.error, "bold"))
+        return Content("\n").join(lines)
 
 
 def first_sentence(text: str) -> str:
@@ -158,24 +169,22 @@ class GroupChart(Static):
         rows_before = len(chart_rows(self.groups)) if self.groups else 0
         self.groups = dict(ev.groups) if ev else {}
         rows_now = len(chart_rows(self.groups)) if self.groups else 0
-        self.update(self._chart_renderable(), layout=rows_now != rows_before)
+        self.update(self._chart_content(), layout=rows_now != rows_before)
 
     def on_resize(self) -> None:
-        self.update(self._chart_renderable())
+        self.update(self._chart_content())
 
-    def _chart_renderable(self):
+    def _chart_content(self) -> Content:
         if not self.groups:
-            return Text("no solutes yet", style="dim")
+            return Content.styled("no solutes yet", "dim")
         total = sum(self.groups.values()) or 1.0
-        label_w = max(len(k) for k, _ in chart_rows(self.groups))
+        rows = chart_rows(self.groups)
+        label_w = max(len(k) for k, _ in rows)
         width = max(self.content_size.width, 30)
         bar_w = max(width - label_w - 18, 4)
-        out = Text(no_wrap=True, overflow="ellipsis")
-        for i, (k, v) in enumerate(chart_rows(self.groups)):
-            if i:
-                out.append("\n")
+        lines = []
+        for k, v in rows:
             frac = v / total
-            out.append(f"{k:<{label_w}} ")
-            out.append(share_bar(frac, bar_w), style="bold")
-            out.append(f" {v:6.1f} {100 * frac:4.0f}%")
-        return out
+            lines.append(Content.assemble(f"{k:<{label_w}} ", (share_bar(frac, bar_w), "bold"),
+                                          f" {v:6.1f} {100 * frac:4.0f}%"))
+        return Content("\n").join(lines)
