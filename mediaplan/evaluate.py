@@ -247,7 +247,6 @@ def classify_tonicity(effective_mosmol: float, reference_mosmol: float, toleranc
 
 def _warnings(recipe: Recipe, catalog: Catalog, lines: list[Line], model, st, ev: Evaluation) -> list[Warning_]:
     out: list[Warning_] = []
-    y = ev.osmolality_mosmol_per_kg / 1000.0
     T = recipe.temperature_k
     species_m = st.species_m[0]
     # neutral solutes past their validity range

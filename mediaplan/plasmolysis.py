@@ -788,7 +788,7 @@ def fit_glm(x, y, n, link: str = "logit", *, max_iter: int = 100, tol: float = 1
     coef = np.zeros(2)
     converged = False
     it = 0
-    for it in range(1, max_iter + 1):
+    for it in range(1, max_iter + 1):  # noqa: B007 - the count is reported
         mu, q, d = _mu_and_derivative(eta, link)
         var = np.maximum(mu * q, 1e-300)
         w = n * d * d / var

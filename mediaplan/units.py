@@ -18,7 +18,6 @@ import pint
 from mediaplan.errors import AmountError
 
 
-
 def _make_registry() -> pint.UnitRegistry:
     """The registry, with pint's parsed definitions cached on disk (start-up 0.3 s -> 0.02 s); any trouble
     with the cache folder falls back to parsing the definitions afresh."""

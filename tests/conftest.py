@@ -20,9 +20,7 @@ def _isolate_user_files(tmp_path_factory, monkeypatch):
 
 @pytest.fixture(scope="session")
 def catalog():
-    from mediaplan.catalog import load_catalog
-
-    from mediaplan.catalog import BUNDLED_DIR
+    from mediaplan.catalog import BUNDLED_DIR, load_catalog
 
     return load_catalog([BUNDLED_DIR])
 

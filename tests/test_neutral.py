@@ -222,7 +222,7 @@ def test_bad_inputs():
 # ---------------------------------------------------------------------------------------------
 
 def test_catalog_has_required_species_with_sources():
-    assert REQUIRED_IDS <= set(PARAMS)
+    assert set(PARAMS) >= REQUIRED_IDS
     for sid, p in PARAMS.items():
         assert p.species == sid
         assert p.source and p.source.strip()

@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from mediaplan.thermo.constants import M_WATER, R, T0
+from mediaplan.thermo.constants import M_WATER, T0, R
 from mediaplan.thermo.peg import (
     PEG_VALIDITY,
     peg_concentration_at_osmolality,

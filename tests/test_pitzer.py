@@ -520,7 +520,7 @@ PPB84_NACL_T = {
     0: [0.932, 0.912, 0.917, 0.951], 10: [0.933, 0.917, 0.927, 0.968], 20: [0.933, 0.921, 0.934, 0.979],
     30: [0.932, 0.923, 0.938, 0.987], 40: [0.932, 0.924, 0.941, 0.992],
 }
-PPB84_CASES = [(t, m, phi) for t, row in PPB84_NACL_T.items() for m, phi in zip((0.1, 0.5, 1.0, 2.0), row)]
+PPB84_CASES = [(t, m, phi) for t, row in PPB84_NACL_T.items() for m, phi in zip((0.1, 0.5, 1.0, 2.0), row, strict=True)]
 
 
 @pytest.mark.parametrize(("t", "m", "phi_ref"), PPB84_CASES, ids=[f"PPB84-NaCl-{t}C-{m}m" for t, m, _ in PPB84_CASES])

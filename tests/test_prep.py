@@ -11,7 +11,12 @@ from hypothesis import strategies as st
 from mediaplan.cli import main
 from mediaplan.errors import AmountError
 from mediaplan.prep import (
-    PGR_STOCK_MAX_G_PER_L, SOLUBILITY_MARGIN, build_sheet, format_mass, round_mass, substock_for,
+    PGR_STOCK_MAX_G_PER_L,
+    SOLUBILITY_MARGIN,
+    build_sheet,
+    format_mass,
+    round_mass,
+    substock_for,
 )
 from mediaplan.recipe import Recipe
 

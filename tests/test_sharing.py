@@ -12,7 +12,12 @@ from mediaplan.errors import CatalogError
 from mediaplan.planfile import Plan
 from mediaplan.recipe import Recipe
 from mediaplan.sharing import (
-    EmbeddedConflictError, canonical_digest, catalog_for, compare_provenance, embedded_entry, provenance_of,
+    EmbeddedConflictError,
+    canonical_digest,
+    catalog_for,
+    compare_provenance,
+    embedded_entry,
+    provenance_of,
     read_plan,
 )
 

@@ -15,7 +15,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from mediaplan import cli, planfile
-from mediaplan.catalog import BUNDLED_DIR, load_catalog
+from mediaplan.catalog import load_catalog
 from mediaplan.errors import ConflictError, MediaplanError, PlanFileError
 from mediaplan.planfile import Plan
 from mediaplan.recipe import Recipe

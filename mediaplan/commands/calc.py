@@ -125,7 +125,6 @@ def write_output(text: str, path: str | None) -> None:
 def run(args) -> int:
     from mediaplan.evaluate import evaluate
     from mediaplan.report import evaluation_text
-
     from mediaplan.sharing import compare_provenance, shadow_notes
 
     catalog = catalog_from(args)

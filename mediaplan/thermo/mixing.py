@@ -22,7 +22,6 @@ Clegg SL, Seinfeld JH (2004) J Phys Chem A 108:1008 (ZSR with a mixed-electrolyt
 from __future__ import annotations
 
 import math
-
 from collections.abc import Sequence
 from dataclasses import dataclass
 

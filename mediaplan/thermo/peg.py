@@ -27,7 +27,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from mediaplan.thermo.constants import R, T0
+from mediaplan.thermo.constants import T0, R
 from mediaplan.thermo.water import density
 
 #: 1 bar [Pa]

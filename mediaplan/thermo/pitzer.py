@@ -576,7 +576,7 @@ class PitzerSystem:
             return self._mflat
         T = float(T)
         last_T, last = self._mflat_cache          # one tuple, replaced atomically: thread-safe
-        if T == last_T:
+        if last_T == T:
             return last
         f = temperature_basis(T)
         mflat = self._mflat + np.tensordot(f, self._dflat, axes=1)
@@ -586,7 +586,7 @@ class PitzerSystem:
     def _a_phi_scalar(self, T: float) -> float:
         T = float(T)
         last_T, last_A = self._last           # one tuple, replaced atomically: safe across worker threads
-        if T != last_T:
+        if last_T != T:
             last_A = float(a_phi(T, self._a_coeffs))
             self._last = (T, last_A)
         return last_A
@@ -617,4 +617,4 @@ class PitzerSystem:
             raise ValueError("max_molality_exceeded takes one composition (1-D array)")
         I = float(m @ self._z2h)
         return [(self.ions[i], self.ions[j]) for i, j, imax in self._pairs
-                if m[i] > 0 and m[j] > 0 and I > imax]
+                if m[i] > 0 and m[j] > 0 and imax < I]

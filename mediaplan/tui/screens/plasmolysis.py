@@ -22,7 +22,13 @@ from textual.widgets import DataTable, Footer, Input, Label, Static
 from textual.worker import Worker, WorkerState
 
 from mediaplan.errors import AmountError, MediaplanError
-from mediaplan.tui.widgets.fields import FieldMessage, ParsedValidator, TargetValidator, report, validated_value
+from mediaplan.tui.widgets.fields import (
+    FieldMessage,
+    ParsedValidator,
+    TargetValidator,
+    report,
+    validated_value,
+)
 
 LEVEL_COLUMNS = (("level", "#"), ("psi", "ψ MPa"), ("osm", "mOsm/kg"), ("g", "g/batch"),
                  ("stock", "stock mL"), ("diluent", "water mL"), ("counts", "plasmolysed/total"))
@@ -158,7 +164,7 @@ class SeriesScreen(Screen):
         table = self.query_one(DataTable)
         table.clear()
         for i, lv in enumerate((self.series or {}).get("levels", [])):
-            def num(key, fmt):
+            def num(key, fmt, lv=lv):
                 v = lv.get(key)
                 return fmt.format(v) if isinstance(v, (int, float)) else "–"
             table.add_row(str(lv.get("level", i + 1)), num("water_potential_mpa", "{:.3f}"),
