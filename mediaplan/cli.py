@@ -57,6 +57,10 @@ def build_parser() -> argparse.ArgumentParser:
 def main(argv: list[str] | None = None) -> int:
     from mediaplan.errors import MediaplanError
 
+    raw = sys.argv[1:] if argv is None else argv
+    if any("\x00" in a for a in raw):
+        print("mediaplan: an argument contains a NUL character (remove it)", file=sys.stderr)
+        return 2
     args = build_parser().parse_args(argv)
     try:
         if args.command is None:

@@ -238,6 +238,8 @@ def read(path: str | Path, *, catalog: Catalog | None = None) -> Plan:
         raise PlanFileError("is a folder, not a plan file", file=str(p)) from None
     except OSError as exc:
         raise PlanFileError(f"cannot read ({exc.strerror})", file=str(p)) from None
+    except ValueError:  # e.g. a NUL character in the name
+        raise PlanFileError("not a usable file name", file=repr(str(p)), hint="check the path") from None
     try:
         text = raw.decode("utf-8")
     except UnicodeDecodeError:

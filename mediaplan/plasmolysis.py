@@ -538,6 +538,8 @@ def read_counts_csv(path: str | Path, *, osmoticum: str | None = None, backgroun
         raise FitError("not UTF-8 text", file=file, hint="save the counts as CSV (UTF-8)") from None
     except OSError as exc:
         raise FitError(f"cannot read ({exc.strerror})", file=file) from None
+    except ValueError:
+        raise FitError("not a usable file name", file=repr(file), hint="check the path") from None
     rows: list[tuple[int, list[str]]] = []
     for lineno, raw in enumerate(text.splitlines(), start=1):
         if not raw.strip() or raw.lstrip().startswith("#"):
