@@ -494,5 +494,8 @@ def test_row_text_is_plain_and_fits_its_columns(catalog):
     assert row.name == "+!K[+] [bold]not ma…"  # brackets kept as typed, cut with an ellipsis
     assert len(row.amount) == FIXED_WIDTHS["amount"] and row.amount.endswith("30 g/L")
     assert len(row.numbers) + len(row.bar) == FIXED_WIDTHS["molality"] + FIXED_WIDTHS["share"]
-    assert "100.0%" in row.numbers and row.bar == "████"  # the only solute holds the whole share
+    assert row.numbers.endswith("  100% ") and row.bar == "████"  # the only solute holds the whole share
+    # a large molality and a full share stay apart (0.5 M mannitol: 533 mmol/kg, 100 %)
+    big = evaluate(Recipe().with_amount("mannitol", "0.5 M"), catalog).components[0]
+    assert row_text(big).numbers.split() == ["533", "100%"]
     assert len(header_text(20)) == 20 + sum(FIXED_WIDTHS.values())

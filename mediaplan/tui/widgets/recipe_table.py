@@ -75,8 +75,9 @@ class RowText(NamedTuple):
 def row_text(c: ComponentResult, name_width: int = 30) -> RowText:
     """The cells of one component row, each padded to its column width."""
     mark = _ORIGIN_MARK.get(c.origin, " ") + ("!" if c.hazard else " ")
-    numbers = (fit_right(" " + molality_text(c.molality_mmol_per_kg), FIXED_WIDTHS["molality"])
-               + f"{100 * c.share:5.1f}% ")
+    pct = 100 * c.share
+    share = f" {pct:4.1f}% " if round(pct, 1) < 100 else "  100% "  # always 7 cells
+    numbers = fit_right(" " + molality_text(c.molality_mmol_per_kg), FIXED_WIDTHS["molality"]) + share
     return RowText(fit_left(mark + c.name, name_width), fit_right(" " + c.amount, FIXED_WIDTHS["amount"]),
                    numbers, share_bar(c.share), c.origin != "base")
 
