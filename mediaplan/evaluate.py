@@ -294,7 +294,7 @@ def _warnings(recipe: Recipe, catalog: Catalog, lines: list[Line], model, st, ev
             ions_present = [model.species[k] for k in model.ion_idx if species_m[k] > 0]
             cats = [i for i in ions_present if parse_species(i).charge > 0]
             ans = [i for i in ions_present if parse_species(i).charge < 0]
-            total_w = sum(m_ion(c) * m_ion(a) for c in cats for a in ans)
+            total_w = sum(m_ion(c) for c in cats) * sum(m_ion(a) for a in ans)
             miss_w = sum(m_ion(c) * m_ion(a) for c, a in miss)
             frac = miss_w / total_w if total_w > 0 else 0.0
             def short(ion):

@@ -64,7 +64,8 @@ class MixtureResult:
     osmolality : [osmol/kg] = -ln(a_w)/M_w of the mixture
     ideal : [osmol/kg] the van't Hoff sum of molalities (PEG counted by its number-average moles)
     electrolyte_phi : Pitzer osmotic coefficient of the electrolyte group at the ZSR state (1 if none)
-    electrolyte_phi_own : Pitzer osmotic coefficient at the medium's own ion molalities
+    electrolyte_phi_own : Pitzer osmotic coefficient at the medium's own ion molalities (NaN after a warm
+        start, which does not need it)
     fraction_electrolyte, fraction_neutral, fraction_peg : each group's share of the osmolality
     """
 
@@ -217,19 +218,32 @@ def _zsr_one(inp: MixtureInput, start: tuple | None = None) -> MixtureResult:
         im = np.asarray(inp.ion_m, dtype=float).reshape(-1)
     M_e = float(im.sum()) if im is not None else 0.0
     has_e = M_e > 0
-    phi_own = float(inp.pitzer.osmotic_coefficient(im, T)) if im is not None else 1.0
+    warm = start is not None and start[0] > 0
+    if im is None:
+        phi_own = 1.0
+    elif warm and has_e:
+        phi_own = math.nan  # not needed to restart from a solved state (see MixtureResult.electrolyte_phi_own)
+    else:
+        phi_own = float(inp.pitzer.osmotic_coefficient(im, T))
     nm = np.asarray(inp.neutral_m, dtype=float).reshape(-1) if len(inp.neutral) else np.zeros(0)
     pc = np.asarray(inp.peg_c, dtype=float).reshape(-1) if len(inp.peg_grades) else np.zeros(0)
     Mw = M_WATER
     # neutral groups: (index, m, K); Norrish O(x) = (ln(1+u) + K (u/(1+u))^2)/Mw, u = Mw x
-    groups = []
+    # solutes with the same binary model form one ZSR group (sum m / x(y) is then exact), so the many
+    # trace organics that follow Raoult's law cost one group, not one each
+    by_model: dict[tuple, list[int]] = {}
     for j, p in enumerate(inp.neutral):
         if nm[j] > 0:
-            K = 0.0 if p.model == "ideal" else float(p.K)
-            groups.append(("n", j, float(nm[j]), K))
+            by_model.setdefault(("n", 0.0 if p.model == "ideal" else float(p.K)), []).append(j)
+    groups = []
+    members: list[list[int]] = []
+    for (kind, K), js in by_model.items():
+        groups.append((kind, js[0], float(sum(nm[j] for j in js)), K))
+        members.append(js)
     for j, g in enumerate(inp.peg_grades):
         if pc[j] > 0:
             groups.append(("p", j, float(pc[j]), g))
+            members.append([j])
 
     def binary(kind, x, K):
         if kind == "n":
@@ -239,7 +253,7 @@ def _zsr_one(inp: MixtureInput, start: tuple | None = None) -> MixtureResult:
             return (math.log1p(u) + K * xs * xs) / Mw, 1.0 / d + 2.0 * K * xs / (d * d)
         return float(_peg.peg_osmolality(x, T, K)), float(_peg.peg_osmolality_dc(x, T, K))
 
-    y = M_e * phi_own
+    y = M_e * (1.0 if math.isnan(phi_own) else phi_own)
     x = []
     for kind, _j, m, K in groups:
         o, _ = binary(kind, m, K)
@@ -252,8 +266,11 @@ def _zsr_one(inp: MixtureInput, start: tuple | None = None) -> MixtureResult:
                              np.zeros((1, len(inp.neutral))), np.zeros((1, len(inp.peg_grades))))
     x = [m * y / binary(kind, m, K)[0] for (kind, _j, m, K) in groups]
     s_c, phi_c, g_exp = 1.0, phi_own, 0.0
-    if start is not None and len(start[1]) == len(x) and start[0] > 0:
-        y, x, g_exp = start[0], list(start[1]), start[2]  # the same composition solved at another T
+    if warm and len(start[1]) == len(x):
+        # the same composition solved at another temperature: restart at its state, with phi at this T
+        y, x, g_exp, s_c = start[0], list(start[1]), start[2], start[3]
+        if has_e:
+            phi_c = float(inp.pitzer.osmotic_coefficient(im * s_c, T))
     Me = M_e if has_e else 1.0
 
     def e_scale(yv):
@@ -299,8 +316,12 @@ def _zsr_one(inp: MixtureInput, start: tuple | None = None) -> MixtureResult:
     fe = 1.0 / e_scale(y) if has_e else 0.0
     fn = np.zeros((1, len(inp.neutral)))
     fp = np.zeros((1, len(inp.peg_grades)))
-    for (kind, j, m, _K), xi in zip(groups, x, strict=True):
-        (fn if kind == "n" else fp)[0, j] = m / xi
+    for (kind, _j, _m, _K), xi, js in zip(groups, x, members, strict=True):
+        for j in js:
+            if kind == "n":
+                fn[0, j] = nm[j] / xi
+            else:
+                fp[0, j] = pc[j] / xi
     ideal = M_e + float(nm.sum()) + sum(float(pc[j]) * 1000.0 / g for j, g in enumerate(inp.peg_grades))
     return MixtureResult(np.array([y]), np.array([ideal]), np.array([phi_c]), np.array([phi_own]),
-                         np.array([fe]), fn, fp, state=(y, tuple(x), g_exp))
+                         np.array([fe]), fn, fp, state=(y, tuple(x), g_exp, s_c))
