@@ -287,20 +287,13 @@ def _warnings(recipe: Recipe, catalog: Catalog, lines: list[Line], model, st, ev
         miss = [(c, a) for c, a in missing if c in present and a in present]
         if miss:
             # weight of the cation-anion interaction terms that fall back to Debye-Hückel only
-            idx = {sp: k for k, sp in enumerate(model.species)}
-
-            def m_ion(sp):
-                return float(species_m[idx[sp]])
-            ions_present = [model.species[k] for k in model.ion_idx if species_m[k] > 0]
-            cats = [i for i in ions_present if parse_species(i).charge > 0]
-            ans = [i for i in ions_present if parse_species(i).charge < 0]
-            total_w = sum(m_ion(c) for c in cats) * sum(m_ion(a) for a in ans)
-            miss_w = sum(m_ion(c) * m_ion(a) for c, a in miss)
-            frac = miss_w / total_w if total_w > 0 else 0.0
-            def short(ion):
-                return ion.split("[")[0]
-            miss.sort(key=lambda ca: -m_ion(ca[0]) * m_ion(ca[1]))  # the weightiest pairs first
-            named = ", ".join(f"{short(c)}–{short(a)}" for c, a in miss[:3]) + (" …" if len(miss) > 3 else "")
+            m_of = {model.species[k]: float(species_m[k]) for k in model.ion_idx}
+            total_w = (sum(v for sp, v in m_of.items() if parse_species(sp).charge > 0)
+                       * sum(v for sp, v in m_of.items() if parse_species(sp).charge < 0))
+            weights = sorted(((m_of[c] * m_of[a], c, a) for c, a in miss), reverse=True)  # weightiest first
+            frac = sum(w for w, _, _ in weights) / total_w if total_w > 0 else 0.0
+            named = ", ".join(f"{c.split('[')[0]}–{a.split('[')[0]}" for _, c, a in weights[:3]) + (
+                " …" if len(weights) > 3 else "")
             out.append(Warning_("pitzer_default", f"{len(miss)} ion pair{'s' if len(miss) > 1 else ''} without Pitzer "
                                 f"parameters ({named}): Debye–Hückel term only, {100 * frac:.2g} % of the "
                                 "cation–anion interactions"))
@@ -358,8 +351,8 @@ def _warnings(recipe: Recipe, catalog: Catalog, lines: list[Line], model, st, ev
                                 f" ({100 * frac:.3g} % of the osmolality): counted as impermeant (σ = 1); solutes "
                                 "that enter the cells make the medium less hypertonic than shown"))
     if model.default_volume:
-        big = [cid for cid in model.default_volume
-               if ev.component(cid) and ev.component(cid).grams_per_litre > 10]
+        by_id = {c.id: c for c in ev.components}
+        big = [cid for cid in model.default_volume if cid in by_id and by_id[cid].grams_per_litre > 10]
         if big:
             out.append(Warning_("density_estimate", "no apparent molar volume for " + ", ".join(big) +
                                 ": estimated from a solid density of 1.5 g/cm³"))
