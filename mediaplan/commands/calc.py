@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import sys
 
+from mediaplan.cells import cell_reference, cell_tolerance
 from mediaplan.commands.common import add_recipe_arguments, catalog_from, print_json, recipe_from
 
 
@@ -27,38 +28,6 @@ def add_arguments(p) -> None:
     p.add_argument("--format", choices=("text", "md", "csv", "html"), default="text",
                    help="report format (md, csv and html include provenance and a place to sign)")
     p.add_argument("-o", "--output", metavar="FILE", help="write the report to FILE (atomic) instead of stdout")
-
-
-def cell_reference(text: str | None, plan, T: float) -> float | None:
-    """Cell reference [mOsm/kg] from --cells or the plan's [cells] table (osmolality, else potential)."""
-    from mediaplan.thermo.potential import osmolality_from_potential
-    from mediaplan.units import parse_target
-
-    field = "cells"
-    if text is None and plan is not None and plan.cells:
-        key = "osmolality" if plan.cells.get("osmolality") else "potential"
-        text, field = plan.cells.get(key), f"cells.{key}"
-    if not text:
-        return None
-    t = parse_target(str(text), field=field)
-    value = t.value * 1000.0 if t.kind == "osmolality" else float(osmolality_from_potential(t.value, T)) * 1000.0
-    if value <= 0:
-        from mediaplan.errors import AmountError
-
-        raise AmountError(f"cell reference {text!r} must be below 0 MPa or above 0 mOsm/kg", field=field)
-    return value
-
-
-def cell_tolerance(text: str | None, plan) -> float:
-    """Isotonic band [fraction] from --tolerance, the plan's [cells] tolerance, or the default 5 %."""
-    from mediaplan.evaluate import ISOTONIC_TOLERANCE
-    from mediaplan.projection import parse_fraction
-
-    if text is None and plan is not None and plan.cells and "tolerance" in plan.cells:
-        return parse_fraction(plan.cells["tolerance"], field="cells.tolerance", upper=0.5)
-    if text is None:
-        return ISOTONIC_TOLERANCE
-    return parse_fraction(text, field="--tolerance", upper=0.5)
 
 
 def projection_from(args, plan, recipe, catalog, ref: float | None, tol: float):

@@ -104,7 +104,7 @@ def _text(sol) -> str:
 
 def run(args) -> int:
     from mediaplan import planfile
-    from mediaplan.commands.calc import cell_reference, cell_tolerance
+    from mediaplan.cells import cell_reference, cell_tolerance
     from mediaplan.solve import parse_solve_target, solve_target
 
     catalog = catalog_from(args)

@@ -14,6 +14,7 @@ from pathlib import Path
 
 from mediaplan import planfile
 from mediaplan.catalog import Catalog
+from mediaplan.cells import cell_reference, cell_tolerance
 from mediaplan.errors import MediaplanError
 from mediaplan.evaluate import Evaluation, evaluate
 from mediaplan.planfile import Plan
@@ -71,17 +72,13 @@ class Session:
 
     def cell_reference_mosmol(self, recipe: Recipe | None = None) -> float | None:
         """The plan's cell reference [mOsm/kg] (from [cells] osmolality or potential), or None."""
-        from mediaplan.commands.calc import cell_reference
-
         return cell_reference(None, self.plan, (recipe or self.recipe).temperature_k)
 
     def evaluate(self, recipe: Recipe | None = None) -> Outcome:
         """Evaluate the plan's recipe (or a tentative one); never raises."""
         recipe = recipe or self.recipe
-        tol = 0.05
         try:
-            if self.plan.cells and "tolerance" in self.plan.cells:
-                tol = float(self.plan.cells["tolerance"])
+            tol = cell_tolerance(None, self.plan)
             ev = evaluate(recipe, self.catalog, cell_reference_mosmol=self.cell_reference_mosmol(recipe),
                           isotonic_tolerance=tol)
         except MediaplanError as exc:
