@@ -12,10 +12,10 @@ import time
 
 import numpy as np
 
-from mediaplan.catalog import get_catalog
-from mediaplan.evaluate import evaluate
-from mediaplan.model import compiled
-from mediaplan.recipe import Recipe
+from mediaplan.files.catalog import get_catalog
+from mediaplan.medium.evaluate import evaluate
+from mediaplan.medium.model import compiled
+from mediaplan.medium.recipe import Recipe
 
 
 def median_time(fn, repeat: int = 7, number: int = 50) -> float:
@@ -50,7 +50,7 @@ def main() -> None:
     comps = [ln.component for ln in sweep.lines(cat)] + [cat.components["mannitol"]]
     model = compiled(cat, comps, 298.15)
     base_n, base_b = model.amounts_to_arrays(
-        [ln.amount for ln in sweep.lines(cat)] + [__import__("mediaplan.units", fromlist=["x"]).parse_amount("0 g/L")])
+        [ln.amount for ln in sweep.lines(cat)] + [__import__("mediaplan.medium.units", fromlist=["x"]).parse_amount("0 g/L")])
     k = 316
     mann = np.linspace(0, 100, k) / (cat.components["mannitol"].molar_mass / 1000) / 1000  # g/L -> mol/m3
     sucr = np.linspace(0, 60, k) / (cat.components["sucrose"].molar_mass / 1000) / 1000

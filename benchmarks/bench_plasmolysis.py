@@ -10,10 +10,10 @@ import time
 
 import numpy as np
 
-from mediaplan.catalog import get_catalog
-from mediaplan.evaluate import evaluate
-from mediaplan.plasmolysis import Counts, design_series, fit_counts, inverse_link, potentials_between
-from mediaplan.recipe import Recipe
+from mediaplan.files.catalog import get_catalog
+from mediaplan.medium.evaluate import evaluate
+from mediaplan.tasks.plasmolysis import Counts, design_series, fit_counts, inverse_link, potentials_between
+from mediaplan.medium.recipe import Recipe
 
 
 def median_ms(fn, repeat: int = 7) -> float:

@@ -13,10 +13,10 @@ from __future__ import annotations
 
 from bench_engine import median_time  # same folder: run as python benchmarks/bench_solve.py
 
-from mediaplan.catalog import get_catalog
-from mediaplan.evaluate import evaluate
-from mediaplan.recipe import Recipe
-from mediaplan.solve import solve_target
+from mediaplan.files.catalog import get_catalog
+from mediaplan.medium.evaluate import evaluate
+from mediaplan.medium.recipe import Recipe
+from mediaplan.tasks.solve import solve_target
 
 EXTRA = [("sucrose", "30 g/L"), ("bap", "1 mg/L"), ("naa", "0.1 mg/L"), ("kinetin", "0.5 mg/L"),
          ("gibberellic_acid", "0.1 mg/L"), ("l_glutamine", "200 mg/L"), ("l_proline", "100 mg/L"),

@@ -43,7 +43,7 @@ agar = "7 g/L"
 
 
 def cold_starts(plan: Path, n: int, env: dict) -> list[float]:
-    code = ("import sys; from mediaplan.cli import main; "
+    code = ("import sys; from mediaplan.cli.main import main; "
             f"sys.exit(main(['open', {str(plan)!r}, '--no-recovery']))")
     times = []
     for _ in range(n):
@@ -55,9 +55,9 @@ def cold_starts(plan: Path, n: int, env: dict) -> list[float]:
 
 
 async def edit_latencies(plan: Path, n: int) -> tuple[list[float], list[float]]:
-    from mediaplan.catalog import get_catalog
+    from mediaplan.files.catalog import get_catalog
     from mediaplan.tui.app import MediaplanApp
-    from mediaplan.tui.state import Session
+    from mediaplan.tui.session import Session
     from mediaplan.tui.widgets.recipe_table import RecipeTable
 
     app = MediaplanApp(Session.open(plan, get_catalog()), offer_recovery=False)

@@ -1,3 +1,3 @@
-from mediaplan.cli import main
+from mediaplan.cli.main import main
 
 raise SystemExit(main())

@@ -20,9 +20,9 @@ def _isolate_user_files(tmp_path_factory, monkeypatch):
 
 @pytest.fixture(scope="session")
 def catalog():
-    from mediaplan.catalog import BUNDLED_DIR, load_catalog
+    from mediaplan.files.catalog import bundled_folder, load_catalog
 
-    return load_catalog([BUNDLED_DIR])
+    return load_catalog([bundled_folder()])
 
 
 @pytest.fixture

@@ -6,7 +6,7 @@ import json
 
 import yaml
 
-from mediaplan.cli import main
+from mediaplan.cli.main import main
 
 
 def test_search_lists_id_name_formula_group(capsys):

@@ -6,7 +6,7 @@ import json
 
 import pytest
 
-from mediaplan.cli import main
+from mediaplan.cli.main import main
 
 HEAD = '[mediaplan]\nformat = "mediaplan-plan"\nversion = "1.0"\n[plan]\ntitle = "{title}"\n'
 

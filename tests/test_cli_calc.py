@@ -6,7 +6,7 @@ import json
 
 import pytest
 
-from mediaplan import cli
+from mediaplan.cli import main as cli
 
 
 def run(capsys, *argv):

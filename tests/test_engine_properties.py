@@ -8,8 +8,8 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from mediaplan.evaluate import evaluate
-from mediaplan.recipe import Recipe
+from mediaplan.medium.evaluate import evaluate
+from mediaplan.medium.recipe import Recipe
 
 SOLUTES = ["sucrose", "mannitol", "sorbitol", "glucose", "glycerol", "potassium_nitrate", "ammonium_nitrate",
            "calcium_chloride_dihydrate", "magnesium_sulfate_heptahydrate", "potassium_dihydrogen_phosphate",
@@ -102,7 +102,7 @@ def test_single_row_path_equals_batch_path(catalog, d):
     """The float fast path for one composition and the vectorised path solve the same system."""
     import numpy as np
 
-    from mediaplan.model import compiled
+    from mediaplan.medium.model import compiled
 
     r = make(d)
     lines = r.lines(catalog)

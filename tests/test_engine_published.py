@@ -7,8 +7,8 @@ from pathlib import Path
 
 import pytest
 
-from mediaplan.evaluate import evaluate
-from mediaplan.recipe import Recipe
+from mediaplan.medium.evaluate import evaluate
+from mediaplan.medium.recipe import Recipe
 
 DATA = Path(__file__).resolve().parent / "data"
 

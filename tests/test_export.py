@@ -11,12 +11,12 @@ from pathlib import Path
 
 import pytest
 
-from mediaplan.evaluate import evaluate
-from mediaplan.export import evaluation_report, prep_sheet
-from mediaplan.planfile import Plan
-from mediaplan.prep import build_sheet
-from mediaplan.recipe import Recipe
-from mediaplan.sharing import provenance_of
+from mediaplan.medium.evaluate import evaluate
+from mediaplan.views.export import evaluation_report, prep_sheet
+from mediaplan.files.planfile import Plan
+from mediaplan.tasks.prep import build_sheet
+from mediaplan.medium.recipe import Recipe
+from mediaplan.files.sharing import provenance_of
 
 CHROMIUM = Path("/usr/bin/chromium")
 DAY = datetime.date(2024, 3, 1)
@@ -61,7 +61,7 @@ def test_html_is_self_contained(demo):
 
 
 def test_unknown_format_is_one_clear_error(demo):
-    from mediaplan.errors import MediaplanError
+    from mediaplan.medium.errors import MediaplanError
 
     plan, sheet, _ = demo
     with pytest.raises(MediaplanError, match="md, csv or html"):
@@ -69,7 +69,7 @@ def test_unknown_format_is_one_clear_error(demo):
 
 
 def test_cli_writes_html_file(tmp_path, capsys):
-    from mediaplan.cli import main
+    from mediaplan.cli.main import main
 
     out = tmp_path / "sheet.html"
     assert main(["prep", "--base", "ms1962", "--volume", "1 L", "--stocks", "--format", "html",

@@ -6,10 +6,10 @@ from pathlib import Path
 
 import pytest
 
-from mediaplan import planfile
-from mediaplan.errors import ConflictError, MediaplanError, PlanFileError
-from mediaplan.planfile import Plan
-from mediaplan.recipe import Recipe
+from mediaplan.files import planfile
+from mediaplan.medium.errors import ConflictError, MediaplanError, PlanFileError
+from mediaplan.files.planfile import Plan
+from mediaplan.medium.recipe import Recipe
 
 PLANS = sorted((Path(__file__).resolve().parent.parent / "plans").glob("*.toml"))
 

@@ -10,19 +10,19 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from mediaplan import planfile
-from mediaplan.cli import main
-from mediaplan.errors import AmountError, InfeasibleError, MediaplanError
-from mediaplan.evaluate import evaluate
-from mediaplan.plasmolysis import (
+from mediaplan.files import planfile
+from mediaplan.cli.main import main
+from mediaplan.medium.errors import AmountError, InfeasibleError, MediaplanError
+from mediaplan.medium.evaluate import evaluate
+from mediaplan.files.counts import read_counts_csv
+from mediaplan.tasks.plasmolysis import (
     design_series,
     potential_of_amounts,
     potentials_around,
     potentials_between,
-    read_counts_csv,
 )
-from mediaplan.recipe import Recipe
-from mediaplan.units import parse_amount
+from mediaplan.medium.recipe import Recipe
+from mediaplan.medium.units import parse_amount
 
 ROOT = Path(__file__).resolve().parent.parent
 MPA = 1e6

@@ -12,18 +12,18 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from mediaplan import planfile
-from mediaplan.cli import main
-from mediaplan.errors import FitError, MediaplanError
-from mediaplan.plasmolysis import (
+from mediaplan.files import planfile
+from mediaplan.cli.main import main
+from mediaplan.medium.errors import FitError, MediaplanError
+from mediaplan.files.counts import read_counts_csv
+from mediaplan.tasks.plasmolysis import (
     Counts,
     fieller_interval,
     fit_counts,
     fit_glm,
     inverse_link,
-    read_counts_csv,
 )
-from mediaplan.plot import curve_points, png_bytes, svg_text
+from mediaplan.views.plot import curve_points, png_bytes, svg_text
 from mediaplan.thermo.potential import osmolality_from_potential
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -198,8 +198,8 @@ def test_comments_blank_lines_and_uncounted_levels_are_skipped(tmp_path):
 
 
 def test_concentration_columns_are_converted_with_the_model(tmp_path, catalog):
-    from mediaplan.plasmolysis import design_series, potentials_between
-    from mediaplan.recipe import Recipe
+    from mediaplan.tasks.plasmolysis import design_series, potentials_between
+    from mediaplan.medium.recipe import Recipe
 
     d = design_series(Recipe(volume="50 mL"), "mannitol", potentials_between(-0.4e6, -1.6e6, 5), catalog=catalog)
     rows = "\n".join(f"{lv.molality_mol_per_kg!r},{y},40" for lv, y in zip(d.levels, (1, 8, 20, 33, 39),

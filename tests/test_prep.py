@@ -8,9 +8,9 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from mediaplan.cli import main
-from mediaplan.errors import AmountError
-from mediaplan.prep import (
+from mediaplan.cli.main import main
+from mediaplan.medium.errors import AmountError
+from mediaplan.tasks.prep import (
     PGR_STOCK_MAX_G_PER_L,
     SOLUBILITY_MARGIN,
     build_sheet,
@@ -18,14 +18,14 @@ from mediaplan.prep import (
     round_mass,
     substock_for,
 )
-from mediaplan.recipe import Recipe
+from mediaplan.medium.recipe import Recipe
 
 
 def _media_lines():
-    from mediaplan.catalog import BUNDLED_DIR, load_catalog
+    from mediaplan.files.catalog import bundled_folder, load_catalog
 
     out = []
-    for med in sorted(load_catalog([BUNDLED_DIR]).media.values(), key=lambda m: m.id):
+    for med in sorted(load_catalog([bundled_folder()]).media.values(), key=lambda m: m.id):
         for ln in med.lines:
             if ln.amount.kind == "mass_conc":
                 out.append(pytest.param((med.id, ln.component, ln.amount.value), id=f"{med.id}-{ln.component}"))
@@ -108,7 +108,7 @@ def test_ms_stock_scheme_keeps_calcium_apart_and_below_solubility(catalog):
 
 def test_calcium_and_sulfate_in_one_stock_is_flagged(catalog):
     """CaCl2 + MgSO4 of MS at 100× would exceed the gypsum solubility product (10^-4.58, from memory)."""
-    from mediaplan.prep import _check_stock
+    from mediaplan.tasks.prep import _check_stock
 
     items = [(catalog.components["calcium_chloride_dihydrate"], 0.44),
              (catalog.components["magnesium_sulfate_heptahydrate"], 0.37)]

@@ -6,10 +6,10 @@ import json
 
 import pytest
 
-from mediaplan.cli import main
-from mediaplan.errors import AmountError
-from mediaplan.projection import ProjectionSettings, parse_fraction, project, settings_from
-from mediaplan.recipe import Recipe
+from mediaplan.cli.main import main
+from mediaplan.medium.errors import AmountError
+from mediaplan.tasks.projection import ProjectionSettings, parse_fraction, project, settings_from
+from mediaplan.medium.recipe import Recipe
 
 
 def _interp(x, x0, y0, x1, y1):

@@ -5,13 +5,13 @@ from __future__ import annotations
 import pytest
 import yaml
 
-from mediaplan import planfile
-from mediaplan.catalog import BUNDLED_DIR, load_catalog
-from mediaplan.cli import main
-from mediaplan.errors import CatalogError
-from mediaplan.planfile import Plan
-from mediaplan.recipe import Recipe
-from mediaplan.sharing import (
+from mediaplan.files import planfile
+from mediaplan.files.catalog import bundled_folder, load_catalog
+from mediaplan.cli.main import main
+from mediaplan.medium.errors import CatalogError
+from mediaplan.files.planfile import Plan
+from mediaplan.medium.recipe import Recipe
+from mediaplan.files.sharing import (
     EmbeddedConflictError,
     canonical_digest,
     catalog_for,
@@ -24,7 +24,7 @@ from mediaplan.sharing import (
 
 def _facility(tmp_path, **changes):
     """A facility folder whose ammonium_nitrate entry differs from the bundled one."""
-    data = yaml.safe_load((BUNDLED_DIR / "components" / "salts.yaml").read_text(encoding="utf-8"))
+    data = yaml.safe_load((bundled_folder() / "components" / "salts.yaml").read_text(encoding="utf-8"))
     entry = next(c for c in data["components"] if c["id"] == "ammonium_nitrate")
     entry.update(changes)
     entry["source"] = {k: "facility measurement (invented for this test)" for k in
@@ -61,7 +61,7 @@ def test_same_catalog_shows_no_difference(catalog, tmp_path):
 
 def test_another_catalog_is_told_which_entries_differ(catalog, tmp_path):
     _plan(catalog, tmp_path=tmp_path)
-    other = load_catalog([BUNDLED_DIR, _facility(tmp_path, solubility=150.0)])
+    other = load_catalog([bundled_folder(), _facility(tmp_path, solubility=150.0)])
     diffs = compare_provenance(planfile.read(tmp_path / "p.toml"), other)
     assert [(d.id, d.status) for d in diffs] == [("ammonium_nitrate", "changed")]
     assert "ours.yaml" in diffs[0].text()
@@ -77,7 +77,7 @@ def test_embedded_copy_round_trips_through_toml(catalog, tmp_path):
 def test_embedded_entry_fills_in_a_component_the_catalog_lacks(catalog, tmp_path):
     _plan(catalog, embed=True, tmp_path=tmp_path)
     bare = planfile.read(tmp_path / "p.toml")
-    smaller = load_catalog([BUNDLED_DIR])
+    smaller = load_catalog([bundled_folder()])
     del smaller.components["bap"]
     merged, notes = catalog_for(bare, smaller)
     assert "bap" in merged.components and any("bap" in n for n in notes)
@@ -86,7 +86,7 @@ def test_embedded_entry_fills_in_a_component_the_catalog_lacks(catalog, tmp_path
 
 def test_embedded_conflict_is_an_error_unless_settled(catalog, tmp_path):
     _plan(catalog, embed=True, tmp_path=tmp_path)
-    other = load_catalog([BUNDLED_DIR, _facility(tmp_path, solubility=150.0)])
+    other = load_catalog([bundled_folder(), _facility(tmp_path, solubility=150.0)])
     with pytest.raises(EmbeddedConflictError, match="ammonium_nitrate"):
         read_plan(tmp_path / "p.toml", other)
     _, cat_plan, _ = read_plan(tmp_path / "p.toml", other, trust="plan")

@@ -10,13 +10,13 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from mediaplan import planfile
-from mediaplan.cli import main
-from mediaplan.errors import AmountError, InfeasibleError, UnknownComponentError
-from mediaplan.evaluate import evaluate
-from mediaplan.recipe import Recipe
-from mediaplan.solve import TargetSpec, parse_solve_target, solve_target
-from mediaplan.units import parse_amount
+from mediaplan.files import planfile
+from mediaplan.cli.main import main
+from mediaplan.medium.errors import AmountError, InfeasibleError, UnknownComponentError
+from mediaplan.medium.evaluate import evaluate
+from mediaplan.medium.recipe import Recipe
+from mediaplan.tasks.solve import TargetSpec, parse_solve_target, solve_target
+from mediaplan.medium.units import parse_amount
 
 DATA = Path(__file__).resolve().parent / "data"
 
@@ -196,7 +196,7 @@ def test_isotonic_targets(catalog):
 def test_isotonic_with_a_permeating_solute(catalog, tmp_path):
     """A permeating solute (reflection coefficient 0.2) counts for a fifth toward the cells: the solver
     must match the effective osmolality, not the total."""
-    from mediaplan.catalog import BUNDLED_DIR, load_catalog
+    from mediaplan.files.catalog import bundled_folder, load_catalog
 
     (tmp_path / "components").mkdir()
     (tmp_path / "components" / "extra.yaml").write_text(
@@ -204,7 +204,7 @@ def test_isotonic_with_a_permeating_solute(catalog, tmp_path):
         "  - id: permeant_x\n    name: invented permeating solute\n    group: cryoprotectant\n"
         "    molar_mass: 92.094\n    species: {glycerol: 1}\n    reflection_coefficient: 0.2\n"
         "    apparent_molar_volume: 70.84\n    source: {reflection_coefficient: invented for a test}\n")
-    cat = load_catalog([BUNDLED_DIR, tmp_path])
+    cat = load_catalog([bundled_folder(), tmp_path])
     r = Recipe(base="ms1962").with_amount("sucrose", "30 g/L").with_amount("permeant_x", "0.5 mol/kg")
     sol = solve_target(r, cat, "isotonic", ["mannitol"], cell_reference_mosmol=500.0)
     ev = sol.evaluation

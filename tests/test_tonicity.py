@@ -6,10 +6,10 @@ import json
 
 import pytest
 
-from mediaplan.cli import main
-from mediaplan.errors import AmountError
-from mediaplan.evaluate import classify_tonicity, evaluate
-from mediaplan.recipe import Recipe
+from mediaplan.cli.main import main
+from mediaplan.medium.errors import AmountError
+from mediaplan.medium.evaluate import classify_tonicity, evaluate
+from mediaplan.medium.recipe import Recipe
 
 
 @pytest.mark.parametrize("eff,cls", [(450, "isotonic"), (472.5, "isotonic"), (427.5, "isotonic"),
@@ -38,7 +38,7 @@ def test_impermeant_medium_effective_equals_osmolality(catalog):
 
 def test_reflection_weights_the_share(catalog, tmp_path):
     """A solute with reflection coefficient 0 adds nothing toward the cells; with 0.5, half its share."""
-    from mediaplan.catalog import BUNDLED_DIR, load_catalog
+    from mediaplan.files.catalog import bundled_folder, load_catalog
 
     (tmp_path / "components").mkdir()
     entries = "".join(
@@ -46,7 +46,7 @@ def test_reflection_weights_the_share(catalog, tmp_path):
         f"    molar_mass: 92.094\n    species: {{glycerol: 1}}\n    reflection_coefficient: {sigma}\n"
         "    source: {reflection_coefficient: invented for a test}\n" for tag, sigma in (("zero", 0.0), ("half", 0.5)))
     (tmp_path / "components" / "x.yaml").write_text(f"description: test\nsources: {{}}\ncomponents:\n{entries}")
-    cat = load_catalog([BUNDLED_DIR, tmp_path])
+    cat = load_catalog([bundled_folder(), tmp_path])
     base = Recipe().with_amount("mannitol", "0.3 mol/kg")
     for cid, sigma in (("perm_zero", 0.0), ("perm_half", 0.5)):
         ev = evaluate(base.with_amount(cid, "0.4 mol/kg"), cat)

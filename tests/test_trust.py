@@ -14,11 +14,12 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from mediaplan import cli, planfile
-from mediaplan.catalog import load_catalog
-from mediaplan.errors import ConflictError, MediaplanError, PlanFileError
-from mediaplan.planfile import Plan
-from mediaplan.recipe import Recipe
+from mediaplan.cli import main as cli
+from mediaplan.files import planfile
+from mediaplan.files.catalog import load_catalog
+from mediaplan.medium.errors import ConflictError, MediaplanError, PlanFileError
+from mediaplan.files.planfile import Plan
+from mediaplan.medium.recipe import Recipe
 
 BAD = Path(__file__).resolve().parent / "data" / "bad"
 
@@ -50,7 +51,7 @@ def test_bad_catalog_corpus(folder, capsys):
 # ---- unexpected errors are logged, reported in one line --------------------------------------------
 def test_unexpected_error_is_logged_not_shown(monkeypatch, capsys, tmp_path):
     monkeypatch.setenv("MEDIAPLAN_STATE_DIR", str(tmp_path / "state"))
-    import mediaplan.commands.calc as calc
+    import mediaplan.cli.commands.calc as calc
 
     def boom(args):
         raise RuntimeError("simulated defect")
@@ -173,8 +174,8 @@ def test_two_processes_saving_the_same_plan(tmp_path, catalog):
     script = textwrap.dedent(f"""
         import sys, time
         from pathlib import Path
-        from mediaplan import planfile
-        from mediaplan.errors import ConflictError
+        from mediaplan.files import planfile
+        from mediaplan.medium.errors import ConflictError
         plan = planfile.read({str(p)!r})
         Path(sys.argv[2]).write_text("opened")
         while not Path(sys.argv[3]).exists():
@@ -235,7 +236,7 @@ component_keys = st.one_of(st.sampled_from(["sucrose", "KNO3", "mannitol", "CaCl
 def test_plan_parser_fuzz(catalog, data):
     import tomli_w
 
-    from mediaplan.evaluate import evaluate
+    from mediaplan.medium.evaluate import evaluate
 
     data = {k: v for k, v in data.items() if v is not None}
     try:
@@ -324,9 +325,9 @@ def test_cli_fuzz(capsys, argv):
 
 # ---- the core cannot leak UI -------------------------------------------------------------------------
 def test_core_and_domain_import_no_ui():
-    code = ("import sys; import mediaplan.thermo.mixing, mediaplan.thermo.pitzer, mediaplan.evaluate, "
-            "mediaplan.solve, mediaplan.plasmolysis, mediaplan.prep, mediaplan.planfile, mediaplan.export, "
-            "mediaplan.cli, mediaplan.commands.calc; "
+    code = ("import sys; import mediaplan.thermo.mixing, mediaplan.thermo.pitzer, mediaplan.medium.evaluate, "
+            "mediaplan.tasks.solve, mediaplan.tasks.plasmolysis, mediaplan.tasks.prep, mediaplan.files.planfile, mediaplan.views.export, "
+            "mediaplan.cli.main, mediaplan.cli.commands.calc; "
             "bad = [m for m in sys.modules if m.split('.')[0] in ('textual', 'rich')]; print(bad); "
             "sys.exit(1 if bad else 0)")
     r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)

@@ -9,17 +9,17 @@ import re
 
 import pytest
 
-from mediaplan import planfile
-from mediaplan.catalog import get_catalog
-from mediaplan.evaluate import evaluate
-from mediaplan.planfile import Plan
-from mediaplan.recipe import Recipe
+from mediaplan.files import planfile
+from mediaplan.files.catalog import get_catalog
+from mediaplan.medium.evaluate import evaluate
+from mediaplan.files.planfile import Plan
+from mediaplan.medium.recipe import Recipe
 from mediaplan.tui.app import MediaplanApp
-from mediaplan.tui.screens.amount import AmountScreen
-from mediaplan.tui.screens.files import ChoiceScreen
+from mediaplan.tui.dialogs.amount import AmountScreen
+from mediaplan.tui.dialogs.files import ChoiceScreen
 from mediaplan.tui.screens.main import MainScreen
-from mediaplan.tui.screens.picker import PickerScreen
-from mediaplan.tui.state import Session, find_recoveries
+from mediaplan.tui.dialogs.picker import PickerScreen
+from mediaplan.tui.session import Session, find_recoveries
 from mediaplan.tui.widgets.relations import RelationsPanel, figures
 
 SIZE = (100, 32)
@@ -261,7 +261,7 @@ def test_domain_modules_do_not_import_textual():
     import subprocess
     import sys
 
-    code = ("import sys, mediaplan.evaluate, mediaplan.planfile, mediaplan.tui.state; "
+    code = ("import sys, mediaplan.medium.evaluate, mediaplan.files.planfile, mediaplan.tui.session; "
             "print('textual' in sys.modules, 'rich' in sys.modules)")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout.split()
     assert out[0] == "False"
@@ -299,7 +299,7 @@ async def test_prep_sheet_is_built_in_a_worker(catalog):
 
 @run_async
 async def test_solve_a_target_and_apply(catalog):
-    from mediaplan.solve import solve_target
+    from mediaplan.tasks.solve import solve_target
     from mediaplan.tui.screens.target import TargetScreen
 
     start = Recipe(base="ms1962", strength=0.5).with_amount("sucrose", "20 g/L")
@@ -328,7 +328,7 @@ async def test_solve_a_target_and_apply(catalog):
 
 @run_async
 async def test_projection_figures_follow_the_fractions(catalog):
-    from mediaplan.projection import project, settings_from
+    from mediaplan.tasks.projection import project, settings_from
     from mediaplan.tui.screens.projection import ProjectionScreen
 
     recipe = Recipe(base="ms1962").with_amount("sucrose", "30 g/L")
@@ -357,7 +357,7 @@ async def test_projection_figures_follow_the_fractions(catalog):
 
 @run_async
 async def test_plasmolysis_series_design_counts_fit_keep(catalog):
-    from mediaplan.plasmolysis import counts_from_series, fit_counts
+    from mediaplan.tasks.plasmolysis import counts_from_series, fit_counts
     from mediaplan.tui.screens.plasmolysis import CountsScreen, SeriesScreen
 
     seen = []

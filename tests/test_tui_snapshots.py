@@ -7,11 +7,11 @@ from __future__ import annotations
 
 import pytest
 
-from mediaplan.catalog import get_catalog
-from mediaplan.planfile import Plan
-from mediaplan.recipe import Recipe
+from mediaplan.files.catalog import get_catalog
+from mediaplan.files.planfile import Plan
+from mediaplan.medium.recipe import Recipe
 from mediaplan.tui.app import MediaplanApp
-from mediaplan.tui.state import Session
+from mediaplan.tui.session import Session
 
 SIZE = (100, 32)
 

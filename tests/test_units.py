@@ -8,8 +8,8 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from mediaplan.errors import AmountError, MediaplanError
-from mediaplan.units import format_amount, parse_amount, parse_target, parse_temperature, parse_volume
+from mediaplan.medium.errors import AmountError, MediaplanError
+from mediaplan.medium.units import format_amount, parse_amount, parse_target, parse_temperature, parse_volume
 
 
 @pytest.mark.parametrize(

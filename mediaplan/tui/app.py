@@ -1,6 +1,6 @@
 """The mediaplan terminal app: compose a medium and watch its water relations change.
 
-The App owns the :class:`~mediaplan.tui.state.Session` (plan, undo history, recovery file) and the
+The App owns the :class:`~mediaplan.tui.session.Session` (plan, undo history, recovery file) and the
 file actions (open, save, save as, new, quit); the main screen owns the recipe actions.
 """
 
@@ -13,13 +13,13 @@ from textual.app import App
 from textual.theme import Theme
 from textual.timer import Timer
 
-from mediaplan.catalog import Catalog
-from mediaplan.errors import ConflictError, MediaplanError
+from mediaplan.medium.catalog import Catalog
+from mediaplan.medium.errors import ConflictError, MediaplanError
 from mediaplan.tui.actions import bindings
+from mediaplan.tui.dialogs.files import ChoiceScreen, PathScreen
 from mediaplan.tui.palette import PlanCommands
-from mediaplan.tui.screens.files import ChoiceScreen, PathScreen
 from mediaplan.tui.screens.main import MainScreen
-from mediaplan.tui.state import Session, find_recoveries, restore
+from mediaplan.tui.session import Session, find_recoveries, restore
 
 #: seconds of quiet after an edit before unsaved work is written to the recovery folder
 AUTOSAVE_DELAY = 2.0

@@ -12,9 +12,9 @@ from textual.message import Message
 from textual.screen import Screen
 from textual.widgets import Footer, Static
 
-from mediaplan.errors import MediaplanError
+from mediaplan.medium.errors import MediaplanError
 from mediaplan.tui.actions import bindings
-from mediaplan.tui.state import Outcome
+from mediaplan.tui.session import Outcome
 from mediaplan.tui.widgets.recipe_table import RecipeTable
 from mediaplan.tui.widgets.relations import GroupChart, NotesPanel, RelationsPanel, figures
 
@@ -174,7 +174,7 @@ class MainScreen(Screen):
         self.app.schedule_autosave()
 
     def action_add_component(self, query: str = "") -> None:
-        from mediaplan.tui.screens.picker import PickerScreen
+        from mediaplan.tui.dialogs.picker import PickerScreen
 
         present = {c.id for c in (self.query_one(RelationsPanel).evaluation or _NoEv).components}
         self.app.push_screen(PickerScreen(self.session.catalog, present, query), self._picked)
@@ -197,7 +197,7 @@ class MainScreen(Screen):
             self.edit(cid, c.amount)
 
     def edit(self, component_id: str, text: str) -> None:
-        from mediaplan.tui.screens.amount import AmountScreen
+        from mediaplan.tui.dialogs.amount import AmountScreen
 
         comp = self.session.catalog.components[component_id]
         name = comp.name + (f"  {comp.formula}" if comp.formula else "")
@@ -217,7 +217,7 @@ class MainScreen(Screen):
             self._apply(self.session.remove, cid)
 
     def action_choose_base(self) -> None:
-        from mediaplan.tui.screens.base import BaseScreen
+        from mediaplan.tui.dialogs.base import BaseScreen
 
         r = self.session.recipe
 
@@ -229,7 +229,7 @@ class MainScreen(Screen):
         self.app.push_screen(BaseScreen(self.session.catalog, r.base, r.strength), done)
 
     def action_conditions(self) -> None:
-        from mediaplan.tui.screens.conditions import Conditions, ConditionsScreen
+        from mediaplan.tui.dialogs.conditions import Conditions, ConditionsScreen
 
         plan = self.session.plan
         cells = ""
@@ -246,7 +246,7 @@ class MainScreen(Screen):
     def _set_conditions(self, c) -> None:
         from dataclasses import replace
 
-        from mediaplan.units import parse_target
+        from mediaplan.medium.units import parse_target
 
         plan = self.session.plan
         cells = {k: v for k, v in (plan.cells or {}).items() if k not in ("osmolality", "potential")}

@@ -1,6 +1,6 @@
 """Plasmolysis series: design the levels, enter the counts, fit the curve and keep the cell reference.
 
-mediaplan.plasmolysis designs (worker) and fits (worker); mediaplan.plot gives the curve's points,
+mediaplan.tasks.plasmolysis designs (worker) and fits (worker); mediaplan.views.plot gives the curve's points,
 drawn here with textual-plotext. Keep writes the [series] table with its counts and, after a fit,
 the [cells] reference that the main screen's tonicity uses.
 """
@@ -21,7 +21,7 @@ from textual.screen import ModalScreen, Screen
 from textual.widgets import DataTable, Footer, Input, Label, Static
 from textual.worker import Worker, WorkerState
 
-from mediaplan.errors import AmountError, MediaplanError
+from mediaplan.medium.errors import AmountError, MediaplanError
 from mediaplan.tui.widgets.fields import (
     FieldMessage,
     ParsedValidator,
@@ -175,7 +175,7 @@ class SeriesScreen(Screen):
     # ---- design ---------------------------------------------------------------------------
     @on(Input.Submitted, "#series-controls Input")
     def action_design(self) -> None:
-        from mediaplan.units import parse_target
+        from mediaplan.medium.units import parse_target
 
         msg = self.query_one(FieldMessage)
         texts = {k: validated_value(self.query_one(f"#series-{k}", Input), msg) for k in ("from", "to")}
@@ -195,8 +195,8 @@ class SeriesScreen(Screen):
 
     @work(thread=True, exclusive=True, exit_on_error=False, group="design")
     def design(self, lo: float, hi: float, steps: int, osmoticum: str, volume: str) -> None:
-        from mediaplan.plasmolysis import design_series, potentials_between
-        from mediaplan.recipe import Recipe
+        from mediaplan.medium.recipe import Recipe
+        from mediaplan.tasks.plasmolysis import design_series, potentials_between
 
         s = self.session
         try:
@@ -242,8 +242,8 @@ class SeriesScreen(Screen):
 
     @work(thread=True, exclusive=True, exit_on_error=False, group="fit")
     def run_fit(self, series: dict, link: str) -> None:
-        from mediaplan.plasmolysis import counts_from_series, fit_counts
-        from mediaplan.plot import curve_points
+        from mediaplan.tasks.plasmolysis import counts_from_series, fit_counts
+        from mediaplan.views.plot import curve_points
 
         try:
             fit = fit_counts(counts_from_series(series, temperature_k=self.session.recipe.temperature_k), link)

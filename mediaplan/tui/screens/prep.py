@@ -1,6 +1,6 @@
 """Preparation sheet for a batch volume: weights on the shelf and, optionally, stock solutions.
 
-The sheet is built by mediaplan.prep in a worker and shown as the Markdown that mediaplan.export
+The sheet is built by mediaplan.tasks.prep in a worker and shown as the Markdown that mediaplan.views.export
 writes; ``w`` writes it next to the plan.
 """
 
@@ -18,13 +18,14 @@ from textual.screen import Screen
 from textual.widgets import Footer, Input, Label, Markdown, Static, Switch
 from textual.worker import Worker, WorkerState
 
-from mediaplan.errors import MediaplanError
+from mediaplan.medium.errors import MediaplanError
 from mediaplan.tui.widgets.fields import FieldMessage, VolumeValidator, report, validated_value
 
 
 def sheet_markdown(plan, catalog, volume: str, stocks: bool) -> str:
     """Build the sheet and format it (pure; runs in a worker thread)."""
-    from mediaplan import export, prep
+    from mediaplan.tasks import prep
+    from mediaplan.views import export
 
     sheet = prep.build_sheet(plan.recipe, catalog, volume=volume, stocks=stocks, title=plan.title)
     return export.prep_sheet(sheet, plan, "md")
@@ -101,7 +102,7 @@ class PrepScreen(Screen):
         self.query_one(Switch).toggle()
 
     def action_write(self) -> None:
-        from mediaplan.planfile import atomic_write
+        from mediaplan.files.planfile import atomic_write
 
         if not self.markdown:
             return

@@ -1,4 +1,4 @@
-"""Projections: the medium as made, after autoclaving and after weeks of culture (mediaplan.projection).
+"""Projections: the medium as made, after autoclaving and after weeks of culture (mediaplan.tasks.projection).
 
 The figures update as you type the fractions; Keep stores them in the plan's [projection] table.
 """
@@ -14,7 +14,7 @@ from textual.containers import Grid, Horizontal, Vertical
 from textual.screen import ModalScreen
 from textual.widgets import Button, Input, Label, Static
 
-from mediaplan.errors import MediaplanError
+from mediaplan.medium.errors import MediaplanError
 from mediaplan.tui.widgets.fields import FieldMessage, report
 
 #: the inputs: key in ProjectionSettings, label, placeholder
@@ -67,7 +67,7 @@ class ProjectionScreen(ModalScreen[dict | None]):
 
     @on(Input.Changed)
     def _update(self) -> None:
-        from mediaplan.projection import project, settings_from
+        from mediaplan.tasks.projection import project, settings_from
 
         raw = {k: self.query_one(f"#proj-{k}", Input).value.strip() for k, _, _ in FIELDS}
         msg = self.query_one(FieldMessage)

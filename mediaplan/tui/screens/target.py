@@ -1,6 +1,6 @@
 """Set a target (water potential, osmolality or tonicity) and apply the solver's osmoticum addition.
 
-mediaplan.solve does the work in a worker; this screen shows its Solution and, on Apply, hands the
+mediaplan.tasks.solve does the work in a worker; this screen shows its Solution and, on Apply, hands the
 new recipe back to the main screen.
 """
 
@@ -18,7 +18,7 @@ from textual.screen import ModalScreen
 from textual.widgets import Button, Input, Label, Static
 from textual.worker import Worker, WorkerState
 
-from mediaplan.errors import MediaplanError
+from mediaplan.medium.errors import MediaplanError
 from mediaplan.tui.widgets.fields import FieldMessage, ParsedValidator, validated_value
 
 
@@ -73,7 +73,7 @@ class TargetScreen(ModalScreen[Applied | None]):
         self.solution = None
 
     def compose(self) -> ComposeResult:
-        from mediaplan.solve import parse_solve_target
+        from mediaplan.tasks.solve import parse_solve_target
 
         t = self.session.plan.target or {}
         catalog = self.session.catalog
@@ -115,7 +115,7 @@ class TargetScreen(ModalScreen[Applied | None]):
 
     @work(thread=True, exclusive=True, exit_on_error=False)
     def run_solver(self, target: str, osmotica: list[str]) -> None:
-        from mediaplan.solve import solve_target
+        from mediaplan.tasks.solve import solve_target
 
         s = self.session
         try:
@@ -161,7 +161,7 @@ class TargetScreen(ModalScreen[Applied | None]):
 
 def osmotica_ids(catalog, text: str) -> list[str]:
     """Component ids of one or two comma-separated osmotica; raises UnknownComponentError/AmountError."""
-    from mediaplan.errors import AmountError
+    from mediaplan.medium.errors import AmountError
 
     names = [n.strip() for n in text.split(",") if n.strip()]
     if not 1 <= len(names) <= 2:

@@ -1,4 +1,4 @@
-"""Inputs that take units: Validators that parse with the one unit registry (mediaplan.units).
+"""Inputs that take units: Validators that parse with the one unit registry (mediaplan.medium.units).
 
 The failure description is the MediaplanError's own one-line message, shown inline under the
 input; nothing here computes chemistry.
@@ -11,7 +11,7 @@ from collections.abc import Callable
 from textual.validation import ValidationResult, Validator
 from textual.widgets import Input, Static
 
-from mediaplan.errors import MediaplanError
+from mediaplan.medium.errors import MediaplanError
 
 
 class ParsedValidator(Validator):
@@ -44,21 +44,21 @@ class AmountValidator(ParsedValidator):
     """An amount with a unit: ``30 g/L``, ``20 mM``, ``0.5 mol/kg``, ``3 % w/v``."""
 
     def __init__(self) -> None:
-        from mediaplan.units import parse_amount
+        from mediaplan.medium.units import parse_amount
 
         super().__init__(lambda text: parse_amount(text, field="amount"))
 
 
 class VolumeValidator(ParsedValidator):
     def __init__(self) -> None:
-        from mediaplan.units import parse_volume
+        from mediaplan.medium.units import parse_volume
 
         super().__init__(lambda text: parse_volume(text))
 
 
 class TemperatureValidator(ParsedValidator):
     def __init__(self) -> None:
-        from mediaplan.units import parse_temperature
+        from mediaplan.medium.units import parse_temperature
 
         super().__init__(lambda text: parse_temperature(text))
 
@@ -67,7 +67,7 @@ class TargetValidator(ParsedValidator):
     """A water potential (``-0.8 MPa``) or an osmolality (``450 mOsm/kg``); empty allowed if asked."""
 
     def __init__(self, *, allow_empty: bool = False) -> None:
-        from mediaplan.units import parse_target
+        from mediaplan.medium.units import parse_target
 
         super().__init__(lambda text: parse_target(text), allow_empty=allow_empty)
 
@@ -79,7 +79,7 @@ class StrengthValidator(ParsedValidator):
 
 def parse_strength(text: str) -> float:
     """A strength factor: ``1``, ``0.5``, ``1/2`` or ``50 %`` -> 0.5. Raises AmountError."""
-    from mediaplan.errors import AmountError
+    from mediaplan.medium.errors import AmountError
 
     t = text.strip().replace(",", ".")
     try:

@@ -21,7 +21,7 @@ from textual.message import Message
 from textual.scroll_view import ScrollView
 from textual.strip import Strip
 
-from mediaplan.evaluate import ComponentResult, Evaluation
+from mediaplan.medium.evaluate import ComponentResult, Evaluation
 
 #: column keys and headings
 COLUMNS = (("name", "component"), ("amount", "amount"), ("molality", "mmol/kg"), ("share", "share"))

@@ -10,7 +10,7 @@ from rich.text import Text
 from textual.content import Content
 from textual.widgets import Static
 
-from mediaplan.evaluate import Evaluation
+from mediaplan.medium.evaluate import Evaluation
 from mediaplan.tui.widgets.recipe_table import fit_left, fit_right, share_bar
 
 _TONICITY_WORD = {"hypotonic": "hypotonic ▼", "isotonic": "isotonic ●", "hypertonic": "hypertonic ▲"}

@@ -1,0 +1,133 @@
+"""mediaplan calc: the water relations of a medium."""
+
+from __future__ import annotations
+
+import sys
+
+from mediaplan.cli.common import add_recipe_arguments, catalog_from, print_json, recipe_from
+from mediaplan.tasks.cells import cell_reference, cell_tolerance
+
+
+def add_arguments(p) -> None:
+    add_recipe_arguments(p)
+    p.add_argument("--cells", metavar="REF", help='cell reference for tonicity: "450 mOsm/kg" or "-1.1 MPa" '
+                   "(default: the plan's [cells] table)")
+    p.add_argument("--tolerance", metavar="FRACTION",
+                   help='half-width of the isotonic band: 0.05 or "5 %%" (default: [cells] tolerance, else 5 %%)')
+    p.add_argument("--project", action="store_true",
+                   help="add columns as made / after autoclaving / after N weeks (settings from the plan's "
+                        "[projection] table and the options below)")
+    p.add_argument("--hydrolysis", metavar="FRACTION",
+                   help='sucrose hydrolysed on autoclaving: 0.1 or "10 %%" (default 10 %%; published 5-20 %% in '
+                        "ordinary media, 53-95 %% with activated charcoal or at low pH)")
+    loss = p.add_mutually_exclusive_group()
+    loss.add_argument("--water-loss", metavar="FRACTION", help="water lost by the end of the culture (total)")
+    loss.add_argument("--water-loss-per-week", metavar="FRACTION", help="water lost per week (of the water first present)")
+    p.add_argument("--weeks", metavar="N", help="length of the culture in weeks (default 4)")
+    p.add_argument("--json", action="store_true", help="print one JSON object")
+    p.add_argument("--format", choices=("text", "md", "csv", "html"), default="text",
+                   help="report format (md, csv and html include provenance and a place to sign)")
+    p.add_argument("-o", "--output", metavar="FILE", help="write the report to FILE (atomic) instead of stdout")
+
+
+def projection_from(args, plan, recipe, catalog, ref: float | None, tol: float):
+    """The projection asked for by --project (None when not asked)."""
+    if not getattr(args, "project", False):
+        return None
+    from mediaplan.tasks.projection import project, settings_from
+
+    settings = settings_from(plan.projection if plan else None, autoclave_hydrolysis=args.hydrolysis,
+                             water_loss=args.water_loss, water_loss_per_week=args.water_loss_per_week,
+                             weeks=args.weeks)
+    return project(recipe, catalog, settings, cell_reference_mosmol=ref, isotonic_tolerance=tol)
+
+
+def projection_text(proj) -> str:
+    """The three columns as plain text."""
+    from mediaplan.tasks.projection import GUIDANCE
+
+    s = proj.settings
+    loss = (f"water loss {100 * s.total_water_loss:.3g} % by week {s.weeks:g}" +
+            (f" ({100 * s.water_loss_per_week:.3g} % per week)" if s.water_loss is None and s.water_loss_per_week
+             else ""))
+    head = [""] + [st.label for st in proj.stages]
+    evs = [st.evaluation for st in proj.stages]
+
+    def sugar(ev, cid):
+        c = ev.component(cid)
+        return f"{c.molality_mmol_per_kg:.2f}" if c else "0"
+
+    rows = [["osmolality, mOsm/kg"] + [f"{e.osmolality_mosmol_per_kg:.1f}" for e in evs],
+            ["van't Hoff sum, mOsm/kg"] + [f"{e.osmolality_ideal_mosmol_per_kg:.1f}" for e in evs],
+            ["water activity"] + [f"{e.water_activity:.5f}" for e in evs],
+            ["osmotic potential, MPa"] + [f"{e.osmotic_potential_mpa:.4f}" for e in evs],
+            ["freezing point, °C"] + [f"−{e.freezing_point_depression_k:.3f}" for e in evs]]
+    rows += [[f"{cid}, mmol/kg"] + [sugar(e, cid) for e in evs] for cid in ("sucrose", "glucose", "fructose")]
+    if evs[0].tonicity:
+        rows.append(["tonicity"] + [e.tonicity["class"] for e in evs])
+    widths = [max(len(r[i]) for r in [head, *rows]) for i in range(len(head))]
+    out = [f"Projection: sucrose hydrolysed on autoclaving {100 * s.autoclave_hydrolysis:.3g} %; {loss}", ""]
+    for r in [head, *rows]:
+        out.append("  ".join([r[0].ljust(widths[0])] + [c.rjust(w) for c, w in zip(r[1:], widths[1:], strict=True)]))
+    out += [f"  - {n}" for n in proj.notes]
+    out.append(f"  guidance: {GUIDANCE}")
+    return "\n".join(out)
+
+
+def write_output(text: str, path: str | None) -> None:
+    """Print, or write atomically to ``path``."""
+    if not path:
+        sys.stdout.write(text if text.endswith("\n") else text + "\n")
+        return
+    from pathlib import Path
+
+    from mediaplan.files.planfile import atomic_write
+    from mediaplan.medium.errors import PlanFileError
+
+    try:
+        atomic_write(Path(path), text.encode("utf-8"), backup=False)
+    except OSError as exc:
+        raise PlanFileError(f"cannot write ({exc.strerror or exc})", file=path, hint="choose another folder") from None
+    print(f"wrote {path}", file=sys.stderr)
+
+
+def run(args) -> int:
+    from mediaplan.files.sharing import compare_provenance, shadow_notes
+    from mediaplan.medium.evaluate import evaluate
+    from mediaplan.views.report import evaluation_text
+
+    catalog = catalog_from(args)
+    notes: list[str] = list(shadow_notes(catalog))
+    plan, recipe = recipe_from(args, catalog, notes=notes)
+    if plan is not None and plan.provenance:
+        notes += [f"catalog differs from the plan's record: {d.text()}" for d in compare_provenance(plan, catalog)]
+    tol = cell_tolerance(args.tolerance, plan)
+    ref = cell_reference(args.cells, plan, recipe.temperature_k)
+    ev = evaluate(recipe, catalog, cell_reference_mosmol=ref, isotonic_tolerance=tol)
+    proj = projection_from(args, plan, recipe, catalog, ref, tol)
+    if args.json:
+        d = ev.to_dict()
+        d["notes"] = notes
+        d["title"] = plan.title if plan else None
+        if proj is not None:
+            d["projection"] = proj.to_dict()
+        print_json(d)
+    elif args.format != "text" or args.output:
+        from mediaplan.files.planfile import Plan
+        from mediaplan.files.sharing import provenance_of
+        from mediaplan.views.export import evaluation_report
+
+        fmt = "md" if args.format == "text" else args.format
+        text = evaluation_report(ev, plan or Plan(recipe=recipe), fmt,
+                                 provenance=provenance_of(recipe, catalog))
+        for n in notes:
+            print(f"note: {n}", file=sys.stderr)
+        write_output(text, args.output)
+    else:
+        for n in notes:
+            print(f"note: {n}", file=sys.stderr)
+        print(evaluation_text(ev, plan.title if plan else None))
+        if proj is not None:
+            print()
+            print(projection_text(proj))
+    return 0

@@ -1,0 +1,93 @@
+"""mediaplan check: validate plan files (for CI in a facility's plan repository).
+
+One line per plan, ``PLAN: ok`` or ``PLAN: invalid: reason``; exit status 1 when any plan is invalid.
+A plan is invalid when it cannot be read, a component does not resolve, the models cannot evaluate
+it, or an embedded catalog entry conflicts with the local catalog. Catalog differences against the
+plan's recorded provenance and model warnings are reported on the same line (``--strict`` makes
+catalog differences invalid too).
+"""
+
+from __future__ import annotations
+
+import sys
+
+from mediaplan.cli.common import catalog_from, print_json
+
+
+def add_arguments(p) -> None:
+    p.add_argument("plans", nargs="+", metavar="PLAN", help="plan files to check")
+    p.add_argument("--json", action="store_true", help="print a JSON list, one object per plan")
+    p.add_argument("--strict", action="store_true", help="catalog differences make a plan invalid")
+    p.add_argument("--trust", choices=("plan", "local"),
+                   help="settle conflicts between a plan's embedded entries and the local catalog")
+    p.add_argument("--stamp", action="store_true",
+                   help="record the catalog entries each valid plan uses in its [provenance] table (rewrites it)")
+    p.add_argument("--embed", action="store_true", help="with --stamp: embed a full copy of each entry")
+
+
+def check_one(path: str, catalog, *, strict: bool = False, trust: str | None = None) -> dict:
+    """The verdict on one plan file: status ok/invalid, reason, differences, warnings, notes."""
+    from mediaplan.files.sharing import compare_provenance, read_plan
+    from mediaplan.medium.errors import MediaplanError
+    from mediaplan.medium.evaluate import evaluate
+
+    out: dict = {"path": path, "status": "ok", "reason": None, "differences": [], "warnings": [], "notes": []}
+    try:
+        plan, cat, notes = read_plan(path, catalog, trust=trust)
+        out["notes"] = notes
+        out["title"] = plan.title
+        diffs = compare_provenance(plan, catalog)
+        out["differences"] = [d.to_dict() for d in diffs]
+        ev = evaluate(plan.recipe, cat)
+        out["warnings"] = [w.to_dict() for w in ev.warnings]
+        out["osmolality_mosmol_per_kg"] = ev.osmolality_mosmol_per_kg
+        out["osmotic_potential_mpa"] = ev.osmotic_potential_mpa
+        out["_plan"] = plan
+        out["_catalog"] = cat
+        blocking = [d for d in diffs if d.status == "missing" or (strict and d.status != "embedded-only")]
+        if blocking:
+            out["status"] = "invalid"
+            out["reason"] = blocking[0].text() + (f" (and {len(blocking) - 1} more)" if len(blocking) > 1 else "")
+    except MediaplanError as exc:
+        if exc.file and exc.file == path:
+            exc.file = None  # the line already starts with the path
+        out["status"] = "invalid"
+        out["reason"] = str(exc)
+    return out
+
+
+def line_for(r: dict) -> str:
+    if r["status"] != "ok":
+        return f"{r['path']}: invalid: {r['reason']}"
+    extra = []
+    if r["differences"]:
+        extra.append("catalog differs: " + "; ".join(d["message"] for d in r["differences"]))
+    if r["warnings"]:
+        extra.append(f"{len(r['warnings'])} warning{'s' if len(r['warnings']) != 1 else ''}: "
+                     + "; ".join(w["code"] for w in r["warnings"]))
+    return f"{r['path']}: ok" + (" (" + " | ".join(extra) + ")" if extra else "")
+
+
+def run(args) -> int:
+    from mediaplan.files import planfile
+    from mediaplan.files.sharing import shadow_notes, stamp
+
+    catalog = catalog_from(args)
+    for n in shadow_notes(catalog):
+        print(f"note: {n}", file=sys.stderr)
+    results = [check_one(p, catalog, strict=args.strict, trust=args.trust) for p in args.plans]
+    if args.stamp or args.embed:
+        for r in results:
+            if r["status"] == "ok":
+                plan = r["_plan"]
+                planfile.write(stamp(plan, r["_catalog"], embed=args.embed), plan.path)
+                r["notes"].append("provenance recorded" + (" with embedded entries" if args.embed else ""))
+    for r in results:
+        r.pop("_plan", None)
+        r.pop("_catalog", None)
+    if args.json:
+        print_json(results)
+    else:
+        for r in results:
+            print(line_for(r))
+    return 1 if any(r["status"] != "ok" for r in results) else 0

@@ -1,0 +1,101 @@
+"""mediaplan diff: what changed between two plans, in components and in results."""
+
+from __future__ import annotations
+
+import sys
+
+from mediaplan.cli.common import catalog_from, print_json
+
+
+def add_arguments(p) -> None:
+    p.add_argument("a", metavar="A", help="first plan")
+    p.add_argument("b", metavar="B", help="second plan")
+    p.add_argument("--json", action="store_true", help="print one JSON object")
+    p.add_argument("--trust", choices=("plan", "local"),
+                   help="settle conflicts between a plan's embedded entries and the local catalog")
+
+
+#: results compared: key in Evaluation, label, unit, format
+RESULTS = (
+    ("osmolality_mosmol_per_kg", "osmolality", "mOsm/kg", "{:.1f}"),
+    ("osmolality_ideal_mosmol_per_kg", "van't Hoff sum", "mOsm/kg", "{:.1f}"),
+    ("water_activity", "water activity", "", "{:.5f}"),
+    ("osmotic_potential_mpa", "osmotic potential", "MPa", "{:.4f}"),
+    ("freezing_point_depression_k", "freezing-point depression", "K", "{:.3f}"),
+)
+SETTINGS = ("volume", "temperature", "base", "strength")
+
+
+def plan_diff(plan_a, cat_a, plan_b, cat_b) -> dict:
+    """Differences of two plans: settings, components (added/removed/changed) and results with changes."""
+    from mediaplan.medium.evaluate import evaluate
+
+    ra, rb = plan_a.recipe, plan_b.recipe
+    settings = [{"field": f, "a": getattr(ra, f), "b": getattr(rb, f)} for f in SETTINGS
+                if getattr(ra, f) != getattr(rb, f)]
+    ea, eb = evaluate(ra, cat_a), evaluate(rb, cat_b)
+    ca = {c.id: c for c in ea.components}
+    cb = {c.id: c for c in eb.components}
+    comps = []
+    for cid in list(ca) + [k for k in cb if k not in ca]:
+        x, y = ca.get(cid), cb.get(cid)
+        if x is None or y is None:
+            c = x or y
+            comps.append({"id": cid, "name": c.name, "change": "added" if x is None else "removed",
+                          "a": x.amount if x else None, "b": y.amount if y else None,
+                          "a_mmol_per_l": x.molarity_mmol_per_l if x else 0.0,
+                          "b_mmol_per_l": y.molarity_mmol_per_l if y else 0.0})
+        elif x.amount != y.amount or abs(x.molarity_mmol_per_l - y.molarity_mmol_per_l) > 1e-9 * max(
+                abs(x.molarity_mmol_per_l), 1e-12):
+            comps.append({"id": cid, "name": x.name, "change": "changed", "a": x.amount, "b": y.amount,
+                          "a_mmol_per_l": x.molarity_mmol_per_l, "b_mmol_per_l": y.molarity_mmol_per_l})
+    results = []
+    for key, label, unit, f in RESULTS:
+        va, vb = getattr(ea, key), getattr(eb, key)
+        results.append({"quantity": key, "label": label, "unit": unit, "a": va, "b": vb, "change": vb - va,
+                        "text": f"{f.format(va)} → {f.format(vb)}" + (f" {unit}" if unit else "") +
+                                f" ({'+' if vb - va >= 0 else ''}{f.format(vb - va)})"})
+    return {"a": str(plan_a.path or ""), "b": str(plan_b.path or ""), "title_a": plan_a.title,
+            "title_b": plan_b.title, "settings": settings, "components": comps, "results": results,
+            "same_medium": not settings and not comps and all(r["change"] == 0 for r in results)}
+
+
+def diff_text(d: dict) -> str:
+    out = [f"--- {d['a']}  ({d['title_a']})", f"+++ {d['b']}  ({d['title_b']})"]
+    if d["settings"]:
+        out.append("")
+        out.append("Settings")
+        out += [f"  ~ {s['field']}: {s['a']} → {s['b']}" for s in d["settings"]]
+    out.append("")
+    out.append("Components" + ("" if d["components"] else ": no differences"))
+    mark = {"added": "+", "removed": "-", "changed": "~"}
+    for c in d["components"]:
+        if c["change"] == "changed":
+            what = f"{c['a']} → {c['b']}"
+        else:
+            what = c["b"] if c["change"] == "added" else c["a"]
+        out.append(f"  {mark[c['change']]} {c['name']} ({c['id']}): {what}   "
+                   f"[{c['a_mmol_per_l']:.4g} → {c['b_mmol_per_l']:.4g} mmol/L]")
+    out.append("")
+    out.append("Results")
+    w = max(len(r["label"]) for r in d["results"])
+    out += [f"  {r['label'].ljust(w)}  {r['text']}" for r in d["results"]]
+    return "\n".join(out)
+
+
+def run(args) -> int:
+    from mediaplan.files.sharing import read_plan, shadow_notes
+
+    catalog = catalog_from(args)
+    for n in shadow_notes(catalog):
+        print(f"note: {n}", file=sys.stderr)
+    pa, ca, na = read_plan(args.a, catalog, trust=args.trust)
+    pb, cb, nb = read_plan(args.b, catalog, trust=args.trust)
+    for n in na + nb:
+        print(f"note: {n}", file=sys.stderr)
+    d = plan_diff(pa, ca, pb, cb)
+    if args.json:
+        print_json(d)
+    else:
+        print(diff_text(d))
+    return 0

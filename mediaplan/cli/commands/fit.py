@@ -1,0 +1,143 @@
+"""mediaplan fit: plasmolysis counts -> incipient plasmolysis point, cell sap potential and osmolality."""
+
+from __future__ import annotations
+
+import sys
+
+from mediaplan.cli.common import catalog_from, print_json
+
+
+def add_arguments(p) -> None:
+    p.add_argument("counts", metavar="COUNTS", help="CSV with water_potential_mpa,plasmolysed,total (or a level "
+                                                    "column such as mannitol_mol_per_kg), or a plan with [series]")
+    p.add_argument("--link", choices=("logit", "probit"), default="logit", help="link function (default logit)")
+    p.add_argument("--with", dest="osmoticum", metavar="ID",
+                   help="osmoticum of a concentration column (when its header does not name it)")
+    p.add_argument("--base", metavar="ID", help="background medium of a concentration column (default water)")
+    p.add_argument("--strength", type=float, metavar="X", help="strength of the background medium")
+    p.add_argument("--temperature", metavar="T",
+                   help='series temperature, e.g. "25 degC" (default: the plan\'s, else 25 °C)')
+    p.add_argument("--json", action="store_true", help="print one JSON object")
+    p.add_argument("--plot", metavar="OUT", help="save the fitted curve as OUT.svg or OUT.png")
+    p.add_argument("--write-cells", metavar="PLAN",
+                   help="store the fitted cell reference in PLAN's [cells] table (created if missing)")
+
+
+def load_counts(args, catalog):
+    """Counts from a CSV file or from a plan's [series] table."""
+    from mediaplan.files import planfile
+    from mediaplan.medium.errors import FitError
+    from mediaplan.medium.recipe import Recipe
+    from mediaplan.files.counts import read_counts_csv
+    from mediaplan.tasks.plasmolysis import counts_from_series
+
+    path = args.counts
+    T = None
+    if args.temperature:
+        T = Recipe(temperature=args.temperature).temperature_k
+    if path.lower().endswith(".toml"):
+        plan = planfile.read(path, catalog=catalog)
+        if not plan.series:
+            raise FitError("the plan has no [series] table", file=path,
+                           hint="design one with: mediaplan series ... --write PLAN.toml")
+        return plan, counts_from_series(plan.series, file=path, temperature_k=T or plan.recipe.temperature_k)
+    changes = {}
+    if args.base:
+        changes["base"] = catalog.medium(args.base, field="--base").id
+    if args.strength is not None:
+        changes["strength"] = args.strength
+    if args.temperature:
+        changes["temperature"] = args.temperature
+    background = Recipe(**changes) if changes else None
+    return None, read_counts_csv(path, osmoticum=args.osmoticum, background=background, catalog=catalog)
+
+
+def fit_text(fit) -> str:
+    f = fit
+    lines = [f"Incipient plasmolysis — {f.link} fit of {f.n_levels} levels ({f.n_rows} rows, {f.cells} cells), "
+             f"{f.source}"]
+    ci = (f"95 % CI {f.ci95_mpa[0]:.4g} to {f.ci95_mpa[1]:.4g} MPa ({f.ci_method})" if f.ci95_mpa
+          else "95 % CI unbounded")
+    lines.append(f"  50 % plasmolysed at     {f.water_potential_50_mpa:.4g} MPa   {ci}")
+    osm_ci = (f"   (CI {f.osmolality_ci95_mosmol_per_kg[0]:.4g} to {f.osmolality_ci95_mosmol_per_kg[1]:.4g})"
+              if f.osmolality_ci95_mosmol_per_kg else "")
+    lines.append(f"  cell sap                {f.osmotic_potential_mpa:.4g} MPa osmotic potential = "
+                 f"{f.osmolality_50_mosmol_per_kg:.4g} mOsm/kg{osm_ci} at {f.temperature_c:g} °C")
+    lines.append(f"  curve                   {f.link}(p) = {f.intercept:.4g} + ({f.slope_per_mpa:.4g}) × ψ [MPa]")
+    lines.append("")
+    lines.append("Goodness of fit")
+    lines.append(f"  deviance     {f.deviance:.4g} on {f.df} df (p = {f.deviance_p:.2g})")
+    lines.append(f"  Pearson χ²   {f.pearson_chi2:.4g} on {f.df} df (p = {f.pearson_p:.2g}); heterogeneity "
+                 f"{f.heterogeneity:.3g}{' — interval widened' if f.widened else ''}")
+    lines.append("")
+    lines.append("   ψ MPa  plasmolysed / total  observed  fitted")
+    for r in f.rows:
+        lines.append(f"  {r['water_potential_mpa']:6.3f}  {r['plasmolysed']:>11d} / {r['total']:<5d}  "
+                     f"{100 * r['observed']:7.1f} %  {100 * r['fitted']:5.1f} %")
+    for n in f.notes:
+        lines.append(f"note: {n}")
+    for w in f.warnings:
+        lines.append(f"warning: {w}")
+    return "\n".join(lines)
+
+
+def save_plot(fit, out: str) -> str:
+    """Write the curve as SVG or PNG (by extension), atomically."""
+    from pathlib import Path
+
+    from mediaplan.files.planfile import atomic_write
+    from mediaplan.medium.errors import MediaplanError
+    from mediaplan.views.plot import curve_points, png_bytes, svg_text
+
+    path = Path(out)
+    ext = path.suffix.lower()
+    if ext not in (".svg", ".png"):
+        raise MediaplanError(f"cannot tell the plot format from {out!r}", field="--plot",
+                             hint="end the file name with .svg or .png")
+    cp = curve_points(fit)
+    title = f"Incipient plasmolysis ({fit.link} fit, {fit.n_levels} levels)"
+    data = svg_text(cp, title).encode("utf-8") if ext == ".svg" else png_bytes(cp, title)
+    try:
+        atomic_write(path, data, backup=False)
+    except OSError as exc:
+        raise MediaplanError(f"cannot write the plot ({exc.strerror or exc})", file=str(path),
+                             hint="choose another folder") from None
+    return str(path)
+
+
+def write_cells(fit, target: str, counts_plan, catalog) -> str:
+    """Store the fitted reference in the [cells] table of a plan (a new plan when the file does not exist)."""
+    import datetime
+    from pathlib import Path
+
+    from mediaplan.files import planfile
+
+    path = Path(target)
+    if counts_plan is not None and counts_plan.path is not None and counts_plan.path.resolve() == path.resolve():
+        plan = counts_plan
+    elif path.exists():
+        plan = planfile.read(path, catalog=catalog)
+    else:
+        plan = planfile.Plan(title="Cell reference from an incipient plasmolysis fit")
+    plan.cells = {**(plan.cells or {}), **fit.cells_table(datetime.date.today().isoformat())}
+    return str(planfile.write(plan, path))
+
+
+def run(args) -> int:
+    from mediaplan.tasks.plasmolysis import fit_counts
+
+    catalog = catalog_from(args)
+    plan, counts = load_counts(args, catalog)
+    fit = fit_counts(counts, args.link)
+    saved = []
+    if args.plot:
+        saved.append(f"plot {save_plot(fit, args.plot)}")
+    if args.write_cells:
+        saved.append(f"cell reference in {write_cells(fit, args.write_cells, plan, catalog)}")
+    if args.json:
+        print_json(fit.to_dict())
+    else:
+        print(fit_text(fit))
+    for s in saved:
+        print(f"saved {s}", file=sys.stderr)
+    return 0

@@ -1,0 +1,92 @@
+"""mediaplan prep: preparation sheet and stock solutions for a batch."""
+
+from __future__ import annotations
+
+import sys
+
+from mediaplan.cli.common import add_recipe_arguments, catalog_from, print_json, recipe_from
+
+
+def add_arguments(p) -> None:
+    add_recipe_arguments(p, plan_option=False)
+    p.add_argument("plan_file", nargs="?", metavar="PLAN", help="plan file (optional; inline ID=AMOUNT works too)")
+    p.add_argument("--volume", metavar="V", help='batch volume, e.g. "2 L" (default: the plan\'s volume)')
+    p.add_argument("--stocks", action="store_true", help="group components into stock solutions")
+    p.add_argument("--factor", action="append", metavar="STOCK=X",
+                   help="concentration factor of a stock (macro, calcium, micro, iron, vitamins or a growth "
+                        "regulator id), e.g. --factor micro=1000; refused if it exceeds solubility")
+    p.add_argument("--stock-volume", metavar="V", help='volume of each stock to make, e.g. "500 mL"')
+    p.add_argument("--form", action="append", metavar="ID=FORM",
+                   help="weigh another form of the same substance (moles kept), e.g. "
+                        "--form calcium_chloride_dihydrate=calcium_chloride_anhydrous")
+    p.add_argument("--ph", metavar="PH", help="target pH printed on the sheet (default: the base medium's)")
+    p.add_argument("--trust", choices=("plan", "local"),
+                   help="which entry wins when the plan's embedded copy differs from the local catalog")
+    p.add_argument("--format", choices=("md", "csv", "html"), default="md", help="output format (default md)")
+    p.add_argument("--json", action="store_true", help="print the sheet as one JSON object")
+    p.add_argument("--output", "-o", metavar="FILE", help="write to FILE instead of standard output")
+
+
+def split_plan_argument(args) -> None:
+    """PLAN and ID=AMOUNT share the positional slots: the one item without '=' is the plan."""
+    from mediaplan.medium.errors import MediaplanError
+
+    items = list(args.amounts or []) + ([args.plan_file] if args.plan_file else [])
+    plans = [i for i in items if "=" not in i]
+    if len(plans) > 1:
+        raise MediaplanError(f"more than one plan given: {', '.join(plans)}", hint="give one PLAN and ID=AMOUNT items")
+    args.plan = plans[0] if plans else None
+    args.amounts = [i for i in items if "=" in i]
+
+
+def load(args):
+    """(plan, recipe, catalog, notes) from PLAN, embedded entries and inline arguments; notes include shadowing."""
+    from mediaplan.files.sharing import read_plan, shadow_notes
+
+    split_plan_argument(args)
+    catalog = catalog_from(args)
+    notes = shadow_notes(catalog)
+    for n in notes:  # before anything can fail: a conflict may come from the facility entry
+        print(f"note: {n}", file=sys.stderr)
+    if args.plan:
+        _, catalog, more = read_plan(args.plan, catalog, trust=getattr(args, "trust", None))
+        notes += more
+    plan, recipe = recipe_from(args, catalog, notes=notes)
+    return plan, recipe, catalog, notes
+
+
+def write_output(text: str, path: str | None) -> None:
+    if not path:
+        sys.stdout.write(text)
+        return
+    from pathlib import Path
+
+    from mediaplan.files.planfile import atomic_write
+    from mediaplan.medium.errors import PlanFileError
+
+    try:
+        atomic_write(Path(path), text.encode("utf-8"), backup=False)
+    except OSError as exc:
+        raise PlanFileError(f"could not write ({exc.strerror or exc})", file=path) from None
+    print(f"wrote {path}", file=sys.stderr)
+
+
+def run(args) -> int:
+    from mediaplan.files.sharing import provenance_of, shadow_notes
+    from mediaplan.tasks.prep import build_sheet, parse_factors, parse_pairs, sheet_to_dict
+    from mediaplan.views.export import prep_sheet
+
+    plan, recipe, catalog, notes = load(args)
+    shown = len(shadow_notes(catalog))
+    sheet = build_sheet(recipe, catalog, volume=args.volume, stocks=args.stocks,
+                        forms=parse_pairs(args.form, "--form"), factors=parse_factors(args.factor),
+                        stock_volume=args.stock_volume, title=plan.title if plan else None, ph=args.ph)
+    sheet.provenance = provenance_of(recipe, catalog)
+    sheet.notes = notes + sheet.notes
+    for n in notes[shown:]:
+        print(f"note: {n}", file=sys.stderr)
+    if args.json:
+        print_json(sheet_to_dict(sheet))
+        return 0
+    write_output(prep_sheet(sheet, plan, args.format), args.output)
+    return 0

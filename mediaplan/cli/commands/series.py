@@ -1,0 +1,163 @@
+"""mediaplan series: a plasmolysis series evenly spaced in water potential, and how to make it."""
+
+from __future__ import annotations
+
+import sys
+
+from mediaplan.cli.common import add_recipe_arguments, catalog_from, print_json, recipe_from
+
+DEFAULT_VOLUME = "50 mL"
+
+
+def add_arguments(p) -> None:
+    add_recipe_arguments(p)
+    p.epilog = ("The background (--plan, --base, ID=AMOUNT items) is the solvent of every level; without one "
+                "the osmoticum is dissolved in water.")
+    p.add_argument("--with", dest="osmoticum", required=True, metavar="ID",
+                   help="the osmoticum (mannitol, sorbitol, sucrose, KNO3, ...)")
+    p.add_argument("--from", dest="start", metavar="PSI", help='first level, e.g. "-0.2 MPa" (or "100 mOsm/kg")')
+    p.add_argument("--to", dest="stop", metavar="PSI", help='last level, e.g. "-1.6 MPa"')
+    p.add_argument("--around", metavar="PSI", help='centre of the series, e.g. "-1.0 MPa" (with --step)')
+    p.add_argument("--step", metavar="DPSI", help='spacing of levels around the centre, e.g. "0.1 MPa"')
+    p.add_argument("--steps", type=int, default=8, metavar="N", help="number of levels (default 8)")
+    p.add_argument("--volume", metavar="V", help=f'volume of each level, e.g. "50 mL" (default {DEFAULT_VOLUME} or '
+                                                "the plan's volume)")
+    p.add_argument("--stock", metavar="AMOUNT",
+                   help='also give volumes of a stock of the osmoticum in the background, e.g. "1 mol/kg"')
+    out = p.add_mutually_exclusive_group()
+    out.add_argument("--json", action="store_true", help="print one JSON object")
+    out.add_argument("--csv", action="store_true", help="print the levels as CSV (with empty count columns)")
+    p.add_argument("--write", metavar="PLAN", help="save the background and the series (with empty counts) "
+                                                   "as a plan file")
+    p.add_argument("--force", action="store_true", help="with --write: overwrite an existing file")
+
+
+def _potential(text: str, field: str, T: float) -> float:
+    """A level as water potential [Pa]; an osmolality is converted at T [K]."""
+    from mediaplan.medium.units import parse_target
+    from mediaplan.thermo.potential import potential_from_osmolality
+
+    t = parse_target(text, field=field)
+    return t.value if t.kind == "potential" else float(potential_from_osmolality(t.value, T))
+
+
+def _step(text: str) -> float:
+    """A spacing in potential [Pa], sign ignored (parsed as a potential by the one unit parser)."""
+    from mediaplan.medium.errors import AmountError
+    from mediaplan.medium.units import parse_target
+
+    t = parse_target("-" + text.strip().lstrip("+-"), field="--step")
+    if t.kind != "potential":
+        raise AmountError(f"step {text!r} is not a pressure", field="--step", hint='write it like "0.1 MPa"')
+    return abs(t.value)
+
+
+def build_design(args, catalog):
+    """(plan, background recipe, design) from the command's arguments."""
+    from mediaplan.medium.errors import AmountError
+    from mediaplan.tasks.plasmolysis import design_series, potentials_around, potentials_between
+
+    plan, recipe = recipe_from(args, catalog)
+    if args.volume or plan is None:
+        recipe = recipe.with_settings(volume=args.volume or DEFAULT_VOLUME)
+    T = recipe.temperature_k
+    if args.around is not None:
+        if args.start is not None or args.stop is not None:
+            raise AmountError("give either --from/--to or --around/--step, not both", field="--around")
+        if args.step is None:
+            raise AmountError("--around needs --step", field="--step", hint='e.g. --around "-1.0 MPa" --step "0.1 MPa"')
+        centre = _potential(args.around, "--around", T)
+        psi = potentials_around(centre, _step(args.step), args.steps)
+        spacing = f"{args.steps} levels around {args.around}, {args.step} apart"
+    else:
+        if args.start is None or args.stop is None:
+            raise AmountError("say where the series runs", field="--from",
+                              hint='e.g. --from "-0.2 MPa" --to "-1.6 MPa" --steps 8, or --around and --step')
+        psi = potentials_between(_potential(args.start, "--from", T), _potential(args.stop, "--to", T), args.steps)
+        spacing = f"{args.steps} levels evenly spaced in water potential from {args.start} to {args.stop}"
+    design = design_series(recipe, args.osmoticum, psi, catalog=catalog, stock=args.stock, spacing=spacing)
+    return plan, recipe, design
+
+
+def csv_text(design) -> str:
+    """The levels as CSV; the empty plasmolysed/total columns make it a counting sheet for ``mediaplan fit``."""
+    import csv
+    import io
+
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    ox = design.osmoticum
+    head = ["level", "water_potential_mpa", "osmolality_mosmol_per_kg", f"{ox}_mol_per_kg", f"{ox}_g_per_l",
+            f"grams_per_{design.volume_ml:g}_ml"]
+    if design.stock is not None:
+        head += ["stock_ml", "diluent_ml"]
+    w.writerow(head + ["plasmolysed", "total"])
+    for lv in design.levels:
+        row = [lv.level, f"{lv.water_potential_mpa:.6g}", f"{lv.osmolality_mosmol_per_kg:.5g}",
+               f"{lv.molality_mol_per_kg:.6g}", f"{lv.grams_per_litre:.6g}", f"{lv.grams:.5g}"]
+        if design.stock is not None:
+            row += [f"{lv.stock_ml:.4g}", f"{lv.diluent_ml:.4g}"]
+        w.writerow(row + ["", ""])
+    return buf.getvalue()
+
+
+def design_text(design) -> str:
+    d = design
+    vol = f"{d.volume_ml:g} mL"
+    lines = [f"Plasmolysis series — {d.osmoticum_name} in {d.background}, {len(d.levels)} levels of {vol} "
+             f"at {d.temperature_c:g} °C",
+             f"  {d.spacing}; background alone: {d.background_potential_mpa + 0.0:.4g} MPa", ""]
+    head = ["level", "ψ MPa", "mOsm/kg", "mol/kg", "g/L", f"weigh g / {vol}"]
+    if d.stock is not None:
+        head += ["stock mL", "diluent mL"]
+    rows = []
+    for lv in d.levels:
+        r = [str(lv.level), f"{lv.water_potential_mpa:.4g}", f"{lv.osmolality_mosmol_per_kg:.1f}",
+             f"{lv.molality_mol_per_kg:.4f}", f"{lv.grams_per_litre:.3f}", f"{lv.grams:.4f}"]
+        if d.stock is not None:
+            r += [f"{lv.stock_ml:.2f}", f"{lv.diluent_ml:.2f}"]
+        rows.append(r)
+    widths = [max(len(h), *(len(r[i]) for r in rows)) for i, h in enumerate(head)]
+    lines.append("  ".join(h.rjust(w) for h, w in zip(head, widths, strict=True)))
+    lines.append("  ".join("─" * w for w in widths))
+    lines += ["  ".join(c.rjust(w) for c, w in zip(r, widths, strict=True)) for r in rows]
+    lines.append("")
+    lines.append(f"By weight: dissolve the grams of {d.osmoticum} in the background and make up to {vol}.")
+    if d.stock is not None:
+        s = d.stock
+        lines.append(f"By dilution: stock {s.amount} {d.osmoticum} in the background ({s.grams_per_litre:.2f} g/L, "
+                     f"{s.water_potential_mpa:.4g} MPa, density {s.density_kg_per_l:.4f} kg/L); mix the volumes "
+                     f"shown with the background. Needs {s.total_ml:.1f} mL stock and {s.diluent_total_ml:.1f} mL "
+                     "background in all.")
+        lines.append("  Volumes come from the water content of stock and diluent (not C1V1 = C2V2); the mixture "
+                     f"makes {vol} after volume change on mixing.")
+    for w in d.warnings:
+        lines.append(f"warning: {w}")
+    return "\n".join(lines)
+
+
+def run(args) -> int:
+    from pathlib import Path
+
+    from mediaplan.files import planfile
+    from mediaplan.files.planfile import Plan
+
+    catalog = catalog_from(args)
+    plan, recipe, design = build_design(args, catalog)
+    if args.json:
+        print_json(design.to_dict())
+    elif args.csv:
+        sys.stdout.write(csv_text(design))
+    else:
+        print(design_text(design))
+    if args.write:
+        if plan is None:
+            plan = Plan(recipe=recipe, title=f"Plasmolysis series: {design.osmoticum} in {design.background}")
+        plan = plan.with_recipe(recipe)
+        plan.series = design.plan_table()
+        if plan.path is None or plan.path.resolve() != Path(args.write).resolve():
+            plan.path, plan.disk_digest = None, None
+        path = planfile.write(plan, args.write, force=args.force)
+        print(f"saved {path} (fill in plasmolysed and total per level, then: mediaplan fit {path})",
+              file=sys.stderr)
+    return 0

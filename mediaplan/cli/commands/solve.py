@@ -1,0 +1,138 @@
+"""mediaplan solve: the osmoticum addition that brings a plan to a target."""
+
+from __future__ import annotations
+
+import sys
+
+from mediaplan.cli.common import catalog_from, print_json
+
+_TARGET_HELP = ('water potential ("-0.8 MPa", "-8 bar"), osmolality ("450 mOsm/kg"), or tonicity toward the '
+                'cells: "isotonic", "isotonic+10%%", "isotonic-50 mOsm/kg" (offsets act on the osmolality, + is '
+                "more concentrated; needs --cells or a [cells] table)")
+
+
+def add_arguments(p) -> None:
+    p.add_argument("plan", metavar="PLAN", help="plan file to start from")
+    p.add_argument("--target", required=True, metavar="TARGET", help=_TARGET_HELP)
+    p.add_argument("--with", dest="osmotica", action="append", required=True, metavar="ID",
+                   help="osmoticum to add (mannitol, sorbitol, sucrose, peg8000 ...); give it twice for two")
+    p.add_argument("--ratio", metavar="A:B", help="molar ratio of the additions of two osmotica, e.g. 1:1")
+    p.add_argument("--hold", metavar="ID=AMOUNT", help='hold one of two osmotica at a set level, e.g. sucrose="20 g/L"')
+    p.add_argument("--cells", metavar="REF", help='cell reference: "450 mOsm/kg" or "-1.1 MPa" (default: the plan\'s '
+                   "[cells] table)")
+    p.add_argument("--tolerance", metavar="FRACTION", help='isotonic band: 0.05 or "5 %%" (default 5 %%)')
+    p.add_argument("--json", action="store_true", help="print one JSON object")
+    p.add_argument("--write", metavar="OUT.toml", help="save the solved plan (never over an existing file "
+                   "without --force)")
+    p.add_argument("--force", action="store_true", help="let --write replace an existing file, the input included")
+    p.epilog = ("Exit status: 0 when the target is reached or already met, 1 when the medium is already more "
+                "concentrated than the target (the strength or dilution that reaches it is printed; nothing is "
+                "written), 2 for bad input or an unreachable target.")
+
+
+def _ratio(text: str | None) -> list[float] | None:
+    if text is None:
+        return None
+    from mediaplan.medium.errors import AmountError
+
+    parts = text.replace("/", ":").split(":")
+    try:
+        return [float(x) for x in parts]
+    except ValueError:
+        raise AmountError(f"cannot read ratio {text!r}", field="--ratio", hint="write it like 1:1 or 3:1") from None
+
+
+def _hold(text: str | None) -> dict[str, str] | None:
+    if text is None:
+        return None
+    from mediaplan.medium.errors import AmountError
+
+    key, sep, amount = text.partition("=")
+    if not sep or not key.strip() or not amount.strip():
+        raise AmountError(f"'{text}' is not ID=AMOUNT", field="--hold", hint='write e.g. sucrose="20 g/L"')
+    return {key.strip(): amount.strip()}
+
+
+def _text(sol) -> str:
+    from mediaplan.views.report import fmt
+
+    ev = sol.evaluation
+    out = [f"Target {sol.target.text}: {sol.target_osmolality_mosmol_per_kg:.1f} mOsm/kg"
+           + (" effective toward the cells" if sol.matched == "effective_osmolality" else "")
+           + f", {sol.target_potential_mpa:.4f} MPa at {ev.temperature_c:.1f} °C"]
+    start = sol.start
+    out.append(f"Start: {start.osmolality_mosmol_per_kg:.1f} mOsm/kg, {start.osmotic_potential_mpa:.4f} MPa")
+    out.append("")
+    if sol.status == "too_concentrated":
+        red = sol.reduction
+        out.append("The medium is already more concentrated than the target: no addition helps.")
+        if red.strength is not None:
+            out.append(f"  base {sol.recipe.base} at strength {red.strength:.4g} (other amounts unchanged): "
+                       f"{red.strength_evaluation.osmotic_potential_mpa:.4f} MPa")
+        out.append(f"  or dilute: {red.medium_l_per_batch:.4g} L medium + {red.water_l_per_batch:.4g} L water "
+                   f"({100 * red.dilution:.2f} % medium): {red.dilution_evaluation.osmotic_potential_mpa:.4f} MPa")
+        out += [f"  - {n}" for n in red.notes]
+        return "\n".join(out)
+    if sol.status == "on_target":
+        out.append("Already on target: nothing to add.")
+    else:
+        header = ["osmoticum", "add g/L", "add mol/L", f"g per {fmt(ev.volume_l)} L", "new amount"]
+        rows = [[a.component + (" (held)" if a.held else ""), fmt(a.added_g_per_l), fmt(a.added_mol_per_l),
+                 fmt(a.added_g_per_batch), a.total_amount] for a in sol.additions]
+        widths = [max(len(r[i]) for r in [header, *rows]) for i in range(len(header))]
+        for r in [header, *rows]:
+            out.append("  " + "  ".join([r[0].ljust(widths[0])] + [c.rjust(w) for c, w in zip(r[1:], widths[1:],
+                                                                                          strict=True)]))
+    out.append("")
+    out.append("Result (re-evaluated from scratch)")
+    out.append(f"  osmolality         {ev.osmolality_mosmol_per_kg:.1f} mOsm/kg (van't Hoff sum "
+               f"{ev.osmolality_ideal_mosmol_per_kg:.1f})")
+    if sol.matched == "effective_osmolality":
+        out.append(f"  effective          {ev.effective_osmolality_mosmol_per_kg:.1f} mOsm/kg toward the cells")
+    out.append(f"  water activity     {ev.water_activity:.5f}")
+    out.append(f"  osmotic potential  {ev.osmotic_potential_mpa:.4f} MPa (van't Hoff {ev.vant_hoff_potential_mpa:.4f})")
+    out.append(f"  freezing point     −{ev.freezing_point_depression_k:.3f} °C")
+    if ev.tonicity:
+        t = ev.tonicity
+        out.append(f"  tonicity           {t['class']} toward cells of {t['reference_mosmol_per_kg']:.0f} mOsm/kg "
+                   f"({t['water_flow']})")
+    if ev.warnings:
+        out.append("")
+        out += [f"  ! {w.message}" for w in ev.warnings]
+    return "\n".join(out)
+
+
+def run(args) -> int:
+    from mediaplan.files import planfile
+    from mediaplan.tasks.cells import cell_reference, cell_tolerance
+    from mediaplan.tasks.solve import parse_solve_target, solve_target
+
+    catalog = catalog_from(args)
+    spec = parse_solve_target(args.target, field="--target")
+    plan = planfile.read(args.plan, catalog=catalog)
+    recipe = plan.recipe
+    ref = cell_reference(args.cells, plan, recipe.temperature_k)
+    tol = cell_tolerance(args.tolerance, plan)
+    sol = solve_target(recipe, catalog, spec, args.osmotica, ratio=_ratio(args.ratio), hold=_hold(args.hold),
+                       cell_reference_mosmol=ref, isotonic_tolerance=tol)
+    written = None
+    if args.write and sol.status != "too_concentrated":
+        from pathlib import Path
+
+        new = plan.with_recipe(sol.recipe)
+        new.path, new.disk_digest = None, None  # a new file: planfile.write refuses to replace one unless --force
+        new.target = sol.target_table()
+        if args.cells and not plan.cells:
+            new.cells = {"osmolality": f"{ref:.4g} mOsm/kg", "source": f"--cells {args.cells}"}
+        written = planfile.write(new, Path(args.write), force=args.force)
+    if args.json:
+        d = sol.to_dict()
+        d["written"] = str(written) if written else None
+        print_json(d)
+    else:
+        print(_text(sol))
+        if written:
+            print(f"\nwritten: {written}")
+        elif args.write:
+            print("\nnothing written: no addition reaches this target", file=sys.stderr)
+    return 1 if sol.status == "too_concentrated" else 0

@@ -1,0 +1,69 @@
+"""Helpers shared by subcommands: catalog, recipe from plan and inline arguments, JSON output."""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+
+from mediaplan.medium.errors import AmountError, MediaplanError
+
+
+def add_recipe_arguments(p: argparse.ArgumentParser, *, plan_option: bool = True) -> None:
+    """The recipe-defining arguments shared by calc and prep."""
+    p.add_argument("amounts", nargs="*", metavar="ID=AMOUNT",
+                   help='component and amount, e.g. sucrose="30 g/L" KNO3="1900 mg/L" mannitol="0.4 mol/kg"')
+    if plan_option:
+        p.add_argument("--plan", metavar="PLAN", help="start from a plan file")
+    p.add_argument("--base", metavar="ID", help="published base formulation (e.g. ms1962)")
+    p.add_argument("--strength", type=float, metavar="X", help="strength of the base (0.5 = half)")
+    p.add_argument("--temperature", metavar="T", help='temperature, e.g. "25 degC" (default 25 °C)')
+
+
+def catalog_from(args):
+    from mediaplan.files.catalog import get_catalog
+
+    return get_catalog(extra=getattr(args, "catalog", []) or [])
+
+
+def recipe_from(args, catalog, *, notes: list[str] | None = None):
+    """Build (plan, recipe) from --plan, --base, --strength, --temperature and ID=AMOUNT items."""
+    from mediaplan.files import planfile
+    from mediaplan.medium.recipe import Recipe
+    from mediaplan.medium.units import parse_amount
+
+    plan = None
+    plan_path = getattr(args, "plan", None)
+    if plan_path:
+        plan = planfile.read(plan_path, catalog=catalog)
+        recipe = plan.recipe
+    else:
+        recipe = Recipe()
+    changes = {}
+    if getattr(args, "base", None):
+        catalog.medium(args.base, field="--base")
+        changes["base"] = catalog.medium(args.base).id
+    if getattr(args, "strength", None) is not None:
+        changes["strength"] = args.strength
+    if getattr(args, "temperature", None):
+        changes["temperature"] = args.temperature
+    if changes:
+        recipe = recipe.with_settings(**changes)
+    for item in getattr(args, "amounts", []) or []:
+        if "=" not in item:
+            raise AmountError(f"'{item}' is not ID=AMOUNT", field=item, hint='write e.g. sucrose="30 g/L"')
+        key, _, text = item.partition("=")
+        res = catalog.resolve(key.strip(), field=key.strip())
+        if res.note and notes is not None:
+            notes.append(res.note)
+        recipe = recipe.with_amount(res.component.id, parse_amount(text, field=key.strip()))
+    return plan, recipe
+
+
+def print_json(obj) -> None:
+    json.dump(obj, sys.stdout, indent=2, ensure_ascii=False, allow_nan=False)
+    sys.stdout.write("\n")
+
+
+def fail(msg: str, **kw) -> MediaplanError:
+    return MediaplanError(msg, **kw)

@@ -1,0 +1,111 @@
+"""The ``mediaplan`` command line.
+
+Each subcommand lives in ``mediaplan/commands/<name>.py`` with two functions:
+``add_arguments(parser)`` (cheap: no heavy imports at module level) and ``run(args) -> int``.
+Errors a user can fix (MediaplanError) print one line on stderr and exit 2; anything unexpected is
+logged with its traceback in the user's state folder and reported in one line naming the log.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import sys
+
+from mediaplan import __version__
+
+COMMANDS = {
+    "calc": "compute a medium's osmolality, water activity and potential",
+    "solve": "find the osmoticum addition that reaches a target",
+    "series": "design a plasmolysis series evenly spaced in water potential",
+    "fit": "fit plasmolysis counts: incipient plasmolysis point with its interval",
+    "prep": "preparation sheet and stock solutions for a batch",
+    "check": "validate plan files (exit 1 if any is invalid)",
+    "diff": "compare two plans: components and results",
+    "catalog": "search, show or check the component catalog",
+    "open": "open a plan in the terminal app",
+    "locate": "print where mediaplan keeps the user's files",
+}
+
+
+class _Parser(argparse.ArgumentParser):
+    def error(self, message: str) -> None:  # one line, exit 2
+        self.exit(2, f"mediaplan: {message} (see mediaplan {self.prog.split()[-1] if ' ' in self.prog else ''} --help)\n"
+                  .replace("mediaplan  --help", "mediaplan --help"))
+
+
+def build_parser() -> argparse.ArgumentParser:
+    p = _Parser(prog="mediaplan", description="Water relations of plant culture media.")
+    p.add_argument("--version", action="version", version=f"mediaplan {__version__}")
+    p.add_argument("--catalog", action="append", default=[], metavar="DIR",
+                   help="extra catalog folder merged over the bundled one (repeatable)")
+    sub = p.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+    for name, helptext in COMMANDS.items():
+        sp = sub.add_parser(name, help=helptext, description=helptext)
+        sp.add_argument("--catalog", action="append", default=argparse.SUPPRESS, metavar="DIR",
+                        help="extra catalog folder merged over the bundled one (repeatable)")
+        try:
+            mod = importlib.import_module(f"mediaplan.cli.commands.{name}")
+        except ModuleNotFoundError:
+            sp.set_defaults(_missing=name)
+            continue
+        mod.add_arguments(sp)
+        sp.set_defaults(_module=f"mediaplan.cli.commands.{name}")
+    return p
+
+
+def main(argv: list[str] | None = None) -> int:
+    from mediaplan.medium.errors import MediaplanError
+
+    raw = sys.argv[1:] if argv is None else argv
+    if any("\x00" in a for a in raw):
+        print("mediaplan: an argument contains a NUL character (remove it)", file=sys.stderr)
+        return 2
+    args = build_parser().parse_args(argv)
+    from mediaplan.files.paths import use_unit_cache
+
+    use_unit_cache()
+    try:
+        if args.command is None:
+            from mediaplan.cli.commands.open import run_app
+
+            return run_app(None, args)
+        if getattr(args, "_missing", None):
+            print(f"mediaplan: the '{args._missing}' command is not available in this build", file=sys.stderr)
+            return 2
+        mod = importlib.import_module(args._module)
+        return int(mod.run(args) or 0)
+    except MediaplanError as exc:
+        print(f"mediaplan: {exc}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print("mediaplan: interrupted", file=sys.stderr)
+        return 130
+    except BrokenPipeError:
+        return 0
+    except Exception as exc:  # noqa: BLE001 - the last line of defence
+        return report_crash(exc)
+
+
+def report_crash(exc: BaseException) -> int:
+    """Log an unexpected error with its traceback; tell the user in one line where the log is."""
+    import datetime
+    import traceback
+
+    from mediaplan.files.paths import log_file
+
+    path = log_file()
+    try:
+        path.parent.mkdir(parents=True, exist_ok=True)
+        with path.open("a", encoding="utf-8") as fh:
+            fh.write(f"\n--- {datetime.datetime.now().isoformat()} mediaplan {__version__} {sys.argv!r}\n")
+            fh.write("".join(traceback.format_exception(exc)))
+        where = str(path)
+    except OSError:
+        where = "(the log could not be written)"
+    print(f"mediaplan: unexpected error {type(exc).__name__}: {exc}; details in {where}", file=sys.stderr)
+    return 1
+
+
+if __name__ == "__main__":  # pragma: no cover
+    raise SystemExit(main())

@@ -1,0 +1,227 @@
+"""Counts files: plasmolysis counts in CSV, one row per counted sample.
+
+The header needs ``plasmolysed`` and ``total`` and a level column: ``water_potential_mpa`` (used as is),
+``osmolality_mosmol_per_kg``, a potential with its unit (``psi (bar)``), or an osmoticum amount
+(``mannitol_mol_per_kg``, ``concentration (mM)``), converted to water potential with the full model.
+"""
+
+from __future__ import annotations
+
+import csv
+import math
+import re
+from collections.abc import Sequence
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from mediaplan.medium.catalog import Catalog
+from mediaplan.medium.errors import AmountError, FitError, MediaplanError
+from mediaplan.medium.recipe import Recipe
+from mediaplan.medium.units import parse_amount
+from mediaplan.tasks.plasmolysis.counts import POTENTIAL_COLUMN, Counts, check_counts
+from mediaplan.tasks.plasmolysis.design import describe_background, potential_of_amounts
+from mediaplan.thermo import potential
+from mediaplan.thermo.constants import T0
+
+_SUFFIX_UNITS = {"_mol_per_kg": "mol/kg", "_mmol_per_kg": "mmol/kg", "_mol_per_l": "mol/L", "_mmol_per_l": "mmol/L",
+                 "_g_per_l": "g/L", "_mg_per_l": "mg/L", "_mm": "mM", "_m": "M"}
+_PAREN = re.compile(r"^\s*(?P<name>.*?)\s*[\(\[](?P<unit>[^\)\]]+)[\)\]]\s*$")
+
+
+@dataclass
+class _LevelColumn:
+    index: int
+    header: str
+    kind: str  # "potential" | "osmolality" | "amount"
+    unit: str
+    osmoticum: str | None = None
+
+
+def _classify_column(header: str, idx: int, catalog: Catalog | None) -> _LevelColumn | None:
+    """Recognise a level column: potential, osmolality or an osmoticum amount, with its unit."""
+    h = header.strip()
+    low = h.lower()
+    if low == POTENTIAL_COLUMN:
+        return _LevelColumn(idx, h, "potential", "MPa")
+    if low == "osmolality_mosmol_per_kg":
+        return _LevelColumn(idx, h, "osmolality", "mOsm/kg")
+    m = _PAREN.match(h)
+    if m:
+        name, unit = m.group("name"), m.group("unit").strip()
+        from mediaplan.medium.units import ureg
+
+        try:
+            dim = ureg.parse_units(unit.replace("mOsm", "mosmol").replace("Osm", "osmol")).dimensionality
+        except Exception:  # noqa: BLE001 - an unreadable unit means: not a level column
+            dim = None
+        if dim == ureg.parse_units("Pa").dimensionality:
+            return _LevelColumn(idx, h, "potential", unit)
+        if dim == ureg.parse_units("osmol/kg").dimensionality:
+            return _LevelColumn(idx, h, "osmolality", unit)
+        try:
+            parse_amount(f"1 {unit}")
+        except AmountError:
+            return None
+        return _LevelColumn(idx, h, "amount", unit, _osmoticum_of(name, catalog))
+    for suffix, unit in _SUFFIX_UNITS.items():
+        if low.endswith(suffix) and len(low) > len(suffix):
+            return _LevelColumn(idx, h, "amount", unit, _osmoticum_of(h[: -len(suffix)], catalog))
+    return None
+
+
+def _osmoticum_of(name: str, catalog: Catalog | None) -> str | None:
+    if catalog is None or not name or name.lower() in ("concentration", "conc", "amount", "level"):
+        return None
+    try:
+        return catalog.resolve(name).component.id
+    except MediaplanError:
+        return None
+
+
+def read_counts_csv(path: str | Path, *, osmoticum: str | None = None, background: Recipe | None = None,
+                    catalog: Catalog | None = None) -> Counts:
+    """Read counts from a CSV file.
+
+    The header needs ``plasmolysed`` and ``total`` and a level column: ``water_potential_mpa`` (used
+    as is), ``osmolality_mosmol_per_kg``, a potential with its unit (``psi (bar)``), or an osmoticum
+    amount (``mannitol_mol_per_kg``, ``concentration (mM)``): amounts are converted to water potential
+    with the model, in ``background`` (water if None). Lines starting with ``#`` and blank lines are
+    skipped; a level whose two count cells are both empty (not counted yet) is skipped too.
+    """
+    p = Path(path)
+    file = str(p)
+    try:
+        text = p.read_text(encoding="utf-8-sig")
+    except FileNotFoundError:
+        raise FitError("no such counts file", file=file, hint="check the path") from None
+    except UnicodeDecodeError:
+        raise FitError("not UTF-8 text", file=file, hint="save the counts as CSV (UTF-8)") from None
+    except OSError as exc:
+        raise FitError(f"cannot read ({exc.strerror})", file=file) from None
+    except ValueError:
+        raise FitError("not a usable file name", file=repr(file), hint="check the path") from None
+    rows: list[tuple[int, list[str]]] = []
+    for lineno, raw in enumerate(text.splitlines(), start=1):
+        if not raw.strip() or raw.lstrip().startswith("#"):
+            continue
+        rows.append((lineno, next(csv.reader([raw]))))
+    if not rows:
+        raise FitError("the file holds no header and no counts", file=file,
+                       hint=f"first line: {POTENTIAL_COLUMN},plasmolysed,total")
+    head_line, header = rows[0]
+    names = [h.strip().lower() for h in header]
+    missing = [c for c in ("plasmolysed", "total") if c not in names]
+    if missing:
+        raise FitError(f"missing column{'s' if len(missing) > 1 else ''} {', '.join(missing)} (found: "
+                       f"{', '.join(h.strip() for h in header)})", file=file, line=head_line,
+                       hint=f"the header must be {POTENTIAL_COLUMN},plasmolysed,total")
+    i_pl, i_tot = names.index("plasmolysed"), names.index("total")
+    cols = [c for c in (_classify_column(h, i, catalog or _lazy_catalog(header)) for i, h in enumerate(header))
+            if c is not None]
+    if not cols:
+        raise FitError(f"no level column (found: {', '.join(h.strip() for h in header)})", file=file,
+                       line=head_line, hint=f"name the level column {POTENTIAL_COLUMN} (or e.g. mannitol_mol_per_kg)")
+    col = next((c for c in cols if c.kind == "potential"), None) or \
+        next((c for c in cols if c.kind == "osmolality"), None) or cols[0]
+    xs: list[float] = []
+    ys: list[int] = []
+    ns: list[int] = []
+    lines: list[int] = []
+    notes: list[str] = []
+    skipped = 0
+    for lineno, cells in rows[1:]:
+        if len(cells) != len(header):
+            raise FitError(f"{len(cells)} cells where the header has {len(header)}", file=file, line=lineno,
+                           hint="one value per column, separated by commas")
+        if not cells[i_pl].strip() and not cells[i_tot].strip():
+            skipped += 1
+            continue
+        x = _number(cells[col.index], file, lineno, col.header)
+        y = _count(cells[i_pl], file, lineno, header[i_pl].strip())
+        n = _count(cells[i_tot], file, lineno, header[i_tot].strip())
+        if n == 0:
+            raise FitError("total is 0: no cells counted", file=file, line=lineno, field=header[i_tot].strip(),
+                           hint="count at least one cell, or leave both count cells empty to skip the level")
+        if y > n:
+            raise FitError(f"plasmolysed ({y}) is more than total ({n})", file=file, line=lineno,
+                           field=header[i_pl].strip(), hint="total counts every cell seen, plasmolysed or not")
+        xs.append(x)
+        ys.append(y)
+        ns.append(n)
+        lines.append(lineno)
+    if skipped:
+        notes.append(f"{skipped} level(s) without counts skipped")
+    x = np.array(xs, dtype=float)
+    if col.kind == "potential":
+        from mediaplan.medium.units import Q_
+
+        factor = float(Q_(1.0, col.unit).to("MPa").magnitude)
+        x = x * factor
+        if np.any(x > 0):
+            bad = lines[int(np.argmax(x > 0))]
+            raise FitError("a water potential is positive", file=file, line=bad, field=col.header,
+                           hint="potentials of solutions are negative (e.g. -0.8)")
+        if col.unit != "MPa":
+            notes.append(f"levels read from '{col.header}' and converted to MPa")
+    else:
+        T = background.temperature_k if background is not None else 298.15
+        if col.kind == "osmolality":
+            from mediaplan.medium.units import Q_
+
+            osm = x * float(Q_(1.0, col.unit.replace("mOsm", "mosmol").replace("Osm", "osmol")).to("osmol/kg")
+                            .magnitude)
+            x = potential.potential_from_osmolality(osm, T) / 1e6
+            notes.append(f"levels read from '{col.header}' and converted to water potential at {T - T0:g} °C")
+        else:
+            osmo = osmoticum or col.osmoticum
+            if osmo is None:
+                raise FitError(f"column '{col.header}' gives amounts but not of what", file=file, line=head_line,
+                               field=col.header, hint="name the osmoticum with --with (e.g. --with mannitol)")
+            amounts = []
+            for v, ln in zip(x, lines, strict=True):
+                try:
+                    amounts.append(parse_amount(f"{float(v)!r} {col.unit}", field=col.header))
+                except AmountError as exc:
+                    raise exc.located(file=file, line=ln) from None
+            bg = background or Recipe()
+            x = potential_of_amounts(bg, osmo, amounts, catalog=catalog) / 1e6
+            notes.append(f"levels read from '{col.header}' ({osmo} in {describe_background(bg)}) and converted to "
+                         f"water potential with the non-ideal model at {bg.temperature_k - T0:g} °C")
+    counts = Counts(x, np.array(ys, dtype=float), np.array(ns, dtype=float), file,
+                    background.temperature_k if background is not None else None, notes)
+    check_counts(counts, file)
+    return counts
+
+
+def _lazy_catalog(header: Sequence[str]) -> Catalog | None:
+    """The catalog only when a column might name an osmoticum (keeps plain CSV reading cheap)."""
+    if any(h.strip().lower() == POTENTIAL_COLUMN for h in header):
+        return None
+    from mediaplan.files.catalog import get_catalog
+
+    return get_catalog()
+
+
+def _number(cell: str, file: str, line: int, column: str) -> float:
+    try:
+        v = float(cell.strip())
+    except ValueError:
+        raise FitError(f"'{cell.strip()}' is not a number", file=file, line=line, field=column,
+                       hint="write a plain number in this column") from None
+    if not math.isfinite(v):
+        raise FitError(f"'{cell.strip()}' is not a finite number", file=file, line=line, field=column)
+    return v
+
+
+def _count(cell: str, file: str, line: int, column: str) -> int:
+    s = cell.strip()
+    if not s:
+        raise FitError("empty count", file=file, line=line, field=column,
+                       hint="fill in both counts, or leave both empty to skip the level")
+    v = _number(s, file, line, column)
+    if v < 0 or v != int(v):
+        raise FitError(f"'{s}' is not a whole number of cells", file=file, line=line, field=column,
+                       hint="counts are whole numbers, 0 or more")
+    return int(v)

@@ -1,0 +1,296 @@
+"""Plans that travel between labs: which catalog entries a plan used, and what differs elsewhere.
+
+A plan's ``[provenance]`` table records the digest (content hash) of every catalog entry the recipe
+used, and on request a full copy of each entry::
+
+    [provenance]
+    recorded = "2024-05-02"
+    mediaplan = "0.1.0"
+
+    [provenance.components]
+    ammonium_nitrate = "3f0c9e…"           # Component.digest
+
+    [provenance.media]
+    ms1962 = "a81d…"                       # Medium.digest
+
+    [provenance.embedded.components.ammonium_nitrate]   # only with embedding
+    name = "ammonium nitrate"
+    ...
+
+A facility opening the plan with another catalog is told exactly which entries differ
+(:func:`compare_provenance`); embedded entries fill in components its catalog lacks, and an
+embedded entry that differs from the local one is a conflict the user must settle.
+"""
+
+from __future__ import annotations
+
+import datetime
+import hashlib
+import json
+from dataclasses import dataclass, replace
+from pathlib import Path
+from typing import Any
+
+from mediaplan.files.catalog import parse_component, parse_medium
+from mediaplan.medium.catalog import Catalog, Component, Medium
+from mediaplan.medium.errors import CatalogError, MediaplanError
+from mediaplan.medium.recipe import Recipe
+
+#: keys of a component entry kept in an embedded copy (everything the loader reads)
+_COMPONENT_KEYS = ("name", "formula", "aliases", "cas", "group", "molar_mass", "hydrate_water", "substance",
+                   "default_form", "species", "solubility", "apparent_molar_volume", "density",
+                   "reflection_coefficient", "hazard")
+_MEDIUM_KEYS = ("name", "citation", "doi", "confidence", "ph", "notes")
+
+
+class EmbeddedConflictError(MediaplanError):
+    """An entry embedded in a plan differs from the local catalog's entry of the same id."""
+
+
+@dataclass(frozen=True)
+class Difference:
+    """One catalog entry that differs between a plan's record and the local catalog."""
+
+    kind: str  # "component" or "medium"
+    id: str
+    status: str  # "changed", "missing", "embedded-only", "conflict"
+    recorded: str | None  # digest in the plan
+    local: str | None  # digest in the local catalog
+    local_file: str | None = None
+
+    def text(self) -> str:
+        if self.status == "missing":
+            return f"{self.kind} {self.id} is not in this catalog"
+        if self.status == "embedded-only":
+            return f"{self.kind} {self.id} is not in this catalog; the plan's embedded copy is used"
+        if self.status == "conflict":
+            return f"{self.kind} {self.id}: the plan's embedded copy differs from {self.local_file or 'the local entry'}"
+        return (f"{self.kind} {self.id} differs (plan {self.recorded}, here {self.local}"
+                + (f" from {self.local_file}" if self.local_file else "") + ")")
+
+    def to_dict(self) -> dict:
+        return {"kind": self.kind, "id": self.id, "status": self.status, "recorded": self.recorded,
+                "local": self.local, "local_file": self.local_file, "message": self.text()}
+
+
+# ---- recording --------------------------------------------------------------------------------------
+def _used(recipe: Recipe, catalog: Catalog) -> tuple[list[Component], list[Medium]]:
+    comps = [ln.component for ln in recipe.lines(catalog)]
+    # a base line removed by "0 g/L" is still part of what the plan means: record it too
+    seen = {c.id for c in comps}
+    media = [catalog.medium(recipe.base)] if recipe.base else []
+    for m in media:
+        for ml in m.lines:
+            if ml.component not in seen and ml.component in catalog.components:
+                comps.append(catalog.components[ml.component])
+                seen.add(ml.component)
+    for cid, _ in recipe.amounts:
+        c = catalog.resolve(cid).component
+        if c.id not in seen:
+            comps.append(c)
+            seen.add(c.id)
+    return comps, media
+
+
+def provenance_of(recipe: Recipe, catalog: Catalog, *, embed: bool = False,
+                  today: datetime.date | None = None) -> dict:
+    """The ``[provenance]`` table of a plan: digests of the entries used, and copies with ``embed``."""
+    from mediaplan import __version__
+
+    comps, media = _used(recipe, catalog)
+    prov: dict[str, Any] = {
+        "recorded": (today or datetime.date.today()).isoformat(),
+        "mediaplan": __version__,
+        "components": {c.id: c.digest for c in sorted(comps, key=lambda c: c.id)},
+    }
+    if media:
+        prov["media"] = {m.id: m.digest for m in media}
+    if embed:
+        prov["embedded"] = {"components": {c.id: embedded_entry(c) for c in sorted(comps, key=lambda c: c.id)}}
+        if media:
+            prov["embedded"]["media"] = {m.id: embedded_medium(m) for m in media}
+    return prov
+
+
+def _drop_none(obj: Any) -> Any:
+    """TOML has no null: leave out keys without a value (the loader reads absent as null)."""
+    if isinstance(obj, dict):
+        return {str(k): _drop_none(v) for k, v in obj.items() if v is not None}
+    if isinstance(obj, (list, tuple)):
+        return [_drop_none(v) for v in obj if v is not None]
+    return obj
+
+
+def embedded_entry(c: Component) -> dict:
+    """A self-contained copy of a component entry (sources written out in full)."""
+    raw = {k: getattr(c, k) for k in _COMPONENT_KEYS}
+    raw["aliases"] = list(c.aliases)
+    raw["species"] = {s: n for s, n in c.species}
+    raw["hydrate_water"] = c.hydrate_water
+    raw["source"] = dict(sorted(c.sources.items()))
+    return _drop_none(raw)
+
+
+def embedded_medium(m: Medium) -> dict:
+    raw: dict[str, Any] = {k: getattr(m, k) for k in _MEDIUM_KEYS}
+    raw["notes"] = list(m.notes)
+
+    def lines(ls):
+        return [_drop_none({"component": ln.component, "amount": ln.amount.text, "confidence": ln.confidence,
+                            "note": ln.note}) for ln in ls]
+
+    raw["components"] = lines(m.lines)
+    if m.optional:
+        raw["optional"] = lines(m.optional)
+    return _drop_none(raw)
+
+
+def canonical_digest(entry: dict) -> str:
+    """Hash of an embedded entry, independent of key order and of number spelling (1 vs 1.0)."""
+    def norm(o):
+        if isinstance(o, dict):
+            return {str(k): norm(v) for k, v in sorted(o.items())}
+        if isinstance(o, (list, tuple)):
+            return [norm(v) for v in o]
+        if isinstance(o, bool) or o is None:
+            return o
+        if isinstance(o, (int, float)):
+            return float(o)
+        return str(o)
+
+    return hashlib.sha256(json.dumps(norm(_drop_none(entry)), sort_keys=True).encode()).hexdigest()[:16]
+
+
+# ---- comparing --------------------------------------------------------------------------------------
+def _table(prov: dict, key: str, where: str) -> dict:
+    t = prov.get(key) or {}
+    if not isinstance(t, dict):
+        raise CatalogError(f"[provenance.{key}] must be a table", file=where, field=f"provenance.{key}")
+    return t
+
+
+def compare_provenance(plan, catalog: Catalog) -> list[Difference]:
+    """Entries recorded in ``plan.provenance`` that differ from (or are absent in) ``catalog``."""
+    prov = plan.provenance or {}
+    where = str(plan.path) if getattr(plan, "path", None) else None
+    emb = prov.get("embedded") or {}
+    out: list[Difference] = []
+    for kind, key, table in (("component", "components", catalog.components), ("medium", "media", catalog.media)):
+        embedded = (emb.get(key) or {}) if isinstance(emb, dict) else {}
+        for eid, digest in _table(prov, key, where).items():
+            local = table.get(eid)
+            if local is None:
+                out.append(Difference(kind, eid, "embedded-only" if eid in embedded else "missing", str(digest), None))
+            elif embedded.get(eid) is not None and _embedded_conflicts(kind, embedded[eid], local):
+                out.append(Difference(kind, eid, "conflict", str(digest), local.digest, local.file))
+            elif str(digest) != local.digest:
+                out.append(Difference(kind, eid, "changed", str(digest), local.digest, local.file))
+    return out
+
+
+def _embedded_conflicts(kind: str, entry: Any, local) -> bool:
+    mine = embedded_entry(local) if kind == "component" else embedded_medium(local)
+    return not isinstance(entry, dict) or canonical_digest(entry) != canonical_digest(mine)
+
+
+# ---- using embedded entries ----------------------------------------------------------------------
+def catalog_for(plan, catalog: Catalog, *, trust: str | None = None) -> tuple[Catalog, list[str]]:
+    """The catalog to evaluate ``plan`` with: the local one plus the plan's embedded entries.
+
+    Embedded entries fill in ids the local catalog lacks. An embedded entry that differs from the local
+    one is a conflict: with ``trust="plan"`` the embedded copy wins, with ``trust="local"`` the local
+    one, and without either an :class:`EmbeddedConflictError` names it. A malformed embedded entry
+    raises CatalogError naming the plan and the entry.
+
+    Returns (catalog, notes).
+    """
+    if trust not in (None, "plan", "local"):
+        raise MediaplanError(f"unknown trust {trust!r}", field="--trust", hint="use plan or local")
+    prov = plan.provenance or {}
+    emb = prov.get("embedded")
+    where = str(plan.path) if getattr(plan, "path", None) else "plan"
+    if not emb:
+        return catalog, []
+    if not isinstance(emb, dict):
+        raise CatalogError("[provenance.embedded] must be a table", file=where, field="provenance.embedded")
+    comps = dict(catalog.components)
+    media = dict(catalog.media)
+    notes: list[str] = []
+    for kind, key, table, parse in (("component", "components", comps, _parse_embedded_component),
+                                    ("medium", "media", media, _parse_embedded_medium)):
+        entries = emb.get(key) or {}
+        if not isinstance(entries, dict):
+            raise CatalogError(f"[provenance.embedded.{key}] must be a table", file=where,
+                               field=f"provenance.embedded.{key}")
+        for eid, entry in entries.items():
+            obj = parse(eid, entry, where)
+            local = table.get(eid)
+            if local is None:
+                table[eid] = obj
+                notes.append(f"{kind} {eid} taken from the plan's embedded copy (not in this catalog)")
+            elif _embedded_conflicts(kind, entry, local):
+                if trust == "plan":
+                    table[eid] = obj
+                    notes.append(f"{kind} {eid}: the plan's embedded copy used instead of {local.file}")
+                elif trust == "local":
+                    notes.append(f"{kind} {eid}: the local entry ({local.file}) used, not the plan's embedded copy")
+                else:
+                    raise EmbeddedConflictError(
+                        f"embedded {kind} '{eid}' differs from the local catalog entry in {local.file}",
+                        file=where, field=f"provenance.embedded.{key}.{eid}",
+                        hint=f"choose with --trust plan or --trust local; see mediaplan catalog show {eid}")
+    merged = Catalog(comps, media, catalog.pitzer, catalog.neutral, catalog.folders, list(catalog.shadowed))
+    return merged, notes
+
+
+def _parse_embedded_component(eid: str, entry: Any, where: str) -> Component:
+    field = f"provenance.embedded.components.{eid}"
+    if not isinstance(entry, dict):
+        raise CatalogError(f"embedded component '{eid}' must be a table", file=where, field=field)
+    try:
+        c = parse_component({**entry, "id": eid}, where, {})
+    except CatalogError as exc:
+        raise CatalogError(f"embedded component '{eid}' is malformed: {exc.message}", file=where,
+                           field=f"{field}.{exc.field}" if exc.field else field, hint=exc.hint) from None
+    if c.molar_mass is None and c.species:
+        raise CatalogError(f"embedded component '{eid}' lacks a molar_mass", file=where, field=field)
+    return replace(c, line=0)
+
+
+def _parse_embedded_medium(eid: str, entry: Any, where: str) -> Medium:
+    field = f"provenance.embedded.media.{eid}"
+    if not isinstance(entry, dict):
+        raise CatalogError(f"embedded medium '{eid}' must be a table", file=where, field=field)
+    try:
+        return parse_medium({**entry, "id": eid}, where)
+    except CatalogError as exc:
+        raise CatalogError(f"embedded medium '{eid}' is malformed: {exc.message}", file=where,
+                           field=field, hint=exc.hint) from None
+
+
+def read_plan(path: str | Path, catalog: Catalog, *, trust: str | None = None):
+    """Open a plan with its embedded entries in force: returns (plan, catalog, notes)."""
+    from mediaplan.files import planfile
+
+    bare = planfile.read(path)  # ids as written: an embedded component may be unknown locally
+    cat, notes = catalog_for(bare, catalog, trust=trust)
+    plan = planfile.read(path, catalog=cat)
+    for cid, _ in plan.recipe.amounts:
+        res = cat.resolve(cid)
+        if res.note:
+            notes.append(res.note)
+    return plan, cat, notes
+
+
+def shadow_notes(catalog: Catalog) -> list[str]:
+    """One note per bundled entry that a facility or user catalog replaces."""
+    return [f"facility catalog entry in force: {s}" for s in catalog.shadowed]
+
+
+def stamp(plan, catalog: Catalog, *, embed: bool = False):
+    """The plan with a fresh ``[provenance]`` table (returns a new Plan)."""
+    return replace(plan, provenance=provenance_of(plan.recipe, catalog, embed=embed))
+
+
+__all__ = ["Difference", "EmbeddedConflictError", "provenance_of", "compare_provenance", "catalog_for",
+           "read_plan", "shadow_notes", "stamp", "embedded_entry", "canonical_digest"]

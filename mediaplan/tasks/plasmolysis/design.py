@@ -1,0 +1,413 @@
+"""Plasmolysis series design.
+
+Levels evenly spaced in water potential (not in concentration). For each level the osmoticum
+amount that brings the background (water, a buffer or a medium) to that potential is found with
+the full non-ideal model (:class:`~mediaplan.medium.model.MediumModel`, ZSR mixing) and ``brentq``.
+Preparation is given by weight (osmoticum per litre of finished solution, everything made up
+to volume) and, when a stock is named, as volumes of stock and diluent. The stock is the
+osmoticum dissolved in the background; the diluent is the background. The mixture's composition
+per kg of water follows from the water content per litre of stock and diluent (the model's
+solution density), not from C1V1 = C2V2; the mixing ratio is solved (brentq) so that the mixture
+has the level's water potential, which in water means the level's osmoticum molality exactly.
+The two volumes are then scaled so that the mixture's own volume is the batch volume.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import asdict, dataclass, field
+
+import numpy as np
+
+from mediaplan.medium.catalog import Catalog, Component
+from mediaplan.medium.errors import AmountError, InfeasibleError, MediaplanError
+from mediaplan.medium.evaluate import finite  # no NaN or infinity in any output (shared rule)
+from mediaplan.medium.model import compiled
+from mediaplan.medium.recipe import Recipe
+from mediaplan.medium.units import Amount, parse_amount
+from mediaplan.thermo import potential
+from mediaplan.thermo.constants import T0
+
+#: grid used to bracket each level before brentq refines it (one batched model call)
+_GRID = 48
+#: solution volume that solutes may occupy before the model refuses (model.solve stops at 95 %)
+_MAX_SOLUTE_VOLUME = 0.9
+#: relative tolerance of brentq on the amount [-]
+_XTOL = 1e-10
+
+
+def potentials_between(start: float, stop: float, steps: int) -> np.ndarray:
+    """``steps`` water potentials [Pa] evenly spaced from ``start`` to ``stop`` (both included)."""
+    _check_steps(steps)
+    if start == stop:
+        raise AmountError("the first and last level are the same potential", field="--to",
+                          hint="give two different potentials, e.g. --from \"-0.2 MPa\" --to \"-1.6 MPa\"")
+    return np.linspace(start, stop, steps)
+
+
+def potentials_around(centre: float, step: float, steps: int) -> np.ndarray:
+    """``steps`` water potentials [Pa] centred on ``centre`` and ``step`` [Pa] apart, least negative first."""
+    _check_steps(steps)
+    step = abs(step)
+    if step == 0:
+        raise AmountError("the step between levels is zero", field="--step", hint='e.g. --step "0.1 MPa"')
+    psi = centre + step * (np.arange(steps) - (steps - 1) / 2.0)[::-1]
+    if psi[0] >= 0:
+        raise AmountError(f"the series around {centre / 1e6:g} MPa with steps of {step / 1e6:g} MPa reaches "
+                          f"{psi[0] / 1e6:+.3g} MPa, which no solution has", field="--step",
+                          hint="use a smaller step, fewer levels or a more negative centre")
+    return psi
+
+
+def _check_steps(steps: int) -> None:
+    if not isinstance(steps, int) or steps < 2:
+        raise AmountError(f"a series needs at least 2 levels (got {steps})", field="--steps",
+                          hint="the fit needs 3 or more levels; 6-10 is usual")
+    if steps > 60:
+        raise AmountError(f"{steps} levels is more than anyone counts", field="--steps", hint="use 60 or fewer")
+
+
+@dataclass
+class SeriesLevel:
+    """One solution of the series (units in the field names)."""
+
+    level: int
+    water_potential_mpa: float
+    osmolality_mosmol_per_kg: float
+    water_activity: float
+    molality_mol_per_kg: float  # osmoticum per kg water
+    molarity_mmol_per_l: float  # osmoticum per litre of solution
+    grams_per_litre: float  # osmoticum, in the form as sold, per litre of solution
+    grams: float  # osmoticum to weigh for the batch volume
+    density_kg_per_l: float
+    water_kg_per_l: float
+    stock_ml: float | None = None
+    diluent_ml: float | None = None
+
+    @property
+    def amount(self) -> Amount:
+        """The osmoticum as a recipe amount (g/L of solution, 7 significant digits)."""
+        return Amount(self.grams_per_litre, "mass_conc", f"{self.grams_per_litre:.7g} g/L")
+
+
+@dataclass
+class StockInfo:
+    """The stock solution: osmoticum dissolved in the background (units in the field names)."""
+
+    amount: str
+    molality_mol_per_kg: float
+    grams_per_litre: float
+    water_potential_mpa: float
+    density_kg_per_l: float
+    water_kg_per_l: float
+    total_ml: float  # stock needed for the whole series
+    diluent_total_ml: float
+
+
+@dataclass
+class SeriesDesign:
+    """A plasmolysis series: background, osmoticum, levels and how to make them."""
+
+    osmoticum: str
+    osmoticum_name: str
+    temperature_c: float
+    volume_ml: float
+    background: str
+    background_potential_mpa: float
+    spacing: str
+    levels: list[SeriesLevel]
+    stock: StockInfo | None = None
+    warnings: list[str] = field(default_factory=list)
+
+    def to_dict(self) -> dict:
+        d = asdict(self)
+        return finite(d)
+
+    def plan_table(self) -> dict:
+        """The ``[series]`` table of a plan file: the design plus empty counts per level."""
+        t: dict = {"osmoticum": self.osmoticum, "spacing": self.spacing, "volume": f"{self.volume_ml:g} mL",
+                   "temperature": f"{self.temperature_c:g} degC",
+                   "background_potential_mpa": round(self.background_potential_mpa, 6)}
+        if self.stock is not None:
+            t["stock"] = self.stock.amount
+        rows = []
+        for lv in self.levels:
+            row = {"level": lv.level, "water_potential_mpa": round(lv.water_potential_mpa, 6),
+                   "osmolality_mosmol_per_kg": round(lv.osmolality_mosmol_per_kg, 3),
+                   "molality_mol_per_kg": _sig(lv.molality_mol_per_kg, 7),
+                   "grams_per_litre": _sig(lv.grams_per_litre, 7), "grams": _sig(lv.grams, 5)}
+            if lv.stock_ml is not None:
+                row["stock_ml"] = round(lv.stock_ml, 3)
+                row["diluent_ml"] = round(lv.diluent_ml, 3)
+            row["plasmolysed"] = []
+            row["total"] = []
+            rows.append(row)
+        t["levels"] = rows
+        return t
+
+
+def _sig(x: float, digits: int) -> float:
+    return float(f"{x:.{digits}g}")
+
+
+class _Mixer:
+    """The background plus one osmoticum, compiled once; osmolality for batches of osmoticum amounts."""
+
+    def __init__(self, background: Recipe, osmoticum: Component, catalog: Catalog) -> None:
+        lines = background.lines(catalog)
+        #: amount of the same substance already in the background (the levels add to it), or None
+        self.already = next((ln.amount.text for ln in lines if ln.component.id == osmoticum.id or (
+            osmoticum.substance and ln.component.substance == osmoticum.substance)), None)
+        if not osmoticum.species or not osmoticum.molar_mass:
+            raise MediaplanError(f"{osmoticum.id} dissolves into nothing the model counts", field="--with",
+                                 hint="choose a solute such as mannitol, sorbitol, sucrose or KNO3")
+        self.T = background.temperature_k
+        self.model = compiled(catalog, [ln.component for ln in lines] + [osmoticum], self.T)
+        n, b = self.model.amounts_to_arrays([ln.amount for ln in lines] + [Amount(0.0, "molar", "0 mM")])
+        self.n0, self.b0 = n, b
+        self.k = len(lines)
+        self.osmoticum = osmoticum
+        v = self.model.v[self.k]
+        free = 1.0 - float(n @ self.model.v)
+        self.n_max = max(free - (1 - _MAX_SOLUTE_VOLUME), 0.0) / v if v > 0 else 2e4  # mol/m^3
+
+    def state(self, n_x: np.ndarray):
+        n_x = np.atleast_1d(np.asarray(n_x, dtype=float))
+        n = np.tile(self.n0, (n_x.size, 1))
+        b = np.tile(self.b0, (n_x.size, 1))
+        n[:, self.k] = n_x
+        return _solve(self.model, n, b)
+
+    def osmolality(self, n_x) -> np.ndarray:
+        return self.state(n_x).mix.osmolality
+
+    def water_and_solutes(self, st) -> tuple[np.ndarray, np.ndarray]:
+        """kg water per m^3 and kg anhydrous solutes per m^3 of each state in the batch."""
+        return st.water_kg_per_m3, st.n_per_m3 @ self.model.M_anh
+
+
+def _solve(model, n: np.ndarray, b: np.ndarray):
+    """model.solve, quiet about the 0/0 that the ZSR step meets on a row of pure water (result is exact)."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return model.solve(n, b)
+
+
+def _bracket_and_solve(f_batch, targets: np.ndarray, lo: float, hi: float, what: str) -> np.ndarray:
+    """x in [lo, hi] with f(x) = target for each target; f increasing.
+
+    One batched call on a grid brackets every target; a second batched call evaluates the linear
+    interpolation of each bracket, which tightens it; ``brentq`` then refines each root. Values already
+    computed are served from a cache, so brentq's first two calls cost nothing (a model call costs the
+    same for one row as for fifty).
+    """
+    from scipy.optimize import brentq
+
+    grid = lo + (hi - lo) * np.linspace(0.0, 1.0, _GRID) ** 1.5
+    vals = f_batch(grid)
+    ok = np.isfinite(vals)
+    grid, vals = grid[ok], vals[ok]
+    j = np.searchsorted(vals, targets)
+    if np.any(j >= len(vals)) or np.any(np.diff(vals) <= 0):
+        i = int(np.argmax(j >= len(vals))) if np.any(j >= len(vals)) else 0
+        raise InfeasibleError(f"{what} {i + 1} cannot be reached: the model does not go that far",
+                              hint="choose a less negative level")
+    j = np.maximum(j, 1)
+    a, c = grid[j - 1], grid[j]
+    fa, fc = vals[j - 1], vals[j]
+    guess = a + (targets - fa) * (c - a) / (fc - fa)
+    fg = f_batch(guess)
+    cache: dict[float, float] = {}
+    out = np.empty(targets.size)
+    for i, t in enumerate(targets):
+        if fg[i] == t:
+            out[i] = guess[i]
+            continue
+        lo_i, hi_i = (guess[i], c[i]) if fg[i] < t else (a[i], guess[i])
+        flo, fhi = (fg[i], fc[i]) if fg[i] < t else (fa[i], fg[i])
+        cache.clear()
+        cache.update({lo_i: flo - t, hi_i: fhi - t})
+
+        def f(x, t=t):
+            if x not in cache:
+                cache[x] = float(f_batch(np.array([x]))[0]) - t
+            return cache[x]
+
+        out[i] = brentq(f, lo_i, hi_i, xtol=_XTOL * max(abs(hi_i), 1e-9), rtol=4 * np.finfo(float).eps,
+                        maxiter=200)
+    return out
+
+
+def design_series(background: Recipe, osmoticum: str, potentials_pa: Sequence[float], *,
+                  catalog: Catalog, stock: str | None = None, spacing: str = "") -> SeriesDesign:
+    """Design a plasmolysis series.
+
+    Parameters
+    ----------
+    background : the solvent: its volume is the batch volume of each level, its temperature the series
+        temperature; an empty recipe is water
+    osmoticum : catalog id, formula or name of the osmoticum
+    potentials_pa : water potential of each level [Pa] (negative)
+    stock : amount of osmoticum in a stock made up in the background (``"1 mol/kg"``, ``"200 g/L"``),
+        or None for preparation by weight only
+    spacing : description of how the potentials were chosen (kept in the plan file)
+
+    Raises
+    ------
+    InfeasibleError when a level is less negative than the background or beyond what dissolves.
+    """
+    comp = catalog.resolve(osmoticum, field="--with").component
+    mixer = _Mixer(background, comp, catalog)
+    T = mixer.T
+    psi = np.asarray(potentials_pa, dtype=float)
+    y_target = potential.osmolality_from_potential(psi, T)
+    y_bg = float(mixer.osmolality(np.array([0.0]))[0])
+    psi_bg = float(potential.potential_from_osmolality(y_bg, T))
+    above = np.nonzero(y_target <= y_bg)[0]
+    if above.size:
+        i = int(above[0])
+        raise InfeasibleError(f"level {i + 1} ({psi[i] / 1e6:.4g} MPa) is not more negative than the background "
+                              f"itself ({psi_bg / 1e6:.4g} MPa)", field="--from",
+                              hint="start the series below the background's potential, or dilute the background")
+    hi = _upper_bound(mixer, float(y_target.max()), psi, T, comp)
+    n_x = _bracket_and_solve(mixer.osmolality, y_target, 0.0, hi, "level")
+    st = mixer.state(n_x)
+    W, solutes = mixer.water_and_solutes(st)
+    M = mixer.model.M[mixer.k]
+    vol_l = background.volume_m3 * 1000.0
+    levels = []
+    for i in range(psi.size):
+        y = float(st.mix.osmolality[i])
+        gpl = float(n_x[i] * M)
+        levels.append(SeriesLevel(
+            level=i + 1, water_potential_mpa=float(potential.potential_from_osmolality(y, T)) / 1e6,
+            osmolality_mosmol_per_kg=y * 1000.0, water_activity=float(potential.water_activity(y)),
+            molality_mol_per_kg=float(st.molality[i, mixer.k]), molarity_mmol_per_l=float(n_x[i]),
+            grams_per_litre=gpl, grams=gpl * vol_l, density_kg_per_l=float(W[i] + solutes[i]) / 1000.0,
+            water_kg_per_l=float(W[i]) / 1000.0))
+    design = SeriesDesign(osmoticum=comp.id, osmoticum_name=comp.name, temperature_c=T - T0,
+                          volume_ml=round(vol_l * 1000.0, 9), background=describe_background(background),
+                          background_potential_mpa=psi_bg / 1e6 + 0.0, spacing=spacing, levels=levels)
+    if stock is not None:
+        _add_stock(design, mixer, stock, y_target, vol_l)
+    design.warnings = _design_warnings(design, comp, mixer)
+    return design
+
+
+def _upper_bound(mixer: _Mixer, y_max: float, psi: np.ndarray, T: float, comp: Component) -> float:
+    """An amount [mol/m^3] beyond the most concentrated level (the model must reach it)."""
+    hi = min(2.5 * y_max * 1000.0 + 10.0, mixer.n_max)
+    while True:
+        y_hi = float(mixer.osmolality(np.array([hi]))[0])
+        if math.isfinite(y_hi) and y_hi > y_max:
+            return hi
+        if hi >= mixer.n_max:
+            raise InfeasibleError(f"{comp.id} cannot bring the background down to {psi.min() / 1e6:.4g} MPa: "
+                                  "the solution would be mostly solute", field="--to",
+                                  hint="choose a less negative last level or another osmoticum")
+        hi = min(hi * 2.0, mixer.n_max)
+
+
+def _add_stock(design: SeriesDesign, mixer: _Mixer, stock_text: str, y_target: np.ndarray, vol_l: float) -> None:
+    """Volumes of stock and diluent per level, from the water content of each (not C1V1 = C2V2)."""
+    amt = parse_amount(stock_text, field="--stock")
+    model, k = mixer.model, mixer.k
+    n_s, b_s = model.amounts_to_arrays([Amount(0.0, "molar", "0 mM")] * k + [amt])
+    n_stock, b_stock = mixer.n0.copy(), mixer.b0.copy()
+    n_stock[k], b_stock[k] = n_s[k], b_s[k]
+    st_s = _solve(model, n_stock[None, :], b_stock[None, :])
+    st_d = _solve(model, mixer.n0[None, :], mixer.b0[None, :])
+    y_s = float(st_s.mix.osmolality[0])
+    if not math.isfinite(y_s) or y_s < float(y_target.max()) * (1 - 1e-9):
+        psi_s = float(potential.potential_from_osmolality(y_s, mixer.T)) / 1e6
+        raise InfeasibleError(f"the stock ({stock_text}, {psi_s:.4g} MPa) is weaker than the last level "
+                              f"({design.levels[-1].water_potential_mpa:.4g} MPa)", field="--stock",
+                              hint="make the stock more concentrated than the most negative level")
+    W_s, sol_s = (float(a[0]) for a in mixer.water_and_solutes(st_s))
+    W_d = float(st_d.water_kg_per_m3[0])
+    # mol of every component per m^3 of stock and of diluent
+    c_s, c_d = st_s.n_per_m3[0], st_d.n_per_m3[0]
+
+    def mix_state(f: np.ndarray):
+        """Mixture of volume fraction f of stock (before mixing), as amounts per kg water."""
+        f = np.atleast_1d(f)[:, None]
+        water = f * W_s + (1 - f) * W_d
+        b = (f * c_s + (1 - f) * c_d) / water
+        return _solve(model, np.zeros_like(b), b), water[:, 0]
+
+    fr = _bracket_and_solve(lambda f: mix_state(f)[0].mix.osmolality, y_target, 0.0, 1.0, "level")
+    st_m, water = mix_state(fr)
+    # the mixture's own volume per m^3 of (stock + diluent) volumes: water / (water per m^3 of mixture)
+    shrink = water / st_m.water_kg_per_m3
+    total_ml = vol_l * 1000.0
+    for i, lv in enumerate(design.levels):
+        scale = total_ml / shrink[i]
+        lv.stock_ml = float(fr[i] * scale)
+        lv.diluent_ml = float((1 - fr[i]) * scale)
+    design.stock = StockInfo(
+        amount=amt.text, molality_mol_per_kg=float(st_s.molality[0, k]), grams_per_litre=float(c_s[k] * model.M[k]),
+        water_potential_mpa=float(potential.potential_from_osmolality(y_s, mixer.T)) / 1e6,
+        density_kg_per_l=(W_s + sol_s) / 1000.0, water_kg_per_l=W_s / 1000.0,
+        total_ml=float(sum(lv.stock_ml for lv in design.levels)),
+        diluent_total_ml=float(sum(lv.diluent_ml for lv in design.levels)))
+
+
+def _design_warnings(design: SeriesDesign, comp: Component, mixer: _Mixer) -> list[str]:
+    out = []
+    if comp.reflection_coefficient is not None and comp.reflection_coefficient < 0.9:
+        out.append(f"{comp.id} enters cells (reflection coefficient {comp.reflection_coefficient:g}): the cells "
+                   "recover from plasmolysis and the 50 % point drifts; count quickly or use mannitol or sorbitol")
+    elif comp.reflection_coefficient is None and any(":" not in sp and "[" in sp for sp, _ in comp.species):
+        out.append(f"{comp.id} is an electrolyte whose ions may enter the cells: plasmolysis can reverse with time")
+    if comp.solubility and comp.anhydrous_molar_mass:
+        m_sat = comp.solubility * 10.0 / comp.anhydrous_molar_mass
+        top = max(lv.molality_mol_per_kg for lv in design.levels)
+        if top > m_sat:
+            out.append(f"the most concentrated level ({top:.3g} mol/kg) is above the solubility of {comp.id} "
+                       f"({m_sat:.3g} mol/kg at 25 °C): it will not dissolve")
+        elif top > 0.8 * m_sat:
+            out.append(f"the most concentrated level is at {100 * top / m_sat:.0f} % of the solubility of {comp.id}: "
+                       "it may crystallise in the cold")
+        if design.stock is not None and design.stock.molality_mol_per_kg > m_sat:
+            out.append(f"the stock ({design.stock.molality_mol_per_kg:.3g} mol/kg) is above the solubility of "
+                       f"{comp.id} ({m_sat:.3g} mol/kg at 25 °C): it will not dissolve")
+        elif design.stock is not None and design.stock.molality_mol_per_kg > 0.8 * m_sat:
+            out.append(f"the stock is at {100 * design.stock.molality_mol_per_kg / m_sat:.0f} % of the solubility of "
+                       f"{comp.id}: keep it warm and check for crystals before use")
+    model = mixer.model
+    for j, kk in enumerate(model.neutral_idx):
+        p = model.neutral_params[j]
+        top = max(lv.molality_mol_per_kg for lv in design.levels) if model.species[kk] in dict(comp.species) else 0
+        if top > p.m_max:
+            out.append(f"{model.species[kk]} above {p.m_max:g} mol/kg is beyond its model's range: extrapolated")
+    if model.species and comp.species and all(sp in model.ideal_neutral for sp, _ in comp.species):
+        out.append(f"no published model for {comp.id}: treated as an ideal solution")
+    if mixer.already is not None:
+        out.append(f"the background already holds {comp.id} ({mixer.already}): the amounts shown are added on top "
+                   "of it")
+    if len(design.levels) < 5:
+        out.append("fewer than 5 levels: the fit will have few degrees of freedom (6-10 levels are usual)")
+    return out
+
+
+def describe_background(recipe: Recipe) -> str:
+    """A short description of the solvent (``water``, ``ms1962 x0.5 + MES 0.5 g/L``)."""
+    parts = []
+    if recipe.base:
+        parts.append(recipe.base + (f" x{recipe.strength:g}" if recipe.strength != 1 else ""))
+    parts += [f"{cid} {a.text}" for cid, a in recipe.amounts if not a.is_zero]
+    return " + ".join(parts) if parts else "water"
+
+
+def potential_of_amounts(background: Recipe, osmoticum: str, amounts: Sequence[Amount], *,
+                         catalog: Catalog) -> np.ndarray:
+    """Water potential [Pa] of the background with each amount of the osmoticum (one batched model call)."""
+    comp = catalog.resolve(osmoticum, field="--with").component
+    mixer = _Mixer(background, comp, catalog)
+    n = np.tile(mixer.n0, (len(amounts), 1))
+    b = np.tile(mixer.b0, (len(amounts), 1))
+    for i, a in enumerate(amounts):
+        ni, bi = mixer.model.amounts_to_arrays([Amount(0.0, "molar", "0 mM")] * mixer.k + [a])
+        n[i, mixer.k], b[i, mixer.k] = ni[mixer.k], bi[mixer.k]
+    y = _solve(mixer.model, n, b).mix.osmolality
+    return potential.potential_from_osmolality(y, mixer.T)

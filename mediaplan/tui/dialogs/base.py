@@ -1,0 +1,89 @@
+"""Choose a published base formulation and its strength."""
+
+from __future__ import annotations
+
+from rich.text import Text
+from textual import on
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Horizontal, Vertical
+from textual.screen import ModalScreen
+from textual.widgets import Button, Input, Label, OptionList, Static
+from textual.widgets.option_list import Option
+
+from mediaplan.medium.catalog import Catalog
+from mediaplan.tui.widgets.fields import FieldMessage, StrengthValidator, parse_strength, validated_value
+
+NO_BASE = "-none-"
+
+
+class BaseScreen(ModalScreen[tuple[str | None, float] | None]):
+    """Dismisses with (base id or None, strength), or None when cancelled."""
+
+    BINDINGS = [Binding("escape", "cancel", "Cancel", id="base.cancel", tooltip="Keep the current base")]
+
+    def __init__(self, catalog: Catalog, base: str | None, strength: float) -> None:
+        super().__init__()
+        self.catalog = catalog
+        self.base = base
+        self.strength = strength
+
+    def compose(self) -> ComposeResult:
+        with Vertical(classes="dialog", id="base-dialog") as box:
+            box.border_title = "base formulation"
+            options = [Option(Text("none: only the components I add"), id=NO_BASE)]
+            for m in sorted(self.catalog.media.values(), key=lambda m: m.id):
+                t = Text(f"{m.id:<9}", style="bold")
+                t.append(f" {m.name}")
+                options.append(Option(t, id=m.id))
+            yield OptionList(*options, id="base-list")
+            yield Static("", id="base-info", markup=False)
+            with Horizontal(classes="row"):
+                yield Label("strength ×", classes="field-label")
+                yield Input(f"{self.strength:g}", id="strength-input", validators=[StrengthValidator()],
+                            placeholder="1, 0.5, 1/2, 50 %")
+            yield FieldMessage("1 = full strength · 0.5 or 1/2 or 50 % = half", id="strength-message")
+            with Horizontal(classes="buttons"):
+                yield Button("Apply", variant="primary", id="base-apply")
+                yield Button("Cancel", id="base-cancel")
+
+    def on_mount(self) -> None:
+        ol = self.query_one(OptionList)
+        ids = [NO_BASE, *sorted(self.catalog.media)]
+        ol.highlighted = ids.index(self.base) if self.base in ids else 0
+        ol.focus()
+
+    @on(OptionList.OptionHighlighted)
+    def _info(self, event: OptionList.OptionHighlighted) -> None:
+        mid = event.option.id
+        info = self.query_one("#base-info", Static)
+        if mid == NO_BASE or mid not in self.catalog.media:
+            info.update("The recipe holds only the components listed in the plan.")
+            return
+        m = self.catalog.media[mid]
+        text = f"{len(m.lines)} components · {m.citation}"
+        if m.confidence != "A":
+            text += f" · confidence {m.confidence}"
+        info.update(text)
+
+    @on(OptionList.OptionSelected)
+    def _selected(self) -> None:
+        self.query_one("#strength-input", Input).focus()
+
+    @on(Input.Changed, "#strength-input")
+    def _strength_typed(self, event: Input.Changed) -> None:
+        self.query_one(FieldMessage).show(event.validation_result)
+
+    @on(Input.Submitted, "#strength-input")
+    @on(Button.Pressed, "#base-apply")
+    def _apply(self) -> None:
+        text = validated_value(self.query_one("#strength-input", Input), self.query_one(FieldMessage))
+        if text is None:
+            return
+        ol = self.query_one(OptionList)
+        mid = ol.get_option_at_index(ol.highlighted).id if ol.highlighted is not None else NO_BASE
+        self.dismiss((None if mid == NO_BASE else mid, parse_strength(text)))
+
+    @on(Button.Pressed, "#base-cancel")
+    def action_cancel(self) -> None:
+        self.dismiss(None)

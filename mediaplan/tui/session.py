@@ -1,0 +1,222 @@
+"""The terminal app's session: the open plan, its history and its recovery file.
+
+Plain Python (no Textual): the screens read and change the plan only through :class:`Session`,
+which keeps the Plan the single source of truth and asks the domain layer for every figure.
+"""
+
+from __future__ import annotations
+
+import datetime
+import hashlib
+import os
+from dataclasses import dataclass, replace
+from pathlib import Path
+
+from mediaplan.files import planfile
+from mediaplan.files.planfile import Plan
+from mediaplan.medium.catalog import Catalog
+from mediaplan.medium.errors import MediaplanError
+from mediaplan.medium.evaluate import Evaluation, evaluate
+from mediaplan.medium.recipe import Recipe
+from mediaplan.tasks.cells import cell_reference, cell_tolerance
+
+#: plan-file table that marks a recovery file (stripped again when it is restored)
+RECOVERY_TABLE = "recovery"
+
+
+@dataclass(frozen=True)
+class Outcome:
+    """The result of evaluating the current recipe: an Evaluation, or the reason there is none."""
+
+    evaluation: Evaluation | None
+    error: str | None = None
+
+
+class Session:
+    """One plan being edited: undo/redo of immutable recipes, dirty flag, evaluation, recovery."""
+
+    def __init__(self, plan: Plan, catalog: Catalog, *, dirty: bool = False, recovery: Path | None = None) -> None:
+        self.plan = plan
+        self.catalog = catalog
+        self.dirty = dirty
+        self._undo: list[Plan] = []
+        self._redo: list[Plan] = []
+        stamp = datetime.datetime.now().strftime("%Y%m%d-%H%M%S")
+        self.recovery_path = recovery or _recovery_name(plan.path, stamp)
+
+    # ---- constructors ---------------------------------------------------------------------
+    @classmethod
+    def new(cls, catalog: Catalog) -> Session:
+        return cls(Plan(), catalog)
+
+    @classmethod
+    def open(cls, path: str | Path, catalog: Catalog) -> Session:
+        return cls(planfile.read(path, catalog=catalog), catalog)
+
+    # ---- what the screens show ------------------------------------------------------------
+    @property
+    def recipe(self) -> Recipe:
+        return self.plan.recipe
+
+    @property
+    def label(self) -> str:
+        return self.plan.path.name if self.plan.path else "new plan"
+
+    @property
+    def can_undo(self) -> bool:
+        return bool(self._undo)
+
+    @property
+    def can_redo(self) -> bool:
+        return bool(self._redo)
+
+    def cell_reference_mosmol(self, recipe: Recipe | None = None) -> float | None:
+        """The plan's cell reference [mOsm/kg] (from [cells] osmolality or potential), or None."""
+        return cell_reference(None, self.plan, (recipe or self.recipe).temperature_k)
+
+    def evaluate(self, recipe: Recipe | None = None) -> Outcome:
+        """Evaluate the plan's recipe (or a tentative one); never raises."""
+        recipe = recipe or self.recipe
+        try:
+            tol = cell_tolerance(None, self.plan)
+            ev = evaluate(recipe, self.catalog, cell_reference_mosmol=self.cell_reference_mosmol(recipe),
+                          isotonic_tolerance=tol)
+        except MediaplanError as exc:
+            return Outcome(None, str(exc))
+        except (ValueError, ArithmeticError) as exc:  # a model failing on odd input must not end the session
+            return Outcome(None, f"the models could not evaluate this medium ({exc})")
+        return Outcome(ev)
+
+    # ---- edits --------------------------------------------------------------------------
+    def change(self, plan: Plan) -> None:
+        """Replace the plan by an edited copy (undoable)."""
+        if plan == self.plan:
+            return
+        self._undo.append(self.plan)
+        del self._undo[:-200]
+        self._redo.clear()
+        self.plan = plan
+        self.dirty = True
+
+    def set_recipe(self, recipe: Recipe) -> None:
+        self.change(self.plan.with_recipe(recipe))
+
+    def set_amount(self, component_id: str, text: str) -> None:
+        """Set one component's amount (text with a unit); raises AmountError for bad text."""
+        self.set_recipe(self.recipe.with_amount(component_id, text))
+
+    def remove(self, component_id: str) -> None:
+        """Remove a component: drop a user line, or set a base line to zero."""
+        base_ids = set()
+        if self.recipe.base:
+            base_ids = {ln.component for ln in self.catalog.medium(self.recipe.base).lines}
+        if component_id in base_ids:
+            self.set_recipe(self.recipe.with_amount(component_id, "0 mg/L"))
+        else:
+            self.set_recipe(self.recipe.without(component_id))
+
+    def undo(self) -> bool:
+        return self._step(self._undo, self._redo)
+
+    def redo(self) -> bool:
+        return self._step(self._redo, self._undo)
+
+    def _step(self, source: list[Plan], sink: list[Plan]) -> bool:
+        if not source:
+            return False
+        sink.append(self.plan)
+        self.plan = _keep_file(source.pop(), self.plan)
+        self.dirty = True
+        return True
+
+    # ---- files --------------------------------------------------------------------------
+    def save(self, path: str | Path | None = None, *, force: bool = False) -> Path:
+        """Save (atomic; ConflictError if the file changed on disk); clears the recovery file."""
+        target = planfile.write(self.plan, path, force=force)
+        self.dirty = False
+        self.discard_recovery()
+        self.recovery_path = _recovery_name(target, "")
+        return target
+
+    def write_recovery(self) -> Path | None:
+        """Autosave unsaved work to the recovery folder (atomic). Returns the file, or None if clean."""
+        if not self.dirty:
+            return None
+        extra = dict(self.plan.extra)
+        extra[RECOVERY_TABLE] = {
+            "path": str(self.plan.path.resolve()) if self.plan.path else "",
+            "disk_digest": self.plan.disk_digest or "",
+            "saved": datetime.datetime.now().isoformat(timespec="seconds"),
+        }
+        data = planfile.dumps(replace(self.plan, extra=extra)).encode("utf-8")
+        self.recovery_path.parent.mkdir(parents=True, exist_ok=True)
+        planfile.atomic_write(self.recovery_path, data, backup=False)
+        return self.recovery_path
+
+    def discard_recovery(self) -> None:
+        try:
+            self.recovery_path.unlink()
+        except FileNotFoundError:
+            pass
+
+
+def _keep_file(old: Plan, current: Plan) -> Plan:
+    """Undo restores the recipe and settings, never the file a plan was last saved to."""
+    return replace(old, path=current.path, disk_digest=current.disk_digest)
+
+
+def _recovery_name(path: Path | None, stamp: str) -> Path:
+    from mediaplan.files.paths import recovery_dir
+
+    if path is not None:
+        key = hashlib.sha256(str(Path(path).resolve()).encode()).hexdigest()[:12]
+        return recovery_dir() / f"{Path(path).stem}-{key}.toml"
+    return recovery_dir() / f"new-{stamp}-{os.getpid()}.toml"
+
+
+@dataclass(frozen=True)
+class Recovery:
+    """Unsaved work found in the recovery folder."""
+
+    file: Path
+    plan: Plan
+    original: Path | None
+    saved: str
+
+    @property
+    def summary(self) -> str:
+        where = self.original.name if self.original else "new plan"
+        n = len(self.plan.recipe.amounts)
+        return f"{self.plan.title} ({where}, {n} components set in the plan, autosaved {self.saved.replace('T', ' ')})"
+
+
+def find_recoveries(catalog: Catalog, for_path: str | Path | None = None) -> list[Recovery]:
+    """Recovery files, newest first; only the one for ``for_path`` when a plan is being opened.
+
+    Unreadable recovery files are skipped (they are kept on disk for the user to inspect).
+    """
+    from mediaplan.files.paths import recovery_dir
+
+    folder = recovery_dir()
+    if not folder.is_dir():
+        return []
+    want = str(Path(for_path).resolve()) if for_path else None
+    out = []
+    for f in sorted(folder.glob("*.toml"), key=lambda p: p.stat().st_mtime, reverse=True):
+        try:
+            plan = planfile.read(f, catalog=catalog)
+        except MediaplanError:
+            continue
+        meta = plan.extra.pop(RECOVERY_TABLE, {}) or {}
+        original = Path(meta["path"]) if meta.get("path") else None
+        if want is not None and str(original) != want:
+            continue
+        plan.path = original
+        plan.disk_digest = meta.get("disk_digest") or None
+        out.append(Recovery(f, plan, original, str(meta.get("saved", ""))))
+    return out
+
+
+def restore(recovery: Recovery, catalog: Catalog) -> Session:
+    """A session on the recovered plan: unsaved (dirty), same recovery file, same target file."""
+    return Session(recovery.plan, catalog, dirty=True, recovery=recovery.file)

@@ -1,0 +1,2 @@
+"""Text a person reads: terminal reports, exports (Markdown, CSV, HTML) and plots. Views format results;
+they compute no chemistry."""
