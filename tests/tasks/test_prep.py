@@ -10,6 +10,7 @@ from hypothesis import strategies as st
 
 from mediaplan.cli.main import main
 from mediaplan.medium.errors import AmountError
+from mediaplan.medium.recipe import Recipe
 from mediaplan.tasks.prep import (
     PGR_STOCK_MAX_G_PER_L,
     SOLUBILITY_MARGIN,
@@ -18,7 +19,6 @@ from mediaplan.tasks.prep import (
     round_mass,
     substock_for,
 )
-from mediaplan.medium.recipe import Recipe
 
 
 def _media_lines():

@@ -10,21 +10,21 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from mediaplan.files import planfile
 from mediaplan.cli.main import main
+from mediaplan.files import planfile
+from mediaplan.files.counts import read_counts_csv
 from mediaplan.medium.errors import AmountError, InfeasibleError, MediaplanError
 from mediaplan.medium.evaluate import evaluate
-from mediaplan.files.counts import read_counts_csv
+from mediaplan.medium.recipe import Recipe
+from mediaplan.medium.units import parse_amount
 from mediaplan.tasks.plasmolysis import (
     design_series,
     potential_of_amounts,
     potentials_around,
     potentials_between,
 )
-from mediaplan.medium.recipe import Recipe
-from mediaplan.medium.units import parse_amount
 
-ROOT = Path(__file__).resolve().parent.parent
+ROOT = Path(__file__).resolve().parents[2]
 MPA = 1e6
 
 BACKGROUNDS = {

@@ -27,7 +27,7 @@ from mediaplan.thermo.pitzer import (
     pitzer_params_from_dict,
 )
 
-CATALOG = Path(__file__).resolve().parents[1] / "catalog" / "pitzer.yaml"
+CATALOG = Path(__file__).resolve().parents[2] / "catalog" / "pitzer.yaml"
 T25 = 298.15
 
 

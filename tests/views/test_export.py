@@ -11,12 +11,12 @@ from pathlib import Path
 
 import pytest
 
-from mediaplan.medium.evaluate import evaluate
-from mediaplan.views.export import evaluation_report, prep_sheet
 from mediaplan.files.planfile import Plan
-from mediaplan.tasks.prep import build_sheet
-from mediaplan.medium.recipe import Recipe
 from mediaplan.files.sharing import provenance_of
+from mediaplan.medium.evaluate import evaluate
+from mediaplan.medium.recipe import Recipe
+from mediaplan.tasks.prep import build_sheet
+from mediaplan.views.export import evaluation_report, prep_sheet
 
 CHROMIUM = Path("/usr/bin/chromium")
 DAY = datetime.date(2024, 3, 1)

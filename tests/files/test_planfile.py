@@ -7,11 +7,11 @@ from pathlib import Path
 import pytest
 
 from mediaplan.files import planfile
-from mediaplan.medium.errors import ConflictError, MediaplanError, PlanFileError
 from mediaplan.files.planfile import Plan
+from mediaplan.medium.errors import ConflictError, MediaplanError, PlanFileError
 from mediaplan.medium.recipe import Recipe
 
-PLANS = sorted((Path(__file__).resolve().parent.parent / "plans").glob("*.toml"))
+PLANS = sorted((Path(__file__).resolve().parents[2] / "plans").glob("*.toml"))
 
 
 @pytest.mark.parametrize("path", PLANS, ids=lambda p: p.name)

@@ -10,15 +10,15 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from mediaplan.files import planfile
 from mediaplan.cli.main import main
+from mediaplan.files import planfile
 from mediaplan.medium.errors import AmountError, InfeasibleError, UnknownComponentError
 from mediaplan.medium.evaluate import evaluate
 from mediaplan.medium.recipe import Recipe
-from mediaplan.tasks.solve import TargetSpec, parse_solve_target, solve_target
 from mediaplan.medium.units import parse_amount
+from mediaplan.tasks.solve import TargetSpec, parse_solve_target, solve_target
 
-DATA = Path(__file__).resolve().parent / "data"
+DATA = Path(__file__).resolve().parents[1] / "data"
 
 #: round-trip tolerance of the issue: the re-evaluated potential within 0.2 % of the target
 ROUND_TRIP = 0.002

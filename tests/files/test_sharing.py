@@ -5,12 +5,10 @@ from __future__ import annotations
 import pytest
 import yaml
 
+from mediaplan.cli.main import main
 from mediaplan.files import planfile
 from mediaplan.files.catalog import bundled_folder, load_catalog
-from mediaplan.cli.main import main
-from mediaplan.medium.errors import CatalogError
 from mediaplan.files.planfile import Plan
-from mediaplan.medium.recipe import Recipe
 from mediaplan.files.sharing import (
     EmbeddedConflictError,
     canonical_digest,
@@ -20,6 +18,8 @@ from mediaplan.files.sharing import (
     provenance_of,
     read_plan,
 )
+from mediaplan.medium.errors import CatalogError
+from mediaplan.medium.recipe import Recipe
 
 
 def _facility(tmp_path, **changes):

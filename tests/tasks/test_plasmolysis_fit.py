@@ -12,10 +12,10 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from mediaplan.files import planfile
 from mediaplan.cli.main import main
-from mediaplan.medium.errors import FitError, MediaplanError
+from mediaplan.files import planfile
 from mediaplan.files.counts import read_counts_csv
+from mediaplan.medium.errors import FitError, MediaplanError
 from mediaplan.tasks.plasmolysis import (
     Counts,
     fieller_interval,
@@ -23,10 +23,10 @@ from mediaplan.tasks.plasmolysis import (
     fit_glm,
     inverse_link,
 )
-from mediaplan.views.plot import curve_points, png_bytes, svg_text
 from mediaplan.thermo.potential import osmolality_from_potential
+from mediaplan.views.plot import curve_points, png_bytes, svg_text
 
-ROOT = Path(__file__).resolve().parent.parent
+ROOT = Path(__file__).resolve().parents[2]
 DEMO_CSV = ROOT / "plans" / "demo_plasmolysis_counts.csv"
 
 
@@ -198,8 +198,8 @@ def test_comments_blank_lines_and_uncounted_levels_are_skipped(tmp_path):
 
 
 def test_concentration_columns_are_converted_with_the_model(tmp_path, catalog):
-    from mediaplan.tasks.plasmolysis import design_series, potentials_between
     from mediaplan.medium.recipe import Recipe
+    from mediaplan.tasks.plasmolysis import design_series, potentials_between
 
     d = design_series(Recipe(volume="50 mL"), "mannitol", potentials_between(-0.4e6, -1.6e6, 5), catalog=catalog)
     rows = "\n".join(f"{lv.molality_mol_per_kg!r},{y},40" for lv, y in zip(d.levels, (1, 8, 20, 33, 39),

@@ -17,11 +17,11 @@ from hypothesis import strategies as st
 from mediaplan.cli import main as cli
 from mediaplan.files import planfile
 from mediaplan.files.catalog import load_catalog
-from mediaplan.medium.errors import ConflictError, MediaplanError, PlanFileError
 from mediaplan.files.planfile import Plan
+from mediaplan.medium.errors import ConflictError, MediaplanError, PlanFileError
 from mediaplan.medium.recipe import Recipe
 
-BAD = Path(__file__).resolve().parent / "data" / "bad"
+BAD = Path(__file__).resolve().parents[1] / "data" / "bad"
 
 
 # ---- the corpus of broken files and the one line each must produce ----------------------------
@@ -321,17 +321,6 @@ def test_cli_fuzz(capsys, argv):
     assert "Traceback" not in out.err
     if code == 0 and "--json" in argv and out.out.strip().startswith("{"):
         json.loads(out.out)
-
-
-# ---- the core cannot leak UI -------------------------------------------------------------------------
-def test_core_and_domain_import_no_ui():
-    code = ("import sys; import mediaplan.thermo.mixing, mediaplan.thermo.pitzer, mediaplan.medium.evaluate, "
-            "mediaplan.tasks.solve, mediaplan.tasks.plasmolysis, mediaplan.tasks.prep, mediaplan.files.planfile, mediaplan.views.export, "
-            "mediaplan.cli.main, mediaplan.cli.commands.calc; "
-            "bad = [m for m in sys.modules if m.split('.')[0] in ('textual', 'rich')]; print(bad); "
-            "sys.exit(1 if bad else 0)")
-    r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)
-    assert r.returncode == 0, r.stdout + r.stderr
 
 
 def test_conflict_error_is_a_mediaplan_error():

@@ -11,14 +11,14 @@ import pytest
 
 from mediaplan.files import planfile
 from mediaplan.files.catalog import get_catalog
-from mediaplan.medium.evaluate import evaluate
 from mediaplan.files.planfile import Plan
+from mediaplan.medium.evaluate import evaluate
 from mediaplan.medium.recipe import Recipe
 from mediaplan.tui.app import MediaplanApp
 from mediaplan.tui.dialogs.amount import AmountScreen
 from mediaplan.tui.dialogs.files import ChoiceScreen
-from mediaplan.tui.screens.main import MainScreen
 from mediaplan.tui.dialogs.picker import PickerScreen
+from mediaplan.tui.screens.main import MainScreen
 from mediaplan.tui.session import Session, find_recoveries
 from mediaplan.tui.widgets.relations import RelationsPanel, figures
 
@@ -255,16 +255,6 @@ async def test_help_lists_every_binding(catalog):
             assert a.tooltip.split()[0] in shown
         ids = {b.id for b in app.screen.query_one("Static").screen.app.BINDINGS}
         assert "mediaplan.save" in ids
-
-
-def test_domain_modules_do_not_import_textual():
-    import subprocess
-    import sys
-
-    code = ("import sys, mediaplan.medium.evaluate, mediaplan.files.planfile, mediaplan.tui.session; "
-            "print('textual' in sys.modules, 'rich' in sys.modules)")
-    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout.split()
-    assert out[0] == "False"
 
 
 @run_async

@@ -26,7 +26,7 @@ from mediaplan.thermo.neutral import (
 )
 from mediaplan.thermo.params import NeutralParams
 
-REPO = Path(__file__).resolve().parents[1]
+REPO = Path(__file__).resolve().parents[2]
 FIXTURE = REPO / "tests" / "data" / "crc_concentrative_subset.tsv"
 SHARED = REPO.parent / "shared" / "data" / "crc_concentrative_subset.tsv"
 

@@ -12,7 +12,7 @@ from pathlib import Path
 import pytest
 import yaml
 
-ROOT = Path(__file__).resolve().parent.parent / "catalog"
+ROOT = Path(__file__).resolve().parents[2] / "catalog"
 COMPONENT_FILES = sorted((ROOT / "components").glob("*.yaml"))
 MEDIA_FILES = sorted((ROOT / "media").glob("*.yaml"))
 

@@ -10,7 +10,7 @@ import pytest
 from mediaplan.medium.evaluate import evaluate
 from mediaplan.medium.recipe import Recipe
 
-DATA = Path(__file__).resolve().parent / "data"
+DATA = Path(__file__).resolve().parents[1] / "data"
 
 MS_SALTS = [("NH4NO3", "1650 mg/L"), ("KNO3", "1900 mg/L"), ("CaCl2·2H2O", "440 mg/L"),
             ("MgSO4·7H2O", "370 mg/L"), ("KH2PO4", "170 mg/L")]

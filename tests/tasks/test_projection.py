@@ -8,8 +8,8 @@ import pytest
 
 from mediaplan.cli.main import main
 from mediaplan.medium.errors import AmountError
-from mediaplan.tasks.projection import ProjectionSettings, parse_fraction, project, settings_from
 from mediaplan.medium.recipe import Recipe
+from mediaplan.tasks.projection import ProjectionSettings, parse_fraction, project, settings_from
 
 
 def _interp(x, x0, y0, x1, y1):
