@@ -26,9 +26,9 @@ def add_arguments(p) -> None:
 def load_counts(args, catalog):
     """Counts from a CSV file or from a plan's [series] table."""
     from mediaplan.files import planfile
+    from mediaplan.files.counts import read_counts_csv
     from mediaplan.medium.errors import FitError
     from mediaplan.medium.recipe import Recipe
-    from mediaplan.files.counts import read_counts_csv
     from mediaplan.tasks.plasmolysis import counts_from_series
 
     path = args.counts
