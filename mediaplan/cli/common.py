@@ -67,3 +67,29 @@ def print_json(obj) -> None:
 
 def fail(msg: str, **kw) -> MediaplanError:
     return MediaplanError(msg, **kw)
+
+
+#: the flag that feeds each field the domain names in its errors (only for errors not located in a file:
+#: a field read from a plan keeps the plan's own name)
+FLAG_OF_FIELD = {
+    "osmoticum": "--with", "target": "--target", "cells": "--cells", "cells.tolerance": "--tolerance",
+    "ratio": "--ratio", "hold": "--hold", "link": "--link", "format": "--format", "trust": "--trust",
+    "series.first": "--from", "series.last": "--to", "series.step": "--step", "series.steps": "--steps",
+    "series.stock": "--stock", "batch_volume": "--volume", "stock_volume": "--stock-volume",
+    "stock_factor": "--factor", "form": "--form",
+}
+
+
+def in_cli_words(exc):
+    """Name the command-line flags behind an error: the one that feeds its field (for an error no file
+    holds) and the one that would settle it (``asks_for``); returns ``exc``."""
+    wanted = FLAG_OF_FIELD.get(exc.asks_for or "")
+    if wanted and wanted not in (exc.hint or ""):
+        exc.hint = f"{exc.hint}; give it with {wanted}" if exc.hint else f"give it with {wanted}"
+    if exc.file or exc.line or not exc.field:
+        return exc
+    head, sep, rest = exc.field.partition(" ")
+    flag = FLAG_OF_FIELD.get(exc.field) or FLAG_OF_FIELD.get(head)
+    if flag:
+        exc.field = flag + (f" {rest}" if sep and exc.field not in FLAG_OF_FIELD else "")
+    return exc

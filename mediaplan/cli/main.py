@@ -76,7 +76,9 @@ def main(argv: list[str] | None = None) -> int:
         mod = importlib.import_module(args._module)
         return int(mod.run(args) or 0)
     except MediaplanError as exc:
-        print(f"mediaplan: {exc}", file=sys.stderr)
+        from mediaplan.cli.common import in_cli_words
+
+        print(f"mediaplan: {in_cli_words(exc)}", file=sys.stderr)
         return 2
     except KeyboardInterrupt:
         print("mediaplan: interrupted", file=sys.stderr)

@@ -176,7 +176,7 @@ def bundled_folder() -> Path:
         folder = Path(__file__).resolve().parents[2] / "catalog"
     if not (folder / "components").is_dir() or not any((folder / "components").glob("*.yaml")):
         raise CatalogError("the bundled catalog is missing or empty", file=str(folder),
-                           hint="reinstall mediaplan (python3 -m pip install --force-reinstall mediaplan)")
+                           hint="reinstall mediaplan: the installed package lacks its catalog files")
     return folder
 
 
@@ -209,7 +209,7 @@ def load_catalog(folders: Sequence[Path | str] | None = None, *, extra: Iterable
     paths = [Path(f) for f in (folders if folders is not None else default_folders())] + [Path(e) for e in extra]
     for p in paths[1:]:
         if not p.is_dir():
-            raise CatalogError("catalog folder not found", file=str(p), hint="check MEDIAPLAN_CATALOG or --catalog")
+            raise CatalogError("catalog folder not found", file=str(p), hint="check the facility catalog folders named (MEDIAPLAN_CATALOG and the extra folders given)")
     components: dict[str, Component] = {}
     media: dict[str, Medium] = {}
     shadowed: list[str] = []

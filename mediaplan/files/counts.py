@@ -178,7 +178,7 @@ def read_counts_csv(path: str | Path, *, osmoticum: str | None = None, backgroun
             osmo = osmoticum or col.osmoticum
             if osmo is None:
                 raise FitError(f"column '{col.header}' gives amounts but not of what", file=file, line=head_line,
-                               field=col.header, hint="name the osmoticum with --with (e.g. --with mannitol)")
+                               field=col.header, hint="name the osmoticum of the series (e.g. mannitol)", asks_for="osmoticum")
             amounts = []
             for v, ln in zip(x, lines, strict=True):
                 try:

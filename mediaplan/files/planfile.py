@@ -333,7 +333,7 @@ def write(plan: Plan, path: str | Path | None = None, *, force: bool = False) ->
             same_file = plan.path is not None and _same(plan.path, target)
             if not same_file:
                 raise ConflictError("a different file already exists there", file=str(target),
-                                    hint="choose another name, or overwrite on purpose (--force)")
+                                    hint="choose another name, or say that it may be overwritten")
             if plan.disk_digest is not None and current != plan.disk_digest:
                 raise ConflictError("the file changed on disk since it was opened", file=str(target),
                                     hint="save beside it under another name, then compare (mediaplan diff)")

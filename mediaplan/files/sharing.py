@@ -205,7 +205,7 @@ def catalog_for(plan, catalog: Catalog, *, trust: str | None = None) -> tuple[Ca
     Returns (catalog, notes).
     """
     if trust not in (None, "plan", "local"):
-        raise MediaplanError(f"unknown trust {trust!r}", field="--trust", hint="use plan or local")
+        raise MediaplanError(f"unknown trust {trust!r}", field="trust", hint="use plan or local")
     prov = plan.provenance or {}
     emb = prov.get("embedded")
     where = str(plan.path) if getattr(plan, "path", None) else "plan"
@@ -238,7 +238,8 @@ def catalog_for(plan, catalog: Catalog, *, trust: str | None = None) -> tuple[Ca
                     raise EmbeddedConflictError(
                         f"embedded {kind} '{eid}' differs from the local catalog entry in {local.file}",
                         file=where, field=f"provenance.embedded.{key}.{eid}",
-                        hint=f"choose with --trust plan or --trust local; see mediaplan catalog show {eid}")
+                        hint=f"choose whether the plan's entry or the local catalog's entry of {eid} is trusted",
+                        asks_for="trust")
     merged = Catalog(comps, media, catalog.pitzer, catalog.neutral, catalog.folders, list(catalog.shadowed))
     return merged, notes
 

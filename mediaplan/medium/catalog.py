@@ -184,8 +184,8 @@ class Catalog:
                 if cid not in ids:
                     ids.append(cid)
         if ids:
-            return "did you mean " + ", ".join(ids[:4]) + "? Or search: mediaplan catalog search TEXT"
-        return "search with: mediaplan catalog search TEXT"
+            return "did you mean " + ", ".join(ids[:4]) + "? Or search the catalog by name, formula or CAS number"
+        return "search the catalog by name, formula or CAS number"
 
     def medium(self, mid: str, *, field: str | None = None) -> Medium:
         if mid in self.media:

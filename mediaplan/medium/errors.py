@@ -17,6 +17,8 @@ class MediaplanError(Exception):
     line : 1-based line in that file, if known
     field : the field or key concerned (``components.sucrose.amount``)
     hint : what to do about it
+    asks_for : the input that would settle it, as a domain field name (``osmoticum``, ``trust``); each
+        front end says how its users give it (the command line names its flag)
     """
 
     def __init__(
@@ -27,6 +29,7 @@ class MediaplanError(Exception):
         line: int | None = None,
         field: str | None = None,
         hint: str | None = None,
+        asks_for: str | None = None,
     ) -> None:
         super().__init__(message)
         self.message = message
@@ -34,6 +37,7 @@ class MediaplanError(Exception):
         self.line = line
         self.field = field
         self.hint = hint
+        self.asks_for = asks_for
 
     def where(self) -> str:
         parts = []

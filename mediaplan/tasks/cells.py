@@ -34,4 +34,4 @@ def cell_tolerance(text: str | None, plan) -> float:
         return parse_fraction(plan.cells["tolerance"], field="cells.tolerance", upper=0.5)
     if text is None:
         return ISOTONIC_TOLERANCE
-    return parse_fraction(text, field="--tolerance", upper=0.5)
+    return parse_fraction(text, field="cells.tolerance", upper=0.5)

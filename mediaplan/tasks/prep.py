@@ -229,21 +229,21 @@ def _forms(catalog: Catalog, recipe_lines: list[Line], forms: dict[str, str] | N
     out: dict[str, Component] = {}
     ids = {ln.component.id: ln.component for ln in recipe_lines}
     for src, dst in (forms or {}).items():
-        a = catalog.resolve(src, field=f"--form {src}").component
-        b = catalog.resolve(dst, field=f"--form {src}={dst}").component
+        a = catalog.resolve(src, field=f"form {src}").component
+        b = catalog.resolve(dst, field=f"form {src}={dst}").component
         if a.id not in ids:
             same = [c for c in ids.values() if c.substance and c.substance == a.substance]
             if not same:
-                raise AmountError(f"{a.id} is not in this medium", field=f"--form {src}",
+                raise AmountError(f"{a.id} is not in this medium", field=f"form {src}",
                                   hint="name a component of the recipe on the left of '='")
             a = same[0]
         if not a.substance or a.substance != b.substance:
             others = [c.id for c in catalog.components.values() if c.substance and c.substance == a.substance
                       and c.id != a.id]
-            raise AmountError(f"{b.id} is not a form of {a.substance or a.id}", field=f"--form {src}={dst}",
+            raise AmountError(f"{b.id} is not a form of {a.substance or a.id}", field=f"form {src}={dst}",
                               hint=("forms on offer: " + ", ".join(others)) if others else "this component has no other form")
         if not a.molar_mass or not b.molar_mass:
-            raise AmountError(f"{a.id} or {b.id} has no molar mass", field=f"--form {src}={dst}")
+            raise AmountError(f"{a.id} or {b.id} has no molar mass", field=f"form {src}={dst}")
         out[a.id] = b
     return out
 
@@ -406,7 +406,7 @@ def build_stocks(rows: list[Weighing], components: dict[str, Component], batch_m
             members.setdefault(k, []).append(r)
     unknown = [k for k in factors if k not in members and f"pgr:{k}" not in members]
     if unknown:
-        raise AmountError(f"no stock named {unknown[0]!r} in this scheme", field="--factor",
+        raise AmountError(f"no stock named {unknown[0]!r} in this scheme", field="stock_factor",
                           hint="stocks here: " + ", ".join(k.removeprefix("pgr:") for k in members))
     stocks: list[Stock] = []
     routed: dict[str, str] = {}
@@ -420,10 +420,10 @@ def build_stocks(rows: list[Weighing], components: dict[str, Component], batch_m
         user = factors.get(key, factors.get(key.removeprefix("pgr:")))
         if user is not None:
             if not math.isfinite(user) or user < 1:
-                raise AmountError(f"stock factor {user:g} for {label} must be 1 or more", field="--factor")
+                raise AmountError(f"stock factor {user:g} for {label} must be 1 or more", field="stock_factor")
             problems = _check_stock(items, user)
             if problems:
-                raise AmountError(f"stock '{label}' at {user:g}×: {problems[0]}", field=f"--factor {key}",
+                raise AmountError(f"stock '{label}' at {user:g}×: {problems[0]}", field=f"stock_factor {key}",
                                   hint="choose a smaller factor, or leave it to mediaplan")
             factor = user
         else:
@@ -487,12 +487,12 @@ def build_sheet(recipe: Recipe, catalog: Catalog, *, volume: str | None = None, 
     ph : target pH text (default: the base medium's, else 5.7–5.8)
     """
     vol_text = volume or recipe.volume
-    batch_m3 = parse_volume(vol_text, field="--volume")
+    batch_m3 = parse_volume(vol_text, field="batch_volume")
     batch_l = batch_m3 * 1000.0
-    stock_ml = parse_volume(stock_volume, field="--stock-volume") * 1e6 if stock_volume else None
+    stock_ml = parse_volume(stock_volume, field="stock_volume") * 1e6 if stock_volume else None
     lines = recipe.lines(catalog)
     if not lines:
-        raise MediaplanError("the recipe has no components", hint='add some, e.g. sucrose="30 g/L" or --base ms1962')
+        raise MediaplanError("the recipe has no components", hint="add components or a base medium first")
     shelf = _forms(catalog, lines, forms)
     per_litre = _grams_per_litre(lines, catalog, recipe.temperature_k)
     rows: list[Weighing] = []
@@ -518,7 +518,7 @@ def build_sheet(recipe: Recipe, catalog: Catalog, *, volume: str | None = None, 
     if stocks:
         stock_list, rows, notes = build_stocks(rows, components, batch_l * 1000.0, factors, stock_ml)
     elif factors:
-        raise AmountError("--factor needs --stocks", field="--factor", hint="add --stocks")
+        raise AmountError("a stock factor needs a stock scheme", field="stock_factor", hint="ask for stock solutions too")
     medium = catalog.medium(recipe.base) if recipe.base else None
     ph_text = ph or (medium.ph if medium and medium.ph else "5.7–5.8")
     return PrepSheet(
@@ -642,19 +642,19 @@ def parse_pairs(items: list[str] | None, what: str) -> dict[str, str]:
     for item in items or []:
         key, eq, val = item.partition("=")
         if not eq or not key.strip() or not val.strip():
-            raise AmountError(f"'{item}' is not KEY=VALUE", field=what, hint=f"write e.g. {what} macro=10")
+            raise AmountError(f"'{item}' is not KEY=VALUE", field=what, hint="write e.g. macro=10")
         out[key.strip()] = val.strip()
     return out
 
 
 def parse_factors(items: list[str] | None) -> dict[str, float]:
     out = {}
-    for key, val in parse_pairs(items, "--factor").items():
+    for key, val in parse_pairs(items, "stock_factor").items():
         try:
             f = float(val.rstrip("xX×"))
         except ValueError:
-            raise AmountError(f"stock factor {val!r} is not a number", field=f"--factor {key}",
-                              hint="write e.g. --factor micro=100") from None
+            raise AmountError(f"stock factor {val!r} is not a number", field=f"stock_factor {key}",
+                              hint="write e.g. micro=100") from None
         out[key] = f
     return out
 

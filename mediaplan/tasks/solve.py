@@ -129,7 +129,7 @@ def target_osmolality(spec: TargetSpec, T: float, cell_reference_mosmol: float |
         return spec.value
     if cell_reference_mosmol is None:
         raise AmountError(f"target {spec.text!r} needs a cell reference", field="target",
-                          hint='give --cells "450 mOsm/kg" (or "-1.1 MPa"), or a [cells] table in the plan')
+                          hint='give the cells\' osmolality or osmotic potential, e.g. "450 mOsm/kg" or "-1.1 MPa"')
     if not math.isfinite(cell_reference_mosmol) or cell_reference_mosmol <= 0:
         raise AmountError("the cell reference must be a positive osmolality", field="cells")
     y = cell_reference_mosmol / 1000.0 * (1.0 + spec.offset_fraction) + spec.offset_osmol
@@ -418,20 +418,20 @@ def _per_x(comp: Component, kind: str, rho_w: float) -> float:
 # ---- the solver --------------------------------------------------------------------------------
 def _resolve_osmotica(catalog: Catalog, osmotica: Sequence[str]) -> list[Component]:
     if not osmotica:
-        raise AmountError("name an osmoticum to add", field="with", hint="e.g. --with mannitol")
+        raise AmountError("name an osmoticum to add", field="osmoticum", hint="e.g. mannitol, sorbitol, sucrose or PEG")
     if len(osmotica) > 2:
-        raise AmountError("at most two osmotica", field="with", hint="one, or two with a ratio or a hold")
+        raise AmountError("at most two osmotica", field="osmoticum", hint="one, or two with a ratio or a hold")
     out = []
     for name in osmotica:
-        comp = catalog.resolve(name, field=f"with {name}").component
+        comp = catalog.resolve(name, field="osmoticum").component
         if not comp.species:
             raise UnknownComponentError(f"{comp.id} does not dissolve into solutes: it cannot set a potential",
-                                        field=f"with {name}", hint="choose mannitol, sorbitol, sucrose or PEG")
+                                        field="osmoticum", hint="choose mannitol, sorbitol, sucrose or PEG")
         if comp.molar_mass is None:
-            raise UnknownComponentError(f"{comp.id} has no molar mass in the catalog", field=f"with {name}",
+            raise UnknownComponentError(f"{comp.id} has no molar mass in the catalog", field="osmoticum",
                                         hint="add molar_mass to its catalog entry")
         if any(c.id == comp.id for c in out):
-            raise AmountError(f"{comp.id} is named twice", field="with", hint="name two different osmotica")
+            raise AmountError(f"{comp.id} is named twice", field="osmoticum", hint="name two different osmotica")
         out.append(comp)
     return out
 
@@ -477,7 +477,7 @@ def _setup(recipe: Recipe, catalog: Catalog, comps_os: list[Component], ratio: l
         comp = catalog.resolve(key, field=f"hold {key}").component
         if comp.id not in {c.id for c in comps_os}:
             raise AmountError(f"held component {comp.id} is not one of the osmotica", field="hold",
-                              hint="hold one of the components named with --with")
+                              hint="hold one of the osmotica being added")
         held_ids[comp.id] = amt if isinstance(amt, Amount) else parse_amount(str(amt), field=f"hold {key}")
     free = [c for c in comps_os if c.id not in held_ids]
     if not free:
@@ -486,8 +486,8 @@ def _setup(recipe: Recipe, catalog: Catalog, comps_os: list[Component], ratio: l
     if ratio is not None and held_ids:
         raise AmountError("give a ratio or a hold, not both", field="ratio")
     if len(free) == 2 and ratio is None:
-        raise AmountError("with two osmotica give their ratio or hold one of them", field="with",
-                          hint='e.g. --ratio 1:1, or --hold sucrose="20 g/L"')
+        raise AmountError("with two osmotica give their ratio or hold one of them", field="osmoticum",
+                          hint='e.g. a ratio of 1:1, or sucrose held at 20 g/L')
     weights = ratio if ratio is not None else [1.0] * len(free)
     start = recipe
     for cid, amt in held_ids.items():
@@ -497,7 +497,7 @@ def _setup(recipe: Recipe, catalog: Catalog, comps_os: list[Component], ratio: l
     for c in free:
         for ln in lines:
             if ln.component.id != c.id and c.substance and ln.component.substance == c.substance:
-                raise AmountError(f"the medium already holds {c.substance} as {ln.component.id}", field="with",
+                raise AmountError(f"the medium already holds {c.substance} as {ln.component.id}", field="osmoticum",
                                   hint=f"solve with {ln.component.id} instead of {c.id}")
     T = start.temperature_k
     from mediaplan.thermo.water import density

@@ -233,7 +233,7 @@ _RENDER = {"md": _markdown, "csv": _csv, "html": _html}
 
 def _render(fmt_name: str, *parts) -> str:
     if fmt_name not in _RENDER:
-        raise MediaplanError(f"unknown format {fmt_name!r}", field="--format", hint="use md, csv or html")
+        raise MediaplanError(f"unknown format {fmt_name!r}", field="format", hint="use md, csv or html")
     return _RENDER[fmt_name](*parts)
 
 

@@ -210,7 +210,7 @@ def test_concentration_columns_are_converted_with_the_model(tmp_path, catalog):
     mm = "\n".join(f"{lv.molality_mol_per_kg * 1000!r},{y},40" for lv, y in zip(d.levels, (1, 8, 20, 33, 39),
                                                                                 strict=True))
     p = _csv(tmp_path, "concentration (mmol/kg),plasmolysed,total\n" + mm + "\n", "mm.csv")
-    with pytest.raises(FitError, match="--with"):
+    with pytest.raises(FitError, match="name the osmoticum"):
         read_counts_csv(p, catalog=catalog)
     c2 = read_counts_csv(p, osmoticum="mannitol", catalog=catalog)
     np.testing.assert_allclose(c2.water_potential_mpa, c.water_potential_mpa, rtol=1e-9)

@@ -34,7 +34,7 @@ def counts_from_series(series: dict, *, file: str | None = None, temperature_k: 
     levels = series.get("levels")
     if not isinstance(levels, list) or not levels:
         raise FitError("the [series] table has no levels", file=file, field="series.levels",
-                       hint="design a series first: mediaplan series ... --write PLAN.toml")
+                       hint="design a series and save it in the plan first")
     xs, ys, ns = [], [], []
     skipped = 0
     for i, lv in enumerate(levels, start=1):

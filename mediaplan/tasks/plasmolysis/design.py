@@ -41,8 +41,8 @@ def potentials_between(start: float, stop: float, steps: int) -> np.ndarray:
     """``steps`` water potentials [Pa] evenly spaced from ``start`` to ``stop`` (both included)."""
     _check_steps(steps)
     if start == stop:
-        raise AmountError("the first and last level are the same potential", field="--to",
-                          hint="give two different potentials, e.g. --from \"-0.2 MPa\" --to \"-1.6 MPa\"")
+        raise AmountError("the first and last level are the same potential", field="series.last",
+                          hint="give two different potentials, e.g. from -0.2 MPa to -1.6 MPa")
     return np.linspace(start, stop, steps)
 
 
@@ -51,21 +51,21 @@ def potentials_around(centre: float, step: float, steps: int) -> np.ndarray:
     _check_steps(steps)
     step = abs(step)
     if step == 0:
-        raise AmountError("the step between levels is zero", field="--step", hint='e.g. --step "0.1 MPa"')
+        raise AmountError("the step between levels is zero", field="series.step", hint="e.g. a step of 0.1 MPa")
     psi = centre + step * (np.arange(steps) - (steps - 1) / 2.0)[::-1]
     if psi[0] >= 0:
         raise AmountError(f"the series around {centre / 1e6:g} MPa with steps of {step / 1e6:g} MPa reaches "
-                          f"{psi[0] / 1e6:+.3g} MPa, which no solution has", field="--step",
+                          f"{psi[0] / 1e6:+.3g} MPa, which no solution has", field="series.step",
                           hint="use a smaller step, fewer levels or a more negative centre")
     return psi
 
 
 def _check_steps(steps: int) -> None:
     if not isinstance(steps, int) or steps < 2:
-        raise AmountError(f"a series needs at least 2 levels (got {steps})", field="--steps",
+        raise AmountError(f"a series needs at least 2 levels (got {steps})", field="series.steps",
                           hint="the fit needs 3 or more levels; 6-10 is usual")
     if steps > 60:
-        raise AmountError(f"{steps} levels is more than anyone counts", field="--steps", hint="use 60 or fewer")
+        raise AmountError(f"{steps} levels is more than anyone counts", field="series.steps", hint="use 60 or fewer")
 
 
 @dataclass
@@ -160,7 +160,7 @@ class _Mixer:
         self.already = next((ln.amount.text for ln in lines if ln.component.id == osmoticum.id or (
             osmoticum.substance and ln.component.substance == osmoticum.substance)), None)
         if not osmoticum.species or not osmoticum.molar_mass:
-            raise MediaplanError(f"{osmoticum.id} dissolves into nothing the model counts", field="--with",
+            raise MediaplanError(f"{osmoticum.id} dissolves into nothing the model counts", field="osmoticum",
                                  hint="choose a solute such as mannitol, sorbitol, sucrose or KNO3")
         self.T = background.temperature_k
         self.model = compiled(catalog, [ln.component for ln in lines] + [osmoticum], self.T)
@@ -256,7 +256,7 @@ def design_series(background: Recipe, osmoticum: str, potentials_pa: Sequence[fl
     ------
     InfeasibleError when a level is less negative than the background or beyond what dissolves.
     """
-    comp = catalog.resolve(osmoticum, field="--with").component
+    comp = catalog.resolve(osmoticum, field="osmoticum").component
     mixer = _Mixer(background, comp, catalog)
     T = mixer.T
     psi = np.asarray(potentials_pa, dtype=float)
@@ -267,7 +267,7 @@ def design_series(background: Recipe, osmoticum: str, potentials_pa: Sequence[fl
     if above.size:
         i = int(above[0])
         raise InfeasibleError(f"level {i + 1} ({psi[i] / 1e6:.4g} MPa) is not more negative than the background "
-                              f"itself ({psi_bg / 1e6:.4g} MPa)", field="--from",
+                              f"itself ({psi_bg / 1e6:.4g} MPa)", field="series.first",
                               hint="start the series below the background's potential, or dilute the background")
     hi = _upper_bound(mixer, float(y_target.max()), psi, T, comp)
     n_x = _bracket_and_solve(mixer.osmolality, y_target, 0.0, hi, "level")
@@ -303,14 +303,14 @@ def _upper_bound(mixer: _Mixer, y_max: float, psi: np.ndarray, T: float, comp: C
             return hi
         if hi >= mixer.n_max:
             raise InfeasibleError(f"{comp.id} cannot bring the background down to {psi.min() / 1e6:.4g} MPa: "
-                                  "the solution would be mostly solute", field="--to",
+                                  "the solution would be mostly solute", field="series.last",
                                   hint="choose a less negative last level or another osmoticum")
         hi = min(hi * 2.0, mixer.n_max)
 
 
 def _add_stock(design: SeriesDesign, mixer: _Mixer, stock_text: str, y_target: np.ndarray, vol_l: float) -> None:
     """Volumes of stock and diluent per level, from the water content of each (not C1V1 = C2V2)."""
-    amt = parse_amount(stock_text, field="--stock")
+    amt = parse_amount(stock_text, field="series.stock")
     model, k = mixer.model, mixer.k
     n_s, b_s = model.amounts_to_arrays([Amount(0.0, "molar", "0 mM")] * k + [amt])
     n_stock, b_stock = mixer.n0.copy(), mixer.b0.copy()
@@ -321,7 +321,7 @@ def _add_stock(design: SeriesDesign, mixer: _Mixer, stock_text: str, y_target: n
     if not math.isfinite(y_s) or y_s < float(y_target.max()) * (1 - 1e-9):
         psi_s = float(potential.potential_from_osmolality(y_s, mixer.T)) / 1e6
         raise InfeasibleError(f"the stock ({stock_text}, {psi_s:.4g} MPa) is weaker than the last level "
-                              f"({design.levels[-1].water_potential_mpa:.4g} MPa)", field="--stock",
+                              f"({design.levels[-1].water_potential_mpa:.4g} MPa)", field="series.stock",
                               hint="make the stock more concentrated than the most negative level")
     W_s, sol_s = (float(a[0]) for a in mixer.water_and_solutes(st_s))
     W_d = float(st_d.water_kg_per_m3[0])
@@ -402,7 +402,7 @@ def describe_background(recipe: Recipe) -> str:
 def potential_of_amounts(background: Recipe, osmoticum: str, amounts: Sequence[Amount], *,
                          catalog: Catalog) -> np.ndarray:
     """Water potential [Pa] of the background with each amount of the osmoticum (one batched model call)."""
-    comp = catalog.resolve(osmoticum, field="--with").component
+    comp = catalog.resolve(osmoticum, field="osmoticum").component
     mixer = _Mixer(background, comp, catalog)
     n = np.tile(mixer.n0, (len(amounts), 1))
     b = np.tile(mixer.b0, (len(amounts), 1))

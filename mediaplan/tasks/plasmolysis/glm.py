@@ -66,7 +66,7 @@ def _mu_and_derivative(eta: np.ndarray, link: str) -> tuple[np.ndarray, np.ndarr
 
 def check_link(link: str) -> None:
     if link not in LINKS:
-        raise FitError(f"unknown link {link!r}", field="--link", hint="use logit or probit")
+        raise FitError(f"unknown link {link!r}", field="link", hint="use logit or probit")
 
 
 def fit_glm(x, y, n, link: str = "logit", *, max_iter: int = 100, tol: float = 1e-13) -> GLMResult:
