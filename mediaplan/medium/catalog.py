@@ -76,6 +76,14 @@ class Component:
         return self.molar_mass - self.hydrate_water * 18.015268
 
     @property
+    def saturation_molality(self) -> float | None:
+        """[mol/kg water] of the substance at saturation (25 °C, from ``solubility``), or None without data.
+        The one place the solubility in g per 100 g water becomes a molality."""
+        if self.solubility is None or not self.anhydrous_molar_mass:
+            return None
+        return self.solubility * 10.0 / self.anhydrous_molar_mass
+
+    @property
     def display(self) -> str:
         return self.formula or self.name
 
