@@ -166,14 +166,15 @@ def bundled_folder() -> Path:
     """
     import importlib.resources
 
+    package = Path(__file__).resolve().parents[1]
     try:
-        root = importlib.resources.files("mediaplan._catalog")
+        folder = Path(str(importlib.resources.files("mediaplan._catalog")))
     except ModuleNotFoundError:
-        root = None
-    folder = Path(str(root)) if root is not None else None
-    if folder is None or not folder.is_dir():
-        # running from a source tree that was never installed: the checkout's top-level folder
-        folder = Path(__file__).resolve().parents[2] / "catalog"
+        folder = package / "_catalog"  # where an install keeps it: the error names this folder
+    if not folder.is_dir() and (package.parent / "pyproject.toml").is_file():
+        # a source tree that was never installed: the checkout's top-level folder (never a folder named
+        # catalog that happens to sit beside an installed package)
+        folder = package.parent / "catalog"
     if not (folder / "components").is_dir() or not any((folder / "components").glob("*.yaml")):
         raise CatalogError("the bundled catalog is missing or empty", file=str(folder),
                            hint="reinstall mediaplan: the installed package lacks its catalog files")
