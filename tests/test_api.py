@@ -23,7 +23,6 @@ import mediaplan
 import mediaplan as mp
 from mediaplan import api
 from mediaplan.cli import main as cli
-from mediaplan.tasks.prep import sheet_to_dict
 
 ROOT = Path(__file__).resolve().parents[1]
 PLANS = ROOT / "plans"
@@ -38,9 +37,8 @@ def cli_json(capsys, *argv) -> dict:
 
 
 def sheet_dict(sheet) -> dict:
-    # PrepSheet.to_dict() is the sheet's own form where it exists; sheet_to_dict() is what prep --json prints;
-    # through JSON as the command prints it (tuples become lists)
-    return json.loads(json.dumps(sheet.to_dict() if hasattr(sheet, "to_dict") else sheet_to_dict(sheet)))
+    """``PrepSheet.to_dict()`` as ``prep --json`` prints it (through JSON: tuples become lists)."""
+    return json.loads(json.dumps(sheet.to_dict()))
 
 
 # ---- the package's public names -----------------------------------------------------------------------
