@@ -17,6 +17,7 @@ from mediaplan.medium.evaluate import Evaluation
 from mediaplan.tasks.prep import PrepSheet, format_mass, format_volume_ml, gel_note, ph_osmotic_note
 from mediaplan.views.report import component_rows
 from mediaplan.views.report import fmt as fmt_number
+from mediaplan.views.table import markdown_table
 
 FORMATS = ("md", "csv", "html")
 
@@ -47,7 +48,6 @@ def _prep_tables(sheet: PrepSheet) -> list[Table]:
     stock_label = {s.key: s.label for s in sheet.stocks}
     rows = []
     for r in sheet.rows:
-        weigh = format_volume_ml(r.millilitres) if r.millilitres is not None else format_mass(r.grams)
         if r.route.startswith("stock:"):
             how = f"stock: {stock_label[r.route[6:]]}"
         elif r.route == "late":
@@ -58,7 +58,7 @@ def _prep_tables(sheet: PrepSheet) -> list[Table]:
             how = "weigh"
         note = "; ".join(x for x in (r.form_note, r.substock.text() if r.substock else None,
                                      f"confidence {r.confidence}" if r.confidence == "C" else None) if x)
-        rows.append([r.display, r.amount, weigh, how, note])
+        rows.append([r.display, r.amount, r.weigh, how, note])
     tables: list[Table] = [(f"Components for {format_volume_ml(sheet.volume_l * 1000)}",
                             ["component", "amount", "per batch", "how", "notes"], rows)]
     if sheet.stocks:
@@ -122,26 +122,17 @@ def _eval_sections(ev: Evaluation) -> list[tuple[str, list[str]]]:
 SIGN_LINES = ("prepared by", "checked by", "date")
 
 
-def _md_table(header: list[str], rows: list[list[str]]) -> list[str]:
-    def cell(x: str) -> str:
-        return str(x).replace("|", "\\|").replace("\n", " ")
-
-    out = ["| " + " | ".join(cell(h) for h in header) + " |", "|" + "|".join("---" for _ in header) + "|"]
-    out += ["| " + " | ".join(cell(c) for c in r) + " |" for r in rows]
-    return out
-
-
 def _markdown(title, facts, tables, sections, prov) -> str:
     out = [f"# {title}", ""]
     out += [f"- **{k}:** {v}" for k, v in facts]
     for cap, header, rows in tables:
-        out += ["", f"## {cap}", ""] + _md_table(header, rows)
+        out += ["", f"## {cap}", ""] + markdown_table(header, rows)
     for head, items in sections:
         out += ["", f"## {head}", ""]
         numbered = head == "Order of addition"
         out += [f"{i}. {x}" if numbered else f"- {x}" for i, x in enumerate(items, 1)]
     cap, header, rows = prov
-    out += ["", f"## {cap}", ""] + (_md_table(header, rows) if rows else ["(not recorded)"])
+    out += ["", f"## {cap}", ""] + (markdown_table(header, rows) if rows else ["(not recorded)"])
     out += ["", "## Sign-off", ""] + [f"- {s}: ______________________" for s in SIGN_LINES]
     return "\n".join(out) + "\n"
 

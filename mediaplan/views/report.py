@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from mediaplan.medium.evaluate import Evaluation
+from mediaplan.views.table import RIGHT, Column, pairs_table, text_table
 
 
 def fmt(x: float, digits: int = 4) -> str:
@@ -29,25 +30,16 @@ def component_rows(ev: Evaluation) -> list[list[str]]:
     return rows
 
 
-def _table(header: list[str], rows: list[list[str]], right: set[int]) -> list[str]:
-    widths = [max(len(h), *(len(r[i]) for r in rows)) if rows else len(h) for i, h in enumerate(header)]
-    widths[0] = min(widths[0], 48)
-
-    def line(cells):
-        out = []
-        for i, (cell, w) in enumerate(zip(cells, widths, strict=True)):
-            cell = cell if len(cell) <= w else cell[: w - 1] + "…"
-            out.append(cell.rjust(w) if i in right else cell.ljust(w))
-        return "  ".join(out).rstrip()
-
-    return [line(header), line(["─" * w for w in widths])] + [line(r) for r in rows]
+#: the component table of an evaluation
+COMPONENT_COLUMNS = (Column("component", max_width=48), Column("amount"), Column("mmol/kg", RIGHT),
+                     Column("mOsm/kg", RIGHT), Column("share", RIGHT))
 
 
 def evaluation_text(ev: Evaluation, title: str | None = None, notes: list[str] | None = None) -> str:
     head = title or "Medium"
     base = f", base {ev.base} × {ev.strength:g}" if ev.base else ""
     out = [f"{head} — {fmt(ev.volume_l)} L at {ev.temperature_c:.1f} °C{base}", ""]
-    out += _table(["component", "amount", "mmol/kg", "mOsm/kg", "share"], component_rows(ev), {2, 3, 4})
+    out += text_table(COMPONENT_COLUMNS, component_rows(ev), rule="─")
     out.append("")
     out.append("  * replaces the base amount   + added to the base")
     out.append("")
@@ -68,16 +60,11 @@ def evaluation_text(ev: Evaluation, title: str | None = None, notes: list[str] |
         t = d.tonicity
         rows.append(("tonicity", f"{t['class']} toward cells of {t['reference_mosmol_per_kg']:.0f} mOsm/kg "
                                  f"(effective {t['effective_mosmol_per_kg']:.1f}; {t['water_flow']})"))
-    w = max(len(r[0]) for r in rows)
-    out += [f"  {k.ljust(w)}  {v}" for k, v in rows]
+    out += pairs_table(rows, indent="  ")
     if d.groups:
         out.append("")
         out.append("Osmolality by group")
-        total = sum(d.groups.values()) or 1.0
-        gw = max(len(k) for k in d.groups)
-        for k, v in sorted(d.groups.items(), key=lambda kv: -kv[1]):
-            bar = "█" * int(round(30 * v / total))
-            out.append(f"  {k.ljust(gw)}  {v:7.1f} mOsm/kg  {bar}")
+        out += _groups_table(d.groups)
     msgs = [f"  ! {w.message}" for w in d.warnings] + [f"  - {n}" for n in (notes or [])]
     if msgs:
         out.append("")
@@ -88,3 +75,12 @@ def evaluation_text(ev: Evaluation, title: str | None = None, notes: list[str] |
         out.append("Cautions: " + ", ".join(c["component"] for c in d.cautions) +
                    " carry hazard notes (mediaplan catalog show ID; the prep sheet prints them in full)")
     return "\n".join(out)
+
+
+def _groups_table(groups: dict[str, float]) -> list[str]:
+    """Osmolality by group [mOsm/kg], largest first, with a bar of its share (30 characters = all)."""
+    total = sum(groups.values()) or 1.0
+    rows = [[k, f"{v:.1f} mOsm/kg", "█" * int(round(30 * v / total))]
+            for k, v in sorted(groups.items(), key=lambda kv: -kv[1])]
+    return text_table([Column(), Column(align=RIGHT, min_width=len("00000.0 mOsm/kg")), Column()], rows,
+                      header=False, indent="  ")
