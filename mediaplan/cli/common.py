@@ -1,10 +1,10 @@
-"""Helpers shared by subcommands: catalog, recipe from plan and inline arguments, JSON output."""
+"""Helpers shared by subcommands: catalog, recipe from plan and inline arguments, JSON output.
+
+Text goes out through :func:`mediaplan.files.output.write_output` (standard output or ``-o FILE``)."""
 
 from __future__ import annotations
 
 import argparse
-import json
-import sys
 
 from mediaplan.medium.errors import AmountError, MediaplanError
 
@@ -61,8 +61,11 @@ def recipe_from(args, catalog, *, notes: list[str] | None = None):
 
 
 def print_json(obj) -> None:
-    json.dump(obj, sys.stdout, indent=2, ensure_ascii=False, allow_nan=False)
-    sys.stdout.write("\n")
+    """Print ``obj`` (a ``to_dict()`` result) as indented JSON on standard output."""
+    from mediaplan.files.output import write_output
+    from mediaplan.views.jsontext import json_text
+
+    write_output(json_text(obj))
 
 
 def fail(msg: str, **kw) -> MediaplanError:

@@ -42,56 +42,8 @@ def projection_from(args, plan, recipe, catalog, ref: float | None, tol: float):
     return project(recipe, catalog, settings, cell_reference_mosmol=ref, isotonic_tolerance=tol)
 
 
-def projection_text(proj) -> str:
-    """The three columns as plain text."""
-    from mediaplan.tasks.projection import GUIDANCE
-
-    s = proj.settings
-    loss = (f"water loss {100 * s.total_water_loss:.3g} % by week {s.weeks:g}" +
-            (f" ({100 * s.water_loss_per_week:.3g} % per week)" if s.water_loss is None and s.water_loss_per_week
-             else ""))
-    head = [""] + [st.label for st in proj.stages]
-    evs = [st.evaluation for st in proj.stages]
-
-    def sugar(ev, cid):
-        c = ev.component(cid)
-        return f"{c.molality_mmol_per_kg:.2f}" if c else "0"
-
-    rows = [["osmolality, mOsm/kg"] + [f"{e.osmolality_mosmol_per_kg:.1f}" for e in evs],
-            ["van't Hoff sum, mOsm/kg"] + [f"{e.osmolality_ideal_mosmol_per_kg:.1f}" for e in evs],
-            ["water activity"] + [f"{e.water_activity:.5f}" for e in evs],
-            ["osmotic potential, MPa"] + [f"{e.osmotic_potential_mpa:.4f}" for e in evs],
-            ["freezing point, °C"] + [f"−{e.freezing_point_depression_k:.3f}" for e in evs]]
-    rows += [[f"{cid}, mmol/kg"] + [sugar(e, cid) for e in evs] for cid in ("sucrose", "glucose", "fructose")]
-    if evs[0].tonicity:
-        rows.append(["tonicity"] + [e.tonicity["class"] for e in evs])
-    widths = [max(len(r[i]) for r in [head, *rows]) for i in range(len(head))]
-    out = [f"Projection: sucrose hydrolysed on autoclaving {100 * s.autoclave_hydrolysis:.3g} %; {loss}", ""]
-    for r in [head, *rows]:
-        out.append("  ".join([r[0].ljust(widths[0])] + [c.rjust(w) for c, w in zip(r[1:], widths[1:], strict=True)]))
-    out += [f"  - {n}" for n in proj.notes]
-    out.append(f"  guidance: {GUIDANCE}")
-    return "\n".join(out)
-
-
-def write_output(text: str, path: str | None) -> None:
-    """Print, or write atomically to ``path``."""
-    if not path:
-        sys.stdout.write(text if text.endswith("\n") else text + "\n")
-        return
-    from pathlib import Path
-
-    from mediaplan.files.planfile import atomic_write
-    from mediaplan.medium.errors import PlanFileError
-
-    try:
-        atomic_write(Path(path), text.encode("utf-8"), backup=False)
-    except OSError as exc:
-        raise PlanFileError(f"cannot write ({exc.strerror or exc})", file=path, hint="choose another folder") from None
-    print(f"wrote {path}", file=sys.stderr)
-
-
 def run(args) -> int:
+    from mediaplan.files.output import write_output
     from mediaplan.files.sharing import compare_provenance, shadow_notes
     from mediaplan.medium.evaluate import evaluate
     from mediaplan.views.report import evaluation_text
@@ -126,8 +78,10 @@ def run(args) -> int:
     else:
         for n in notes:
             print(f"note: {n}", file=sys.stderr)
-        print(evaluation_text(ev, plan.title if plan else None))
+        text = evaluation_text(ev, plan.title if plan else None)
         if proj is not None:
-            print()
-            print(projection_text(proj))
+            from mediaplan.views.projection import projection_text
+
+            text += "\n\n" + projection_text(proj)
+        write_output(text)
     return 0

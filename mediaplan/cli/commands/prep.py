@@ -55,25 +55,10 @@ def load(args):
     return plan, recipe, catalog, notes
 
 
-def write_output(text: str, path: str | None) -> None:
-    if not path:
-        sys.stdout.write(text)
-        return
-    from pathlib import Path
-
-    from mediaplan.files.planfile import atomic_write
-    from mediaplan.medium.errors import PlanFileError
-
-    try:
-        atomic_write(Path(path), text.encode("utf-8"), backup=False)
-    except OSError as exc:
-        raise PlanFileError(f"could not write ({exc.strerror or exc})", file=path) from None
-    print(f"wrote {path}", file=sys.stderr)
-
-
 def run(args) -> int:
+    from mediaplan.files.output import write_output
     from mediaplan.files.sharing import provenance_of, shadow_notes
-    from mediaplan.tasks.prep import build_sheet, parse_factors, parse_pairs, sheet_to_dict
+    from mediaplan.tasks.prep import build_sheet, parse_factors, parse_pairs
     from mediaplan.views.export import prep_sheet
 
     plan, recipe, catalog, notes = load(args)
@@ -86,7 +71,7 @@ def run(args) -> int:
     for n in notes[shown:]:
         print(f"note: {n}", file=sys.stderr)
     if args.json:
-        print_json(sheet_to_dict(sheet))
+        print_json(sheet.to_dict())
         return 0
     write_output(prep_sheet(sheet, plan, args.format), args.output)
     return 0
