@@ -56,18 +56,6 @@ def check_one(path: str, catalog, *, strict: bool = False, trust: str | None = N
     return out
 
 
-def line_for(r: dict) -> str:
-    if r["status"] != "ok":
-        return f"{r['path']}: invalid: {r['reason']}"
-    extra = []
-    if r["differences"]:
-        extra.append("catalog differs: " + "; ".join(d["message"] for d in r["differences"]))
-    if r["warnings"]:
-        extra.append(f"{len(r['warnings'])} warning{'s' if len(r['warnings']) != 1 else ''}: "
-                     + "; ".join(w["code"] for w in r["warnings"]))
-    return f"{r['path']}: ok" + (" (" + " | ".join(extra) + ")" if extra else "")
-
-
 def run(args) -> int:
     from mediaplan.files import planfile
     from mediaplan.files.sharing import shadow_notes, stamp
@@ -88,6 +76,8 @@ def run(args) -> int:
     if args.json:
         print_json(results)
     else:
-        for r in results:
-            print(line_for(r))
+        from mediaplan.files.output import write_output
+        from mediaplan.views.check import check_text
+
+        write_output(check_text(results))
     return 1 if any(r["status"] != "ok" for r in results) else 0

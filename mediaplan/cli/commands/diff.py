@@ -60,29 +60,6 @@ def plan_diff(plan_a, cat_a, plan_b, cat_b) -> dict:
             "same_medium": not settings and not comps and all(r["change"] == 0 for r in results)}
 
 
-def diff_text(d: dict) -> str:
-    out = [f"--- {d['a']}  ({d['title_a']})", f"+++ {d['b']}  ({d['title_b']})"]
-    if d["settings"]:
-        out.append("")
-        out.append("Settings")
-        out += [f"  ~ {s['field']}: {s['a']} → {s['b']}" for s in d["settings"]]
-    out.append("")
-    out.append("Components" + ("" if d["components"] else ": no differences"))
-    mark = {"added": "+", "removed": "-", "changed": "~"}
-    for c in d["components"]:
-        if c["change"] == "changed":
-            what = f"{c['a']} → {c['b']}"
-        else:
-            what = c["b"] if c["change"] == "added" else c["a"]
-        out.append(f"  {mark[c['change']]} {c['name']} ({c['id']}): {what}   "
-                   f"[{c['a_mmol_per_l']:.4g} → {c['b_mmol_per_l']:.4g} mmol/L]")
-    out.append("")
-    out.append("Results")
-    w = max(len(r["label"]) for r in d["results"])
-    out += [f"  {r['label'].ljust(w)}  {r['text']}" for r in d["results"]]
-    return "\n".join(out)
-
-
 def run(args) -> int:
     from mediaplan.files.sharing import read_plan, shadow_notes
 
@@ -97,5 +74,8 @@ def run(args) -> int:
     if args.json:
         print_json(d)
     else:
-        print(diff_text(d))
+        from mediaplan.files.output import write_output
+        from mediaplan.views.diff import diff_text
+
+        write_output(diff_text(d))
     return 0

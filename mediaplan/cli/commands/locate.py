@@ -32,8 +32,8 @@ def run(args) -> int:
     if args.json:
         print_json(places)
         return 0
-    width = max(len(k) for k in places)
-    for k, v in places.items():
-        shown = ", ".join(v) if isinstance(v, list) else v
-        print(f"{k.replace('_', ' ').ljust(width)}  {shown or '(none: set MEDIAPLAN_CATALOG)'}")
+    from mediaplan.files.output import write_output
+    from mediaplan.views.locate import places_text
+
+    write_output(places_text(places))
     return 0
