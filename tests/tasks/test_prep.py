@@ -174,3 +174,57 @@ def test_stocks_recombine_exactly(catalog, amounts, volume_ml, molal):
     assert set(got) == set(want)
     for cid, g in want.items():
         assert math.isclose(got[cid], g, rel_tol=1e-9), cid
+
+
+def test_stock_solubility_is_the_molality_over_the_saturation_molality(catalog):
+    """A 100× stock of the MS 1962 potassium nitrate (1900 mg/L; Murashige & Skoog 1962, Table 6): 190 g per L
+    of stock leave about 810 g of water (solutes displace about 1 g/mL, the module's stated guess), so the
+    molality is 190 / M / 0.810 and the fraction is that over Component.saturation_molality."""
+    from mediaplan.tasks.prep.stocks import solubility_fractions
+
+    kno3 = catalog.components["potassium_nitrate"]
+    fraction = solubility_fractions([(kno3, 190.0)])["potassium_nitrate"]
+    assert fraction == pytest.approx(190.0 / kno3.molar_mass / 0.810 / kno3.saturation_molality, rel=1e-12)
+    assert solubility_fractions([(catalog.components["agar"], 7.0)])["agar"] is None  # no solubility data
+
+
+def test_sheet_to_dict_is_json_ready_with_the_rounded_reading_beside_the_exact_mass(catalog):
+    import json
+
+    from mediaplan.tasks.prep import sheet_to_dict
+
+    sheet = build_sheet(Recipe(base="ms1962").with_amount("bap", "1 mg/L"), catalog, volume="1 L", stocks=True)
+    d = sheet.to_dict()
+    assert d == sheet_to_dict(sheet)
+    assert list(d) == ["title", "volume_l", "temperature_c", "base", "strength", "rows", "stocks", "steps", "ph",
+                       "sterilisation", "cautions", "notes", "provenance"]
+    json.dumps(d, allow_nan=False)
+    for r, row in zip(sheet.rows, d["rows"], strict=True):
+        assert row["grams"] == r.grams and row["weigh"] == format_mass(r.grams)
+        assert row["weigh_via_stock"] == (r.grams < 0.010)
+        assert row["substock"] is None or set(row["substock"]) == {"grams", "volume_ml", "pipette_ml"}
+    stock = d["stocks"][0]
+    assert {"factor", "volume_ml", "ml_per_batch", "items"} <= set(stock)
+    assert {"grams_per_litre", "grams_in_stock", "solubility_fraction"} <= set(stock["items"][0])
+
+
+def test_sheet_to_dict_turns_a_non_finite_number_into_null(catalog):
+    from dataclasses import replace
+
+    sheet = build_sheet(Recipe().with_amount("sucrose", "30 g/L"), catalog, volume="1 L")
+    sheet.rows = [replace(sheet.rows[0], grams=float("nan"))]
+    assert sheet.to_dict()["rows"][0]["grams"] is None
+
+
+def test_prep_json_is_the_sheets_to_dict(capsys, catalog):
+    import json
+
+    assert main(["prep", "plans/rooting_half_strength.toml", "--stocks", "--json"]) == 0
+    d = json.loads(capsys.readouterr().out)
+    from mediaplan.files.planfile import read
+
+    plan = read("plans/rooting_half_strength.toml", catalog=catalog)
+    sheet = build_sheet(plan.recipe, catalog, stocks=True, title=plan.title)
+    want = sheet.to_dict()
+    assert [r["weigh"] for r in d["rows"]] == [r["weigh"] for r in want["rows"]]
+    assert d["steps"] == want["steps"] and [s["key"] for s in d["stocks"]] == [s["key"] for s in want["stocks"]]

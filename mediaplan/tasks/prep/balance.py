@@ -32,8 +32,9 @@ def round_mass(grams: float) -> float:
 
 
 def format_mass(grams: float | None) -> str:
-    """A mass [g] for a lab balance: ``1.650 g``, ``440.0 mg``, ``6.2 mg``; below 0.1 mg ``< 0.1 mg``."""
-    if grams is None:
+    """A mass [g] for a lab balance: ``1.650 g``, ``440.0 mg``, ``6.2 mg``; below 0.1 mg ``< 0.1 mg``; no mass
+    (None, or not a finite number) ``—``."""
+    if grams is None or not math.isfinite(grams):
         return "—"
     if grams <= 0:
         return "0 g"
