@@ -79,63 +79,6 @@ def build_design(args, catalog):
     return plan, recipe, design
 
 
-def csv_text(design) -> str:
-    """The levels as CSV; the empty plasmolysed/total columns make it a counting sheet for ``mediaplan fit``."""
-    import csv
-    import io
-
-    buf = io.StringIO()
-    w = csv.writer(buf, lineterminator="\n")
-    ox = design.osmoticum
-    head = ["level", "water_potential_mpa", "osmolality_mosmol_per_kg", f"{ox}_mol_per_kg", f"{ox}_g_per_l",
-            f"grams_per_{design.volume_ml:g}_ml"]
-    if design.stock is not None:
-        head += ["stock_ml", "diluent_ml"]
-    w.writerow(head + ["plasmolysed", "total"])
-    for lv in design.levels:
-        row = [lv.level, f"{lv.water_potential_mpa:.6g}", f"{lv.osmolality_mosmol_per_kg:.5g}",
-               f"{lv.molality_mol_per_kg:.6g}", f"{lv.grams_per_litre:.6g}", f"{lv.grams:.5g}"]
-        if design.stock is not None:
-            row += [f"{lv.stock_ml:.4g}", f"{lv.diluent_ml:.4g}"]
-        w.writerow(row + ["", ""])
-    return buf.getvalue()
-
-
-def design_text(design) -> str:
-    d = design
-    vol = f"{d.volume_ml:g} mL"
-    lines = [f"Plasmolysis series — {d.osmoticum_name} in {d.background}, {len(d.levels)} levels of {vol} "
-             f"at {d.temperature_c:g} °C",
-             f"  {d.spacing}; background alone: {d.background_potential_mpa + 0.0:.4g} MPa", ""]
-    head = ["level", "ψ MPa", "mOsm/kg", "mol/kg", "g/L", f"weigh g / {vol}"]
-    if d.stock is not None:
-        head += ["stock mL", "diluent mL"]
-    rows = []
-    for lv in d.levels:
-        r = [str(lv.level), f"{lv.water_potential_mpa:.4g}", f"{lv.osmolality_mosmol_per_kg:.1f}",
-             f"{lv.molality_mol_per_kg:.4f}", f"{lv.grams_per_litre:.3f}", f"{lv.grams:.4f}"]
-        if d.stock is not None:
-            r += [f"{lv.stock_ml:.2f}", f"{lv.diluent_ml:.2f}"]
-        rows.append(r)
-    widths = [max(len(h), *(len(r[i]) for r in rows)) for i, h in enumerate(head)]
-    lines.append("  ".join(h.rjust(w) for h, w in zip(head, widths, strict=True)))
-    lines.append("  ".join("─" * w for w in widths))
-    lines += ["  ".join(c.rjust(w) for c, w in zip(r, widths, strict=True)) for r in rows]
-    lines.append("")
-    lines.append(f"By weight: dissolve the grams of {d.osmoticum} in the background and make up to {vol}.")
-    if d.stock is not None:
-        s = d.stock
-        lines.append(f"By dilution: stock {s.amount} {d.osmoticum} in the background ({s.grams_per_litre:.2f} g/L, "
-                     f"{s.water_potential_mpa:.4g} MPa, density {s.density_kg_per_l:.4f} kg/L); mix the volumes "
-                     f"shown with the background. Needs {s.total_ml:.1f} mL stock and {s.diluent_total_ml:.1f} mL "
-                     "background in all.")
-        lines.append("  Volumes come from the water content of stock and diluent (not C1V1 = C2V2); the mixture "
-                     f"makes {vol} after volume change on mixing.")
-    for w in d.warnings:
-        lines.append(f"warning: {w}")
-    return "\n".join(lines)
-
-
 def run(args) -> int:
     from pathlib import Path
 
@@ -146,10 +89,11 @@ def run(args) -> int:
     plan, recipe, design = build_design(args, catalog)
     if args.json:
         print_json(design.to_dict())
-    elif args.csv:
-        sys.stdout.write(csv_text(design))
     else:
-        print(design_text(design))
+        from mediaplan.files.output import write_output
+        from mediaplan.views.series import design_csv, design_text
+
+        write_output(design_csv(design) if args.csv else design_text(design))
     if args.write:
         if plan is None:
             plan = Plan(recipe=recipe, title=f"Plasmolysis series: {design.osmoticum} in {design.background}")

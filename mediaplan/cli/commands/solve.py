@@ -53,55 +53,6 @@ def _hold(text: str | None) -> dict[str, str] | None:
     return {key.strip(): amount.strip()}
 
 
-def _text(sol) -> str:
-    from mediaplan.views.report import fmt
-
-    ev = sol.evaluation
-    out = [f"Target {sol.target.text}: {sol.target_osmolality_mosmol_per_kg:.1f} mOsm/kg"
-           + (" effective toward the cells" if sol.matched == "effective_osmolality" else "")
-           + f", {sol.target_potential_mpa:.4f} MPa at {ev.temperature_c:.1f} °C"]
-    start = sol.start
-    out.append(f"Start: {start.osmolality_mosmol_per_kg:.1f} mOsm/kg, {start.osmotic_potential_mpa:.4f} MPa")
-    out.append("")
-    if sol.status == "too_concentrated":
-        red = sol.reduction
-        out.append("The medium is already more concentrated than the target: no addition helps.")
-        if red.strength is not None:
-            out.append(f"  base {sol.recipe.base} at strength {red.strength:.4g} (other amounts unchanged): "
-                       f"{red.strength_evaluation.osmotic_potential_mpa:.4f} MPa")
-        out.append(f"  or dilute: {red.medium_l_per_batch:.4g} L medium + {red.water_l_per_batch:.4g} L water "
-                   f"({100 * red.dilution:.2f} % medium): {red.dilution_evaluation.osmotic_potential_mpa:.4f} MPa")
-        out += [f"  - {n}" for n in red.notes]
-        return "\n".join(out)
-    if sol.status == "on_target":
-        out.append("Already on target: nothing to add.")
-    else:
-        header = ["osmoticum", "add g/L", "add mol/L", f"g per {fmt(ev.volume_l)} L", "new amount"]
-        rows = [[a.component + (" (held)" if a.held else ""), fmt(a.added_g_per_l), fmt(a.added_mol_per_l),
-                 fmt(a.added_g_per_batch), a.total_amount] for a in sol.additions]
-        widths = [max(len(r[i]) for r in [header, *rows]) for i in range(len(header))]
-        for r in [header, *rows]:
-            out.append("  " + "  ".join([r[0].ljust(widths[0])] + [c.rjust(w) for c, w in zip(r[1:], widths[1:],
-                                                                                          strict=True)]))
-    out.append("")
-    out.append("Result (re-evaluated from scratch)")
-    out.append(f"  osmolality         {ev.osmolality_mosmol_per_kg:.1f} mOsm/kg (van't Hoff sum "
-               f"{ev.osmolality_ideal_mosmol_per_kg:.1f})")
-    if sol.matched == "effective_osmolality":
-        out.append(f"  effective          {ev.effective_osmolality_mosmol_per_kg:.1f} mOsm/kg toward the cells")
-    out.append(f"  water activity     {ev.water_activity:.5f}")
-    out.append(f"  osmotic potential  {ev.osmotic_potential_mpa:.4f} MPa (van't Hoff {ev.vant_hoff_potential_mpa:.4f})")
-    out.append(f"  freezing point     −{ev.freezing_point_depression_k:.3f} °C")
-    if ev.tonicity:
-        t = ev.tonicity
-        out.append(f"  tonicity           {t['class']} toward cells of {t['reference_mosmol_per_kg']:.0f} mOsm/kg "
-                   f"({t['water_flow']})")
-    if ev.warnings:
-        out.append("")
-        out += [f"  ! {w.message}" for w in ev.warnings]
-    return "\n".join(out)
-
-
 def run(args) -> int:
     from mediaplan.files import planfile
     from mediaplan.tasks.cells import cell_reference, cell_tolerance
@@ -130,7 +81,10 @@ def run(args) -> int:
         d["written"] = str(written) if written else None
         print_json(d)
     else:
-        print(_text(sol))
+        from mediaplan.files.output import write_output
+        from mediaplan.views.solve import solution_text
+
+        write_output(solution_text(sol))
         if written:
             print(f"\nwritten: {written}")
         elif args.write:

@@ -1,0 +1,68 @@
+"""Plain-text rendering of a solved target: the additions and the re-evaluated medium."""
+
+from __future__ import annotations
+
+from mediaplan.views.report import fmt
+from mediaplan.views.table import RIGHT, Column, pairs_table, text_table
+
+
+def solution_text(sol) -> str:
+    """A :class:`~mediaplan.tasks.solve.Solution` as plain text: target, start, additions (or the strength
+    or dilution that reaches a target below the medium), and the result evaluated from scratch."""
+    ev = sol.evaluation
+    out = [f"Target {sol.target.text}: {sol.target_osmolality_mosmol_per_kg:.1f} mOsm/kg"
+           + (" effective toward the cells" if sol.matched == "effective_osmolality" else "")
+           + f", {sol.target_potential_mpa:.4f} MPa at {ev.temperature_c:.1f} °C"]
+    start = sol.start
+    out.append(f"Start: {start.osmolality_mosmol_per_kg:.1f} mOsm/kg, {start.osmotic_potential_mpa:.4f} MPa")
+    out.append("")
+    if sol.status == "too_concentrated":
+        return "\n".join(out + _reduction_lines(sol))
+    if sol.status == "on_target":
+        out.append("Already on target: nothing to add.")
+    else:
+        out += _additions_table(sol)
+    out.append("")
+    out.append("Result (re-evaluated from scratch)")
+    out += _result_lines(sol)
+    if ev.warnings:
+        out.append("")
+        out += [f"  ! {w.message}" for w in ev.warnings]
+    return "\n".join(out)
+
+
+def _reduction_lines(sol) -> list[str]:
+    """What reaches a target less negative than the medium: a lower strength, or dilution."""
+    red = sol.reduction
+    out = ["The medium is already more concentrated than the target: no addition helps."]
+    if red.strength is not None:
+        out.append(f"  base {sol.recipe.base} at strength {red.strength:.4g} (other amounts unchanged): "
+                   f"{red.strength_evaluation.osmotic_potential_mpa:.4f} MPa")
+    out.append(f"  or dilute: {red.medium_l_per_batch:.4g} L medium + {red.water_l_per_batch:.4g} L water "
+               f"({100 * red.dilution:.2f} % medium): {red.dilution_evaluation.osmotic_potential_mpa:.4f} MPa")
+    out += [f"  - {n}" for n in red.notes]
+    return out
+
+
+def _additions_table(sol) -> list[str]:
+    columns = [Column("osmoticum"), Column("add g/L", RIGHT), Column("add mol/L", RIGHT),
+               Column(f"g per {fmt(sol.evaluation.volume_l)} L", RIGHT), Column("new amount", RIGHT)]
+    rows = [[a.component + (" (held)" if a.held else ""), fmt(a.added_g_per_l), fmt(a.added_mol_per_l),
+             fmt(a.added_g_per_batch), a.total_amount] for a in sol.additions]
+    return text_table(columns, rows, indent="  ")
+
+
+def _result_lines(sol) -> list[str]:
+    ev = sol.evaluation
+    rows = [("osmolality", f"{ev.osmolality_mosmol_per_kg:.1f} mOsm/kg (van't Hoff sum "
+                           f"{ev.osmolality_ideal_mosmol_per_kg:.1f})")]
+    if sol.matched == "effective_osmolality":
+        rows.append(("effective", f"{ev.effective_osmolality_mosmol_per_kg:.1f} mOsm/kg toward the cells"))
+    rows += [("water activity", f"{ev.water_activity:.5f}"),
+             ("osmotic potential", f"{ev.osmotic_potential_mpa:.4f} MPa (van't Hoff {ev.vant_hoff_potential_mpa:.4f})"),
+             ("freezing point", f"−{ev.freezing_point_depression_k:.3f} °C")]
+    if ev.tonicity:
+        t = ev.tonicity
+        rows.append(("tonicity", f"{t['class']} toward cells of {t['reference_mosmol_per_kg']:.0f} mOsm/kg "
+                                 f"({t['water_flow']})"))
+    return pairs_table(rows, indent="  ")
