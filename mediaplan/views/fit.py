@@ -2,12 +2,21 @@
 
 from __future__ import annotations
 
+from mediaplan.views.table import RIGHT, Column, text_table
+
+#: the counts per row: ψ [MPa], plasmolysed / total, observed and fitted fractions [%]; each column at least
+#: as wide as the header words above it
+ROW_COLUMNS = (Column(align=RIGHT, min_width=6), Column(align=RIGHT, min_width=11), Column(sep=" "),
+               Column(min_width=5, sep=" "), Column(align=RIGHT, min_width=9), Column(align=RIGHT, min_width=7))
+#: the header of those rows, one line as it has always been printed (its words sit over the numbers)
+ROWS_HEADER = "   ψ MPa  plasmolysed / total  observed  fitted"
+
 
 def fit_text(fit) -> str:
     """A :class:`~mediaplan.tasks.plasmolysis.PlasmolysisFit` as plain text: water potential [MPa] at
     50 % plasmolysis with its 95 % interval, cell sap osmolality [mOsm/kg], the fitted curve, deviance and
-    Pearson χ², then observed and fitted fractions per row. The rows have a fixed layout (ψ to three
-    decimals, counts as ``plasmolysed / total``)."""
+    Pearson χ², then observed and fitted fractions per row (ψ to three decimals, counts as
+    ``plasmolysed / total``)."""
     f = fit
     lines = [f"Incipient plasmolysis — {f.link} fit of {f.n_levels} levels ({f.n_rows} rows, {f.cells} cells), "
              f"{f.source}"]
@@ -25,10 +34,10 @@ def fit_text(fit) -> str:
     lines.append(f"  Pearson χ²   {f.pearson_chi2:.4g} on {f.df} df (p = {f.pearson_p:.2g}); heterogeneity "
                  f"{f.heterogeneity:.3g}{' — interval widened' if f.widened else ''}")
     lines.append("")
-    lines.append("   ψ MPa  plasmolysed / total  observed  fitted")
-    for r in f.rows:
-        lines.append(f"  {r['water_potential_mpa']:6.3f}  {r['plasmolysed']:>11d} / {r['total']:<5d}  "
-                     f"{100 * r['observed']:7.1f} %  {100 * r['fitted']:5.1f} %")
+    lines.append(ROWS_HEADER)
+    lines += text_table(ROW_COLUMNS, [[f"{r['water_potential_mpa']:.3f}", str(r["plasmolysed"]), "/",
+                                       str(r["total"]), f"{100 * r['observed']:.1f} %", f"{100 * r['fitted']:.1f} %"]
+                                      for r in f.rows], header=False, indent="  ")
     for n in f.notes:
         lines.append(f"note: {n}")
     for w in f.warnings:

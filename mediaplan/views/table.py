@@ -11,7 +11,7 @@ Layout rules of :func:`text_table` (they keep the printed output stable):
 - cells are padded to the column width on the side their alignment says, except the last column
   when it is left-aligned, which is never padded (so a line ends where its text ends, unless that
   column is empty, in which case the separator before it stays);
-- columns are joined by ``sep`` and every line starts with ``indent``.
+- columns are joined by ``sep`` (or a column's own ``sep``) and every line starts with ``indent``.
 """
 
 from __future__ import annotations
@@ -26,13 +26,15 @@ RIGHT = "right"
 @dataclass(frozen=True)
 class Column:
     """One column: ``header`` text, ``align`` (``"left"`` or ``"right"``), ``min_width`` and
-    ``max_width`` [characters], and the mark ``cut`` that ends a cell cut to ``max_width``."""
+    ``max_width`` [characters], the mark ``cut`` that ends a cell cut to ``max_width``, and ``sep``, the
+    text in front of this column when it is not the table's separator (e.g. ``" "`` beside a ``/``)."""
 
     header: str = ""
     align: str = LEFT
     min_width: int = 0
     max_width: int | None = None
     cut: str = "…"
+    sep: str | None = None
 
     def __post_init__(self) -> None:
         if self.align not in (LEFT, RIGHT):
@@ -69,14 +71,16 @@ def text_table(columns: Sequence[Column], rows: Sequence[Sequence[str]], *, head
     last = len(columns) - 1
 
     def line(cells: Sequence[str]) -> str:
-        out = []
+        out = [indent]
         for i, (cell, w, col) in enumerate(zip(cells, widths, columns, strict=True)):
+            if i:
+                out.append(sep if col.sep is None else col.sep)
             cell = _fit(cell, w, col)
             if col.align == RIGHT:
                 out.append(cell.rjust(w))
             else:
                 out.append(cell if i == last else cell.ljust(w))
-        return indent + sep.join(out)
+        return "".join(out)
 
     lines = []
     if header:

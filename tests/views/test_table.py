@@ -52,3 +52,8 @@ def test_no_rows_gives_the_header_and_rule_only():
 def test_markdown_escapes_bars_and_newlines():
     lines = markdown_table([Column("a"), "b"], [["x|y", "two\nlines"]])
     assert lines == ["| a | b |", "|---|---|", "| x\\|y | two lines |"]
+
+
+def test_a_column_can_have_its_own_separator():
+    cols = [Column(align=RIGHT), Column(sep=" "), Column(sep=" ")]
+    assert text_table(cols, [["12", "/", "40"], ["3", "/", "7"]], header=False) == ["12 / 40", " 3 / 7"]
