@@ -72,6 +72,7 @@ def test_switching_to_another_substance_is_refused(catalog):
 @pytest.mark.parametrize("grams, text", [
     (1.65, "1.650 g"), (30.0, "30.00 g"), (0.44, "440.0 mg"), (0.0062, "6.2 mg"), (0.000025, "< 0.1 mg"),
     (12.3456, "12.35 g"), (0.00026, "0.3 mg"), (1234.5, "1234 g"),  # rounding rules of this module
+    (None, "—"), (float("nan"), "—"), (0.0, "0 g"),  # no mass, or none to weigh
 ])
 def test_balance_rounding(grams, text):
     assert format_mass(grams) == text
