@@ -20,7 +20,8 @@ strength = 1.0
 sucrose = "30 g/L"
 "6-benzylaminopurine" = "1 mg/L"
 ```
-Optional tables: ``[target]``, ``[cells]``, ``[projection]``, ``[series]``, ``[provenance]``.
+Optional tables: ``[target]``, ``[cells]``, ``[projection]``, ``[series]``, ``[provenance]``, held by the
+Plan as typed records (:mod:`mediaplan.files.plan_tables` reads and writes them, in the form they were read).
 
 Saving is atomic (temp file in the same folder, flush, fsync, ``os.replace``), keeps one backup
 (``NAME.toml.bak``) and refuses to overwrite a file that changed on disk since it was opened.
@@ -45,10 +46,15 @@ try:  # advisory locks where the platform has them
 except ImportError:  # pragma: no cover - Windows
     fcntl = None
 
+from mediaplan.files import plan_tables
+from mediaplan.files.plan_tables import Layout, Provenance, TargetRecord
 from mediaplan.medium.catalog import Catalog
 from mediaplan.medium.errors import AmountError, ConflictError, MediaplanError, PlanFileError
 from mediaplan.medium.recipe import Recipe
 from mediaplan.medium.units import parse_amount
+from mediaplan.tasks.cells import CellReference
+from mediaplan.tasks.plasmolysis.counts import SeriesRecord
+from mediaplan.tasks.projection import ProjectionRecord
 
 FORMAT = "mediaplan-plan"
 VERSION = "1.0"
@@ -57,20 +63,28 @@ _KNOWN_TOP = {"mediaplan", "plan", "medium", "target", "cells", "projection", "s
 
 @dataclass
 class Plan:
-    """A recipe plus what a lab records around it."""
+    """A recipe plus what a lab records around it.
+
+    target, cells, projection, series, provenance : the optional tables as typed records (None = absent)
+    extra : unknown tables of a newer minor version, kept as they were
+    path : the file the plan was opened from or last saved to
+    disk_digest : hash of the file's bytes when opened or last saved
+    layout : how each optional table was written (key order...), so that it is written back the same way
+    """
 
     recipe: Recipe = field(default_factory=Recipe)
     title: str = "Untitled medium"
     author: str = ""
     notes: str = ""
-    target: dict | None = None
-    cells: dict | None = None
-    projection: dict | None = None
-    series: dict | None = None
-    provenance: dict | None = None
-    extra: dict = field(default_factory=dict)  # unknown tables of a newer minor version, kept as they were
+    target: TargetRecord | None = None
+    cells: CellReference | None = None
+    projection: ProjectionRecord | None = None
+    series: SeriesRecord | None = None
+    provenance: Provenance | None = None
+    extra: dict = field(default_factory=dict)
     path: Path | None = None
-    disk_digest: str | None = None  # hash of the file's bytes when opened or last saved
+    disk_digest: str | None = None
+    layout: dict[str, Layout] = field(default_factory=dict, compare=False, repr=False)
 
     def with_recipe(self, recipe: Recipe) -> Plan:
         return replace(self, recipe=recipe)
@@ -183,11 +197,10 @@ def from_dict(data: dict, *, text: str = "", file: str | None = None, catalog: C
     for name in ("target", "cells", "projection", "series", "provenance"):
         if name in data and not isinstance(data[name], dict):
             raise err(f"[{name}] must be a table", name, None)
+    tables, layout = plan_tables.read_tables(data, text=text, file=file)
     extra = {k: v for k, v in data.items() if k not in _KNOWN_TOP}
     return Plan(recipe=recipe, title=str(plan_t.get("title", "Untitled medium")), author=str(plan_t.get("author", "")),
-                notes=str(plan_t.get("notes", "")), target=data.get("target"), cells=data.get("cells"),
-                projection=data.get("projection"), series=data.get("series"), provenance=data.get("provenance"),
-                extra=extra)
+                notes=str(plan_t.get("notes", "")), **tables, extra=extra, layout=layout)
 
 
 def migrate(data: dict, major: int) -> dict:
@@ -214,10 +227,7 @@ def to_dict(plan: Plan) -> dict:
         med["strength"] = r.strength
     med["components"] = {cid: a.text for cid, a in r.amounts}
     d["medium"] = med
-    for name in ("target", "cells", "projection", "series", "provenance"):
-        val = getattr(plan, name)
-        if val:
-            d[name] = val
+    d.update(plan_tables.write_tables(plan))
     for k, v in plan.extra.items():
         d[k] = v
     return d

@@ -20,6 +20,10 @@ used, and on request a full copy of each entry::
 A facility opening the plan with another catalog is told exactly which entries differ
 (:func:`compare_provenance`); embedded entries fill in components its catalog lacks, and an
 embedded entry that differs from the local one is a conflict the user must settle.
+
+A Plan holds the table as a :class:`~mediaplan.files.plan_tables.Provenance` record
+(:func:`provenance_record`); :func:`provenance_of` gives the same record as the TOML table, for the
+documents that print it.
 """
 
 from __future__ import annotations
@@ -32,6 +36,7 @@ from pathlib import Path
 from typing import Any
 
 from mediaplan.files.catalog import parse_component, parse_medium
+from mediaplan.files.plan_tables import Provenance, provenance_table
 from mediaplan.medium.catalog import Catalog, Component, Medium
 from mediaplan.medium.errors import CatalogError, MediaplanError
 from mediaplan.medium.recipe import Recipe
@@ -92,24 +97,27 @@ def _used(recipe: Recipe, catalog: Catalog) -> tuple[list[Component], list[Mediu
     return comps, media
 
 
-def provenance_of(recipe: Recipe, catalog: Catalog, *, embed: bool = False,
-                  today: datetime.date | None = None) -> dict:
-    """The ``[provenance]`` table of a plan: digests of the entries used, and copies with ``embed``."""
+def provenance_record(recipe: Recipe, catalog: Catalog, *, embed: bool = False,
+                      today: datetime.date | None = None) -> Provenance:
+    """A plan's provenance: digests of the catalog entries the recipe uses, and copies with ``embed``."""
     from mediaplan import __version__
 
     comps, media = _used(recipe, catalog)
-    prov: dict[str, Any] = {
-        "recorded": (today or datetime.date.today()).isoformat(),
-        "mediaplan": __version__,
-        "components": {c.id: c.digest for c in sorted(comps, key=lambda c: c.id)},
-    }
-    if media:
-        prov["media"] = {m.id: m.digest for m in media}
+    comps = sorted(comps, key=lambda c: c.id)
+    embedded = None
     if embed:
-        prov["embedded"] = {"components": {c.id: embedded_entry(c) for c in sorted(comps, key=lambda c: c.id)}}
+        embedded = {"components": {c.id: embedded_entry(c) for c in comps}}
         if media:
-            prov["embedded"]["media"] = {m.id: embedded_medium(m) for m in media}
-    return prov
+            embedded["media"] = {m.id: embedded_medium(m) for m in media}
+    return Provenance(recorded=(today or datetime.date.today()).isoformat(), mediaplan=__version__,
+                      components={c.id: c.digest for c in comps},
+                      media={m.id: m.digest for m in media} if media else None, embedded=embedded)
+
+
+def provenance_of(recipe: Recipe, catalog: Catalog, *, embed: bool = False,
+                  today: datetime.date | None = None) -> dict:
+    """The ``[provenance]`` table of :func:`provenance_record`, as a plan file writes it (for printing)."""
+    return provenance_table(provenance_record(recipe, catalog, embed=embed, today=today))
 
 
 def _drop_none(obj: Any) -> Any:
@@ -162,22 +170,13 @@ def canonical_digest(entry: dict) -> str:
 
 
 # ---- comparing --------------------------------------------------------------------------------------
-def _table(prov: dict, key: str, where: str) -> dict:
-    t = prov.get(key) or {}
-    if not isinstance(t, dict):
-        raise CatalogError(f"[provenance.{key}] must be a table", file=where, field=f"provenance.{key}")
-    return t
-
-
 def compare_provenance(plan, catalog: Catalog) -> list[Difference]:
     """Entries recorded in ``plan.provenance`` that differ from (or are absent in) ``catalog``."""
-    prov = plan.provenance or {}
-    where = str(plan.path) if getattr(plan, "path", None) else None
-    emb = prov.get("embedded") or {}
+    prov = plan.provenance or Provenance()
     out: list[Difference] = []
     for kind, key, table in (("component", "components", catalog.components), ("medium", "media", catalog.media)):
-        embedded = (emb.get(key) or {}) if isinstance(emb, dict) else {}
-        for eid, digest in _table(prov, key, where).items():
+        embedded = prov.embedded_entries(key)
+        for eid, digest in (getattr(prov, key) or {}).items():
             local = table.get(eid)
             if local is None:
                 out.append(Difference(kind, eid, "embedded-only" if eid in embedded else "missing", str(digest), None))
@@ -206,23 +205,16 @@ def catalog_for(plan, catalog: Catalog, *, trust: str | None = None) -> tuple[Ca
     """
     if trust not in (None, "plan", "local"):
         raise MediaplanError(f"unknown trust {trust!r}", field="trust", hint="use plan or local")
-    prov = plan.provenance or {}
-    emb = prov.get("embedded")
+    prov = plan.provenance
     where = str(plan.path) if getattr(plan, "path", None) else "plan"
-    if not emb:
+    if prov is None or not prov.embedded:
         return catalog, []
-    if not isinstance(emb, dict):
-        raise CatalogError("[provenance.embedded] must be a table", file=where, field="provenance.embedded")
     comps = dict(catalog.components)
     media = dict(catalog.media)
     notes: list[str] = []
     for kind, key, table, parse in (("component", "components", comps, _parse_embedded_component),
                                     ("medium", "media", media, _parse_embedded_medium)):
-        entries = emb.get(key) or {}
-        if not isinstance(entries, dict):
-            raise CatalogError(f"[provenance.embedded.{key}] must be a table", file=where,
-                               field=f"provenance.embedded.{key}")
-        for eid, entry in entries.items():
+        for eid, entry in prov.embedded_entries(key).items():
             obj = parse(eid, entry, where)
             local = table.get(eid)
             if local is None:
@@ -290,8 +282,8 @@ def shadow_notes(catalog: Catalog) -> list[str]:
 
 def stamp(plan, catalog: Catalog, *, embed: bool = False):
     """The plan with a fresh ``[provenance]`` table (returns a new Plan)."""
-    return replace(plan, provenance=provenance_of(plan.recipe, catalog, embed=embed))
+    return replace(plan, provenance=provenance_record(plan.recipe, catalog, embed=embed))
 
 
-__all__ = ["Difference", "EmbeddedConflictError", "provenance_of", "compare_provenance", "catalog_for",
+__all__ = ["Difference", "EmbeddedConflictError", "Provenance", "provenance_of", "provenance_record", "compare_provenance", "catalog_for",
            "read_plan", "shadow_notes", "stamp", "embedded_entry", "canonical_digest"]

@@ -1,24 +1,92 @@
 """The cell reference of a plan: the cells' sap osmolality and the isotonic band (pure domain logic).
 
-Read from a typed value (``--cells``, ``--tolerance``, a dialog field) or from the plan's ``[cells]``
-table (``osmolality`` or ``potential``, ``tolerance``); used by calc, solve and the terminal app.
+A :class:`CellReference` is what a plan's ``[cells]`` table holds (read and written by
+:mod:`mediaplan.files.plan_tables`). The reference is read from a typed value (``--cells``,
+``--tolerance``, a dialog field) or from that record (``osmolality`` or ``potential``, ``tolerance``);
+used by calc, solve and the terminal app.
 """
 
 from __future__ import annotations
+
+from dataclasses import dataclass, replace
+from typing import Any
 
 from mediaplan.medium.errors import AmountError
 from mediaplan.medium.evaluate import ISOTONIC_TOLERANCE
 from mediaplan.medium.units import parse_target
 from mediaplan.tasks.projection import parse_fraction
+from mediaplan.tasks.records import TableView
 from mediaplan.thermo.potential import osmolality_from_potential
 
 
-def cell_reference(text: str | None, plan, T: float) -> float | None:
-    """Cell reference [mOsm/kg] from --cells or the plan's [cells] table (osmolality, else potential)."""
+@dataclass(frozen=True, eq=False)
+class CellReference(TableView):
+    """The cells a medium is compared with, as a plan records them (``[cells]``); None = not given.
+
+    osmolality : the cells' sap osmolality as written, e.g. ``"450 mOsm/kg"``
+    potential : the sap's osmotic potential as written, e.g. ``"-1.1 MPa"`` (used when there is no osmolality)
+    tolerance : half-width of the isotonic band as written: a fraction (``0.05``) or a percentage (``"5 %"``)
+    source : where the figure comes from, in words
+    ci95 : the 95 % interval of a fitted reference, in words
+    extra : keys this version does not know, as (key, value) pairs, kept as they were
+    """
+
+    osmolality: str | None = None
+    potential: str | None = None
+    tolerance: float | str | None = None
+    source: str | None = None
+    ci95: str | None = None
+    extra: tuple[tuple[str, Any], ...] = ()
+
+    @property
+    def empty(self) -> bool:
+        """True when the record holds nothing (a plan then has no ``[cells]`` table)."""
+        return all(getattr(self, k) is None for k in ("osmolality", "potential", "tolerance", "source", "ci95")) \
+            and not self.extra
+
+    @property
+    def reference(self) -> tuple[str, str] | None:
+        """(field, text) of the reference in force: the osmolality, else the potential; None without one."""
+        key = "osmolality" if self.osmolality else "potential"
+        text = getattr(self, key)
+        return (f"cells.{key}", text) if text else None
+
+    def with_reference(self, text: str) -> CellReference:
+        """The record with ``text`` (an osmolality or a potential) as its one reference; ``""`` removes it.
+
+        Other fields (tolerance, source, unknown keys) are kept.
+        """
+        cleared = replace(self, osmolality=None, potential=None)
+        if not text:
+            return cleared
+        return replace(cleared, **{parse_target(text, field="cells").kind: text})
+
+    def merged(self, newer: CellReference) -> CellReference:
+        """This record with every field that ``newer`` sets taken from ``newer`` (unknown keys too)."""
+        changes = {k: getattr(newer, k) for k in ("osmolality", "potential", "tolerance", "source", "ci95")
+                   if getattr(newer, k) is not None}
+        extra = dict(self.extra)
+        extra.update(newer.extra)
+        return replace(self, **changes, extra=tuple(extra.items()))
+
+
+def _cells_of(cells) -> CellReference | None:
+    """A CellReference, or the one a plan holds (``plan.cells``)."""
+    if cells is None or isinstance(cells, CellReference):
+        return cells
+    return getattr(cells, "cells", None)
+
+
+def cell_reference(text: str | None, cells, T: float) -> float | None:
+    """Cell reference [mOsm/kg] from a typed value, else from the record (osmolality, else potential).
+
+    cells : a CellReference, or a plan holding one as ``cells``; None for none
+    T : temperature [K] (a potential is converted at it)
+    """
     field = "cells"
-    if text is None and plan is not None and plan.cells:
-        key = "osmolality" if plan.cells.get("osmolality") else "potential"
-        text, field = plan.cells.get(key), f"cells.{key}"
+    ref = _cells_of(cells)
+    if text is None and ref is not None and ref.reference is not None:
+        field, text = ref.reference
     if not text:
         return None
     t = parse_target(str(text), field=field)
@@ -28,10 +96,17 @@ def cell_reference(text: str | None, plan, T: float) -> float | None:
     return value
 
 
-def cell_tolerance(text: str | None, plan) -> float:
-    """Isotonic band [fraction] from --tolerance, the plan's [cells] tolerance, or the default 5 %."""
-    if text is None and plan is not None and plan.cells and "tolerance" in plan.cells:
-        return parse_fraction(plan.cells["tolerance"], field="cells.tolerance", upper=0.5)
+def cell_tolerance(text: str | None, cells) -> float:
+    """Isotonic band [fraction] from a typed value, the record's tolerance, or the default 5 %.
+
+    cells : a CellReference, or a plan holding one as ``cells``; None for none
+    """
+    ref = _cells_of(cells)
+    if text is None and ref is not None and ref.tolerance is not None:
+        return parse_fraction(ref.tolerance, field="cells.tolerance", upper=0.5)
     if text is None:
         return ISOTONIC_TOLERANCE
     return parse_fraction(text, field="cells.tolerance", upper=0.5)
+
+
+__all__ = ["CellReference", "cell_reference", "cell_tolerance"]

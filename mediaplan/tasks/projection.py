@@ -23,7 +23,8 @@ Guidance (ranges as published; set the fractions for your own autoclave, vessels
 - Water loss during culture depends on the vessel and its closure; weigh a few vessels weekly to
   measure it (no default is assumed: it is 0 unless set).
 
-Plan files keep the settings in a ``[projection]`` table::
+Plan files keep the settings in a ``[projection]`` table (a :class:`ProjectionRecord`, read and written
+by :mod:`mediaplan.files.plan_tables`)::
 
     [projection]
     autoclave_hydrolysis = 0.1     # fraction of the sucrose hydrolysed
@@ -35,14 +36,15 @@ from __future__ import annotations
 
 import math
 import re
-from collections.abc import Mapping
 from dataclasses import dataclass, field
+from typing import Any
 
 from mediaplan.medium.catalog import Catalog
 from mediaplan.medium.errors import AmountError
 from mediaplan.medium.evaluate import ISOTONIC_TOLERANCE, Evaluation, evaluate
 from mediaplan.medium.recipe import Recipe
 from mediaplan.medium.units import Amount
+from mediaplan.tasks.records import TableView
 from mediaplan.thermo.constants import M_WATER
 
 #: the published range of sucrose hydrolysis on autoclaving in ordinary media [fraction]
@@ -108,20 +110,49 @@ class ProjectionSettings:
         return t
 
 
-_KEYS = {"autoclave_hydrolysis", "water_loss_per_week", "water_loss", "weeks"}
+_KEYS = ("autoclave_hydrolysis", "water_loss_per_week", "water_loss", "weeks")
 
 
-def settings_from(table: Mapping | None, *, default_hydrolysis: float = DEFAULT_HYDROLYSIS,
+@dataclass(frozen=True, eq=False)
+class ProjectionRecord(TableView):
+    """A plan's ``[projection]`` table as written: each value a number, a text (``"10 %"``) or None (not given).
+
+    autoclave_hydrolysis : fraction of the sucrose hydrolysed on autoclaving [-]
+    water_loss_per_week : fraction of the water first present lost per week [-]
+    water_loss : total fraction of the water lost by the end [-]
+    weeks : length of the culture [weeks]
+    extra : keys this version does not know, as (key, value) pairs (refused by :func:`settings_from`)
+
+    The values are checked when they are used (:func:`settings_from`), as the command line's are.
+    """
+
+    autoclave_hydrolysis: float | str | None = None
+    water_loss_per_week: float | str | None = None
+    water_loss: float | str | None = None
+    weeks: float | str | None = None
+    extra: tuple[tuple[str, Any], ...] = ()
+
+    @classmethod
+    def of(cls, settings: ProjectionSettings) -> ProjectionRecord:
+        """The record that keeps ``settings`` (the same keys and values as :meth:`ProjectionSettings.to_table`)."""
+        s = settings
+        if s.water_loss is not None:
+            return cls(autoclave_hydrolysis=s.autoclave_hydrolysis, water_loss=s.water_loss, weeks=s.weeks)
+        return cls(autoclave_hydrolysis=s.autoclave_hydrolysis, water_loss_per_week=s.water_loss_per_week or 0.0,
+                   weeks=s.weeks)
+
+
+def settings_from(record: ProjectionRecord | None, *, default_hydrolysis: float = DEFAULT_HYDROLYSIS,
                   **overrides) -> ProjectionSettings:
-    """Settings from a plan's ``[projection]`` table, then overrides (None values ignored).
+    """Settings from a plan's ``[projection]`` record, then overrides (None values ignored).
 
     Raises AmountError naming the field (``projection.weeks`` ...) for unknown keys and bad values.
     """
-    raw = dict(table or {})
-    unknown = set(raw) - _KEYS
-    if unknown:
-        raise AmountError(f"unknown key {sorted(unknown)[0]!r} in [projection]", field="projection",
+    record = record or ProjectionRecord()
+    if record.extra:
+        raise AmountError(f"unknown key {sorted(k for k, _ in record.extra)[0]!r} in [projection]", field="projection",
                           hint="keys: " + ", ".join(sorted(_KEYS)))
+    raw = {k: getattr(record, k) for k in _KEYS if getattr(record, k) is not None}
     for k, v in overrides.items():
         if v is not None:
             if k == "water_loss":
@@ -232,5 +263,5 @@ def project(recipe: Recipe, catalog: Catalog, settings: ProjectionSettings, *,
     return proj
 
 
-__all__ = ["ProjectionSettings", "Projection", "Stage", "project", "settings_from", "parse_fraction", "GUIDANCE",
+__all__ = ["ProjectionSettings", "ProjectionRecord", "Projection", "Stage", "project", "settings_from", "parse_fraction", "GUIDANCE",
            "HYDROLYSIS_TYPICAL", "HYDROLYSIS_CHARCOAL_OR_LOW_PH", "DEFAULT_HYDROLYSIS"]

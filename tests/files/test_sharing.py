@@ -16,6 +16,7 @@ from mediaplan.files.sharing import (
     compare_provenance,
     embedded_entry,
     provenance_of,
+    provenance_record,
     read_plan,
 )
 from mediaplan.medium.errors import CatalogError
@@ -38,7 +39,7 @@ def _facility(tmp_path, **changes):
 def _plan(catalog, embed=False, tmp_path=None):
     r = Recipe(base="ms1962").with_amount("bap", "1 mg/L").with_amount("potassium_iodide", "0 g/L")
     plan = Plan(recipe=r, title="Demo (invented)")
-    plan.provenance = provenance_of(r, catalog, embed=embed)
+    plan.provenance = provenance_record(r, catalog, embed=embed)
     if tmp_path is not None:
         planfile.write(plan, tmp_path / "p.toml")
     return plan
@@ -46,11 +47,13 @@ def _plan(catalog, embed=False, tmp_path=None):
 
 def test_provenance_lists_every_entry_used_with_its_digest(catalog):
     prov = _plan(catalog).provenance
-    comps = prov["components"]
+    comps = prov.components
     assert comps["bap"] == catalog.components["bap"].digest
     assert comps["ammonium_nitrate"] == catalog.components["ammonium_nitrate"].digest
     assert "potassium_iodide" in comps  # removed by 0 g/L, still part of what the plan means
-    assert prov["media"] == {"ms1962": catalog.media["ms1962"].digest}
+    assert prov.media == {"ms1962": catalog.media["ms1962"].digest}
+    # the table a document prints is the record's own table
+    assert provenance_of(_plan(catalog).recipe, catalog) == dict(prov)
 
 
 def test_same_catalog_shows_no_difference(catalog, tmp_path):
@@ -70,7 +73,7 @@ def test_another_catalog_is_told_which_entries_differ(catalog, tmp_path):
 def test_embedded_copy_round_trips_through_toml(catalog, tmp_path):
     _plan(catalog, embed=True, tmp_path=tmp_path)
     plan = planfile.read(tmp_path / "p.toml")
-    entry = plan.provenance["embedded"]["components"]["calcium_chloride_dihydrate"]
+    entry = plan.provenance.embedded_entries("components")["calcium_chloride_dihydrate"]
     assert canonical_digest(entry) == canonical_digest(embedded_entry(catalog.components["calcium_chloride_dihydrate"]))
 
 

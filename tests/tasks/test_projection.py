@@ -9,7 +9,13 @@ import pytest
 from mediaplan.cli.main import main
 from mediaplan.medium.errors import AmountError
 from mediaplan.medium.recipe import Recipe
-from mediaplan.tasks.projection import ProjectionSettings, parse_fraction, project, settings_from
+from mediaplan.tasks.projection import (
+    ProjectionRecord,
+    ProjectionSettings,
+    parse_fraction,
+    project,
+    settings_from,
+)
 
 
 def _interp(x, x0, y0, x1, y1):
@@ -42,8 +48,8 @@ def test_water_loss_matches_crc_mannitol(catalog):
 
 def test_stages_of_a_culture_medium(catalog):
     r = Recipe(base="ms1962").with_amount("sucrose", "30 g/L")
-    p = project(r, catalog, settings_from({"autoclave_hydrolysis": 0.1, "water_loss_per_week": 0.02, "weeks": 4}),
-                cell_reference_mosmol=200.0)
+    p = project(r, catalog, settings_from(ProjectionRecord(autoclave_hydrolysis=0.1, water_loss_per_week=0.02,
+                                                           weeks=4)), cell_reference_mosmol=200.0)
     made, ac, late = (s.evaluation for s in p.stages)
     m_suc = made.component("sucrose").molality_mmol_per_kg
     # each mole hydrolysed adds one osmole to the ideal sum and takes one mole of water (0.016 % here)
@@ -57,25 +63,40 @@ def test_stages_of_a_culture_medium(catalog):
     assert [s["tonicity"]["class"] for s in p.to_dict()["stages"]] == ["hypotonic", "hypotonic", "isotonic"]
 
 
-@pytest.mark.parametrize("table,word", [
-    ({"autoclave_hydrolysis": 1.5}, "between 0 and 1"),
-    ({"autoclave_hydrolysis": "ten"}, "fraction"),
-    ({"water_loss": 0.1, "water_loss_per_week": 0.01}, "not both"),
-    ({"water_loss_per_week": 0.3, "weeks": 4}, "dry"),
-    ({"weeks": -1}, "between 0 and 104"),
-    ({"weeks": "four"}, "number"),
-    ({"loss": 0.1}, "unknown key"),
+@pytest.mark.parametrize("record,word,field", [
+    (ProjectionRecord(autoclave_hydrolysis=1.5), "between 0 and 1", "projection.autoclave_hydrolysis"),
+    (ProjectionRecord(autoclave_hydrolysis="ten"), "fraction", "projection.autoclave_hydrolysis"),
+    (ProjectionRecord(water_loss=0.1, water_loss_per_week=0.01), "not both", "projection"),
+    (ProjectionRecord(water_loss_per_week=0.3, weeks=4), "dry", "projection.water_loss_per_week"),
+    (ProjectionRecord(weeks=-1), "between 0 and 104", "projection.weeks"),
+    (ProjectionRecord(weeks="four"), "number", "projection.weeks"),
+    (ProjectionRecord(extra=(("loss", 0.1),)), "unknown key 'loss'", "projection"),
 ])
-def test_bad_settings(table, word):
-    with pytest.raises(AmountError, match=word):
-        settings_from(table)
+def test_bad_settings(record, word, field):
+    with pytest.raises(AmountError, match=word) as ei:
+        settings_from(record)
+    assert ei.value.field == field
 
 
 def test_fractions_and_overrides():
     assert parse_fraction("12.5 %", field="x") == pytest.approx(0.125)
-    s = settings_from({"autoclave_hydrolysis": 0.05, "water_loss": 0.1}, water_loss_per_week="1 %", weeks=3)
+    s = settings_from(ProjectionRecord(autoclave_hydrolysis=0.05, water_loss=0.1), water_loss_per_week="1 %", weeks=3)
     assert s.water_loss is None and s.total_water_loss == pytest.approx(0.03)
     assert settings_from(None).autoclave_hydrolysis == 0.1  # default inside the published 5-20 %
+    # texts as a plan may hold them ("15 %") read as the typed fractions
+    assert settings_from(ProjectionRecord(autoclave_hydrolysis="15 %", weeks="6")) == \
+        ProjectionSettings(0.15, None, None, 6.0)
+
+
+@pytest.mark.parametrize("settings", [
+    ProjectionSettings(0.1, 0.02, None, 4.0),
+    ProjectionSettings(0.2, None, 0.3, 6.0),
+    ProjectionSettings(0.0, 0.0, None, 8.0),
+])
+def test_kept_settings_read_back_the_same(settings):
+    record = ProjectionRecord.of(settings)
+    assert dict(record) == settings.to_table()  # the [projection] table the record writes
+    assert settings_from(record) == settings
 
 
 def test_calc_project_json_and_text(tmp_path, capsys):

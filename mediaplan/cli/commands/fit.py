@@ -82,6 +82,7 @@ def write_cells(fit, target: str, counts_plan, catalog) -> str:
     from pathlib import Path
 
     from mediaplan.files import planfile
+    from mediaplan.files.plan_tables import cell_reference_of
 
     path = Path(target)
     if counts_plan is not None and counts_plan.path is not None and counts_plan.path.resolve() == path.resolve():
@@ -90,7 +91,8 @@ def write_cells(fit, target: str, counts_plan, catalog) -> str:
         plan = planfile.read(path, catalog=catalog)
     else:
         plan = planfile.Plan(title="Cell reference from an incipient plasmolysis fit")
-    plan.cells = {**(plan.cells or {}), **fit.cells_table(datetime.date.today().isoformat())}
+    fitted = cell_reference_of(fit, datetime.date.today().isoformat())
+    plan.cells = plan.cells.merged(fitted) if plan.cells is not None else fitted
     return str(planfile.write(plan, path))
 
 

@@ -83,6 +83,7 @@ def run(args) -> int:
     from pathlib import Path
 
     from mediaplan.files import planfile
+    from mediaplan.files.plan_tables import series_record_of
     from mediaplan.files.planfile import Plan
 
     catalog = catalog_from(args)
@@ -98,7 +99,7 @@ def run(args) -> int:
         if plan is None:
             plan = Plan(recipe=recipe, title=f"Plasmolysis series: {design.osmoticum} in {design.background}")
         plan = plan.with_recipe(recipe)
-        plan.series = design.plan_table()
+        plan.series = series_record_of(design)
         if plan.path is None or plan.path.resolve() != Path(args.write).resolve():
             plan.path, plan.disk_digest = None, None
         path = planfile.write(plan, args.write, force=args.force)

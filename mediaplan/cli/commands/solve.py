@@ -70,11 +70,14 @@ def run(args) -> int:
     if args.write and sol.status != "too_concentrated":
         from pathlib import Path
 
+        from mediaplan.files.plan_tables import target_record_of
+        from mediaplan.tasks.cells import CellReference
+
         new = plan.with_recipe(sol.recipe)
         new.path, new.disk_digest = None, None  # a new file: planfile.write refuses to replace one unless --force
-        new.target = sol.target_table()
+        new.target = target_record_of(sol)
         if args.cells and not plan.cells:
-            new.cells = {"osmolality": f"{ref:.4g} mOsm/kg", "source": f"--cells {args.cells}"}
+            new.cells = CellReference(osmolality=f"{ref:.4g} mOsm/kg", source=f"--cells {args.cells}")
         written = planfile.write(new, Path(args.write), force=args.force)
     if args.json:
         d = sol.to_dict()
