@@ -20,6 +20,7 @@ from mediaplan.tui.dialogs.files import ChoiceScreen, PathScreen
 from mediaplan.tui.palette import PlanCommands
 from mediaplan.tui.screens.main import MainScreen
 from mediaplan.tui.session import Session, find_recoveries, restore
+from mediaplan.tui.words import in_app_words
 
 #: seconds of quiet after an edit before unsaved work is written to the recovery folder
 AUTOSAVE_DELAY = 2.0
@@ -100,7 +101,9 @@ class MediaplanApp(App):
     def autosave_now(self) -> None:
         try:
             self.session.write_recovery()
-        except (OSError, MediaplanError) as exc:
+        except MediaplanError as exc:
+            self.notify(f"autosave failed: {in_app_words(exc)}", severity="warning", markup=False)
+        except OSError as exc:
             self.notify(f"autosave failed: {exc}", severity="warning", markup=False)
 
     def _replace_session(self, session: Session) -> None:
@@ -133,7 +136,7 @@ class MediaplanApp(App):
             self._conflict(path or self.session.plan.path, exc)
             return
         except MediaplanError as exc:
-            self.notify(str(exc), title="not saved", severity="error", markup=False)
+            self.notify(in_app_words(exc), title="not saved", severity="error", markup=False)
             return
         self.notify(f"saved {saved}", markup=False)
         self.main.refresh_all()
@@ -161,7 +164,7 @@ class MediaplanApp(App):
         try:
             session = Session.open(path, self.catalog)
         except MediaplanError as exc:
-            self.notify(str(exc), title="not opened", severity="error", markup=False, timeout=10)
+            self.notify(in_app_words(exc), title="not opened", severity="error", markup=False, timeout=10)
             return
         self.session.discard_recovery()
         self._replace_session(session)

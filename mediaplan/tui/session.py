@@ -1,7 +1,8 @@
 """The terminal app's session: the open plan, its history and its recovery file.
 
 Plain Python (no Textual): the screens read and change the plan only through :class:`Session`,
-which keeps the Plan the single source of truth and asks the domain layer for every figure.
+which keeps the Plan the single source of truth and asks the domain layer for every figure. The plan's
+optional tables are typed records (:mod:`mediaplan.files.plan_tables`); the edits below replace them.
 """
 
 from __future__ import annotations
@@ -13,12 +14,16 @@ from dataclasses import dataclass, replace
 from pathlib import Path
 
 from mediaplan.files import planfile
+from mediaplan.files.plan_tables import TargetRecord, cell_reference_of
 from mediaplan.files.planfile import Plan
 from mediaplan.medium.catalog import Catalog
 from mediaplan.medium.errors import MediaplanError
 from mediaplan.medium.evaluate import Evaluation, evaluate
 from mediaplan.medium.recipe import Recipe
-from mediaplan.tasks.cells import cell_reference, cell_tolerance
+from mediaplan.tasks.cells import CellReference, cell_reference, cell_tolerance
+from mediaplan.tasks.plasmolysis.counts import SeriesRecord
+from mediaplan.tasks.projection import ProjectionRecord
+from mediaplan.tui.words import in_app_words
 
 #: plan-file table that marks a recovery file (stripped again when it is restored)
 RECOVERY_TABLE = "recovery"
@@ -72,17 +77,17 @@ class Session:
 
     def cell_reference_mosmol(self, recipe: Recipe | None = None) -> float | None:
         """The plan's cell reference [mOsm/kg] (from [cells] osmolality or potential), or None."""
-        return cell_reference(None, self.plan, (recipe or self.recipe).temperature_k)
+        return cell_reference(None, self.plan.cells, (recipe or self.recipe).temperature_k)
 
     def evaluate(self, recipe: Recipe | None = None) -> Outcome:
         """Evaluate the plan's recipe (or a tentative one); never raises."""
         recipe = recipe or self.recipe
         try:
-            tol = cell_tolerance(None, self.plan)
+            tol = cell_tolerance(None, self.plan.cells)
             ev = evaluate(recipe, self.catalog, cell_reference_mosmol=self.cell_reference_mosmol(recipe),
                           isotonic_tolerance=tol)
         except MediaplanError as exc:
-            return Outcome(None, str(exc))
+            return Outcome(None, in_app_words(exc))
         except (ValueError, ArithmeticError) as exc:  # a model failing on odd input must not end the session
             return Outcome(None, f"the models could not evaluate this medium ({exc})")
         return Outcome(ev)
@@ -114,6 +119,35 @@ class Session:
             self.set_recipe(self.recipe.with_amount(component_id, "0 mg/L"))
         else:
             self.set_recipe(self.recipe.without(component_id))
+
+    def set_conditions(self, title: str, volume: str, temperature: str, cells: str) -> None:
+        """Title, batch volume, temperature and the cells' reference (``""`` removes it; other [cells]
+        fields such as the tolerance are kept). Raises AmountError for bad text."""
+        plan = self.plan
+        reference = (plan.cells or CellReference()).with_reference(cells)
+        recipe = plan.recipe.with_settings(volume=volume, temperature=temperature)
+        self.change(replace(plan, title=title, recipe=recipe, cells=None if reference.empty else reference))
+
+    def apply_target(self, recipe: Recipe, target: TargetRecord) -> None:
+        """The recipe a solve reached, and the target it was asked for (the plan's [target])."""
+        self.change(replace(self.plan, recipe=recipe, target=target))
+
+    def set_projection(self, projection: ProjectionRecord) -> None:
+        """Keep projection settings (the plan's [projection])."""
+        self.change(replace(self.plan, projection=projection))
+
+    def keep_series(self, series: SeriesRecord, fit=None, *, today: datetime.date | None = None) -> None:
+        """Keep a plasmolysis series with its counts (the plan's [series]).
+
+        With a fit (a PlasmolysisFit), its cell sap osmolality becomes the cells' reference for tonicity:
+        one reference, so a potential kept beside an older reference goes; the tolerance and other
+        [cells] fields stay.
+        """
+        cells = self.plan.cells
+        if fit is not None:
+            fitted = cell_reference_of(fit, (today or datetime.date.today()).isoformat())
+            cells = replace((cells or CellReference()).merged(fitted), potential=None)
+        self.change(replace(self.plan, series=series, cells=None if cells is None or cells.empty else cells))
 
     def undo(self) -> bool:
         return self._step(self._undo, self._redo)

@@ -311,14 +311,14 @@ async def test_solve_a_target_and_apply(catalog):
         assert isinstance(app.screen, MainScreen)
         ref = solve_target(start, catalog, "-0.9 MPa", ["mannitol"])
         assert app.session.recipe.amount_of("mannitol").text == ref.recipe.amount_of("mannitol").text
-        assert app.session.plan.target["value"] == "-0.9 MPa"
+        assert app.session.plan.target.value == "-0.9 MPa" and app.session.plan.target.osmotica == ("mannitol",)
         # the panel shows the solved medium, which sits on the target
         assert panel(app).evaluation.osmotic_potential_mpa == pytest.approx(-0.9, abs=0.002)
 
 
 @run_async
 async def test_projection_figures_follow_the_fractions(catalog):
-    from mediaplan.tasks.projection import project, settings_from
+    from mediaplan.tasks.projection import ProjectionRecord, project, settings_from
     from mediaplan.tui.screens.projection import ProjectionScreen
 
     recipe = Recipe(base="ms1962").with_amount("sucrose", "30 g/L")
@@ -331,8 +331,8 @@ async def test_projection_figures_follow_the_fractions(catalog):
         app.screen.query_one("#proj-weeks").value = "6"
         await pilot.pause()
         shown = screen_text(app)
-        ref = project(recipe, catalog, settings_from({"autoclave_hydrolysis": "15 %", "water_loss_per_week": "2 %",
-                                                      "weeks": "6"}))
+        ref = project(recipe, catalog, settings_from(ProjectionRecord(autoclave_hydrolysis="15 %",
+                                                                      water_loss_per_week="2 %", weeks="6")))
         for st in ref.stages:
             assert f"{st.evaluation.osmolality_mosmol_per_kg:.1f}" in shown
         app.screen.query_one("#proj-weeks").value = "two hundred"
@@ -342,7 +342,8 @@ async def test_projection_figures_follow_the_fractions(catalog):
         await pilot.pause()
         await pilot.click("#proj-keep")
         await pilot.pause()
-        assert app.session.plan.projection["weeks"] == 6
+        kept = app.session.plan.projection
+        assert (kept.autoclave_hydrolysis, kept.water_loss_per_week, kept.weeks) == pytest.approx((0.15, 0.02, 6))
 
 
 @run_async
@@ -360,17 +361,16 @@ async def test_plasmolysis_series_design_counts_fit_keep(catalog):
         screen.action_design()
         await app.workers.wait_for_complete()
         await pilot.pause()
-        assert len(screen.series["levels"]) == 5
+        assert len(screen.series.levels) == 5
         # invented counts (a demo scenario), entered through the counts dialog for the first level
         screen.query_one("#series-levels").focus()
         await pilot.press("enter")
         assert isinstance(app.screen, CountsScreen)
         await pilot.press("ctrl+u", *"1/50,0/40", "enter")
         await pilot.pause()
-        for lv, counts in zip(screen.series["levels"][1:], ([(6, 50)], [(24, 50)], [(44, 50)], [(50, 50)]),
-                              strict=True):
-            lv["plasmolysed"], lv["total"] = [k for k, _ in counts], [n for _, n in counts]
-        assert screen.series["levels"][0]["plasmolysed"] == [1, 0]
+        for i, counts in enumerate(([(6, 50)], [(24, 50)], [(44, 50)], [(50, 50)]), start=1):
+            screen.series = screen.series.with_counts(i, counts)
+        assert screen.series.levels[0].plasmolysed == (1, 0) and screen.series.levels[0].total == (50, 40)
         screen.action_fit()
         await app.workers.wait_for_complete()
         await pilot.pause()
@@ -381,7 +381,10 @@ async def test_plasmolysis_series_design_counts_fit_keep(catalog):
         await pilot.press("k", "escape")
         await pilot.pause()
         assert isinstance(app.screen, MainScreen)
-        assert app.session.plan.series["levels"][0]["plasmolysed"] == [1, 0]
+        assert app.session.plan.series == screen.series  # the record from the screen, counts and all
+        assert app.session.plan.series.levels[0].plasmolysed == (1, 0)
+        assert app.session.plan.cells.osmolality == f"{ref.osmolality_50_mosmol_per_kg:.4g} mOsm/kg"
+        assert app.session.plan.cells.potential is None  # one reference: the osmolality
         # the fitted cell sap becomes the tonicity reference of the main panel
         assert panel(app).evaluation.tonicity is not None
         assert panel(app).evaluation.tonicity["reference_mosmol_per_kg"] == pytest.approx(

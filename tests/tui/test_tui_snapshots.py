@@ -10,6 +10,7 @@ import pytest
 from mediaplan.files.catalog import get_catalog
 from mediaplan.files.planfile import Plan
 from mediaplan.medium.recipe import Recipe
+from mediaplan.tasks.cells import CellReference
 from mediaplan.tui.app import MediaplanApp
 from mediaplan.tui.session import Session
 
@@ -26,7 +27,7 @@ def _isolated(tmp_path, monkeypatch):
 def demo_app() -> MediaplanApp:
     """Half-strength base with sucrose and a cell reference (an invented demo scenario)."""
     recipe = Recipe(base="ms1962", strength=0.5).with_amount("sucrose", "20 g/L").with_amount("mannitol", "0.1 mol/kg")
-    plan = Plan(recipe=recipe, title="Snapshot demo (invented)", cells={"osmolality": "450 mOsm/kg"})
+    plan = Plan(recipe=recipe, title="Snapshot demo (invented)", cells=CellReference(osmolality="450 mOsm/kg"))
     app = MediaplanApp(Session(plan, get_catalog()), offer_recovery=False)
     app.cursor_blink = False  # type: ignore[attr-defined]
     return app

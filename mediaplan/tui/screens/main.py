@@ -17,6 +17,7 @@ from mediaplan.tui.actions import bindings
 from mediaplan.tui.session import Outcome
 from mediaplan.tui.widgets.recipe_table import RecipeTable
 from mediaplan.tui.widgets.relations import GroupChart, NotesPanel, RelationsPanel, figures
+from mediaplan.tui.words import in_app_words
 
 
 class MainScreen(Screen):
@@ -119,7 +120,7 @@ class MainScreen(Screen):
         try:
             recipe = self.session.recipe.with_amount(component_id, text)
         except MediaplanError as exc:
-            return str(exc)
+            return in_app_words(exc)
         outcome = self.session.evaluate(recipe)
         ev = outcome.evaluation
         self.query_one(RelationsPanel).show(ev, outcome.error, preview=True)
@@ -168,7 +169,7 @@ class MainScreen(Screen):
         try:
             change(*args)
         except MediaplanError as exc:
-            self.notify(str(exc), title="not changed", severity="error", markup=False)
+            self.notify(in_app_words(exc), title="not changed", severity="error", markup=False)
             return
         self.refresh_all()
         self.app.schedule_autosave()
@@ -232,49 +233,31 @@ class MainScreen(Screen):
         from mediaplan.tui.dialogs.conditions import Conditions, ConditionsScreen
 
         plan = self.session.plan
-        cells = ""
-        if plan.cells:
-            cells = str(plan.cells.get("osmolality") or plan.cells.get("potential") or "")
-        current = Conditions(plan.title, plan.recipe.volume, plan.recipe.temperature, cells)
+        reference = plan.cells.reference if plan.cells is not None else None
+        current = Conditions(plan.title, plan.recipe.volume, plan.recipe.temperature,
+                             reference[1] if reference else "")
 
         def done(c: Conditions | None) -> None:
             if c is not None:
-                self._apply(self._set_conditions, c)
+                self._apply(self.session.set_conditions, c.title, c.volume, c.temperature, c.cells)
 
         self.app.push_screen(ConditionsScreen(current), done)
 
-    def _set_conditions(self, c) -> None:
-        from dataclasses import replace
-
-        from mediaplan.medium.units import parse_target
-
-        plan = self.session.plan
-        cells = {k: v for k, v in (plan.cells or {}).items() if k not in ("osmolality", "potential")}
-        if c.cells:
-            cells[parse_target(c.cells).kind] = c.cells
-        recipe = plan.recipe.with_settings(volume=c.volume, temperature=c.temperature)
-        self.session.change(replace(plan, title=c.title, recipe=recipe, cells=cells or None))
-
     def action_set_target(self) -> None:
-        from dataclasses import replace
-
         from mediaplan.tui.screens.target import TargetScreen
 
         def done(applied) -> None:
             if applied is not None:
-                self._apply(lambda: self.session.change(replace(self.session.plan, recipe=applied.recipe,
-                                                                target=applied.target)))
+                self._apply(self.session.apply_target, applied.recipe, applied.target)
 
         self.app.push_screen(TargetScreen(self.session), done)
 
     def action_projection(self) -> None:
-        from dataclasses import replace
-
         from mediaplan.tui.screens.projection import ProjectionScreen
 
-        def done(table) -> None:
-            if table is not None:
-                self._apply(lambda: self.session.change(replace(self.session.plan, projection=table)))
+        def done(record) -> None:
+            if record is not None:
+                self._apply(self.session.set_projection, record)
 
         self.app.push_screen(ProjectionScreen(self.session), done)
 

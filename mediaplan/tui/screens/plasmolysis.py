@@ -1,14 +1,13 @@
 """Plasmolysis series: design the levels, enter the counts, fit the curve and keep the cell reference.
 
 mediaplan.tasks.plasmolysis designs (worker) and fits (worker); mediaplan.views.plot gives the curve's points,
-drawn here with textual-plotext. Keep writes the [series] table with its counts and, after a fit,
-the [cells] reference that the main screen's tonicity uses.
+drawn here with textual-plotext. The screen works on the plan's series record (a SeriesRecord: the design
+as saved plus the counts entered per level) from the design to the fit; Keep stores it in the plan and,
+after a fit, the [cells] reference that the main screen's tonicity uses (Session.keep_series).
 """
 
 from __future__ import annotations
 
-import copy
-import datetime
 from dataclasses import dataclass
 
 from rich.text import Text
@@ -22,6 +21,7 @@ from textual.widgets import DataTable, Footer, Input, Label, Static
 from textual.worker import Worker, WorkerState
 
 from mediaplan.medium.errors import AmountError, MediaplanError
+from mediaplan.tasks.plasmolysis.counts import LevelRecord, SeriesRecord
 from mediaplan.tui.widgets.fields import (
     FieldMessage,
     ParsedValidator,
@@ -29,6 +29,7 @@ from mediaplan.tui.widgets.fields import (
     report,
     validated_value,
 )
+from mediaplan.tui.words import SERIES_LABELS, in_app_words
 
 LEVEL_COLUMNS = (("level", "#"), ("psi", "ψ MPa"), ("osm", "mOsm/kg"), ("g", "g/batch"),
                  ("stock", "stock mL"), ("diluent", "water mL"), ("counts", "plasmolysed/total"))
@@ -52,8 +53,9 @@ def parse_counts(text: str) -> list[tuple[int, int]]:
     return out
 
 
-def counts_text(level: dict) -> str:
-    return ", ".join(f"{k}/{n}" for k, n in zip(level.get("plasmolysed", []), level.get("total", []), strict=False))
+def counts_text(level: LevelRecord) -> str:
+    """``"12/50, 10/48"``: the level's counts, one plasmolysed/total per sample."""
+    return ", ".join(f"{k}/{n}" for k, n in level.counts)
 
 
 def fit_summary(fit) -> Text:
@@ -66,6 +68,10 @@ def fit_summary(fit) -> Text:
     for w in fit.warnings:
         t.append("\n△ " + w)
     return t
+
+
+def _num(value: float | None, fmt: str) -> str:
+    return fmt.format(value) if isinstance(value, (int, float)) else "–"
 
 
 class CountsScreen(ModalScreen[list[tuple[int, int]] | None]):
@@ -112,7 +118,7 @@ class SeriesScreen(Screen):
 
     @dataclass
     class Designed(Message):
-        table: dict | None
+        series: SeriesRecord | None
         error: str | None = None
 
     @dataclass
@@ -124,14 +130,14 @@ class SeriesScreen(Screen):
     def __init__(self, session) -> None:
         super().__init__()
         self.session = session
-        self.series: dict | None = copy.deepcopy(session.plan.series) if session.plan.series else None
+        self.series: SeriesRecord | None = session.plan.series
         self.fit = None
         self.link = "logit"
 
     def compose(self) -> ComposeResult:
         from textual_plotext import PlotextPlot
 
-        s = self.series or {}
+        s = self.series or SeriesRecord()
         yield Static(" plasmolysis series", id="topbar")
         with Horizontal(id="series-controls"):
             yield Label("ψ", classes="field-label")
@@ -139,11 +145,11 @@ class SeriesScreen(Screen):
             yield Label("→", classes="field-label")
             yield Input("-1.8 MPa", id="series-to", validators=[TargetValidator()])
             yield Label("n", classes="field-label")
-            yield Input(str(len(s.get("levels", [])) or 8), id="series-steps", type="integer")
+            yield Input(str(len(s.levels or ()) or 8), id="series-steps", type="integer")
             yield Label("with", classes="field-label")
-            yield Input(str(s.get("osmoticum", "mannitol")), id="series-osmoticum")
+            yield Input(s.osmoticum if s.osmoticum is not None else "mannitol", id="series-osmoticum")
             yield Label("vol", classes="field-label")
-            yield Input(str(s.get("volume", "50 mL")), id="series-volume")
+            yield Input(s.volume if s.volume is not None else "50 mL", id="series-volume")
         yield FieldMessage("d designs the levels · Enter on a level enters its counts · f fits · k keeps",
                            id="series-message")
         with Horizontal(id="series-body"):
@@ -163,14 +169,11 @@ class SeriesScreen(Screen):
     def _show_levels(self) -> None:
         table = self.query_one(DataTable)
         table.clear()
-        for i, lv in enumerate((self.series or {}).get("levels", [])):
-            def num(key, fmt, lv=lv):
-                v = lv.get(key)
-                return fmt.format(v) if isinstance(v, (int, float)) else "–"
-            table.add_row(str(lv.get("level", i + 1)), num("water_potential_mpa", "{:.3f}"),
-                          num("osmolality_mosmol_per_kg", "{:.1f}"),
-                          num("grams", "{:.4g}"), num("stock_ml", "{:.2f}"), num("diluent_ml", "{:.2f}"),
-                          Text(counts_text(lv)), key=str(i))
+        for i, lv in enumerate((self.series or SeriesRecord()).levels or ()):
+            table.add_row(str(lv.level if lv.level is not None else i + 1), _num(lv.water_potential_mpa, "{:.3f}"),
+                          _num(lv.osmolality_mosmol_per_kg, "{:.1f}"), _num(lv.grams, "{:.4g}"),
+                          _num(lv.stock_ml, "{:.2f}"), _num(lv.diluent_ml, "{:.2f}"), Text(counts_text(lv)),
+                          key=str(i))
 
     # ---- design ---------------------------------------------------------------------------
     @on(Input.Submitted, "#series-controls Input")
@@ -182,11 +185,14 @@ class SeriesScreen(Screen):
         if None in texts.values():
             return
         try:
-            lo, hi = (parse_target(texts[k]) for k in ("from", "to"))
+            lo, hi = (parse_target(texts[k], field=f) for k, f in (("from", "series.first"), ("to", "series.last")))
             if lo.kind != "potential" or hi.kind != "potential":
                 raise AmountError("give the levels as water potentials", hint='e.g. "-0.4 MPa" to "-1.8 MPa"')
             steps = int(self.query_one("#series-steps", Input).value or "0")
-        except (MediaplanError, ValueError) as exc:
+        except MediaplanError as exc:
+            report(msg, in_app_words(exc, SERIES_LABELS), "")
+            return
+        except ValueError as exc:
             report(msg, str(exc), "")
             return
         msg.update("designing…")
@@ -195,6 +201,7 @@ class SeriesScreen(Screen):
 
     @work(thread=True, exclusive=True, exit_on_error=False, group="design")
     def design(self, lo: float, hi: float, steps: int, osmoticum: str, volume: str) -> None:
+        from mediaplan.files.plan_tables import series_record_of
         from mediaplan.medium.recipe import Recipe
         from mediaplan.tasks.plasmolysis import design_series, potentials_between
 
@@ -206,42 +213,41 @@ class SeriesScreen(Screen):
                                    spacing=f"{steps} levels evenly spaced in water potential from "
                                            f"{lo / 1e6:g} MPa to {hi / 1e6:g} MPa")
         except MediaplanError as exc:
-            self.post_message(self.Designed(None, str(exc)))
+            self.post_message(self.Designed(None, in_app_words(exc, SERIES_LABELS)))
             return
-        self.post_message(self.Designed(design.plan_table()))
+        self.post_message(self.Designed(series_record_of(design)))
 
     @on(Designed)
     def _designed(self, event: Designed) -> None:
         if not report(self.query_one(FieldMessage), event.error,
                       "Enter on a level enters its counts (plasmolysed/total) · f fits · k keeps"):
             return
-        self.series, self.fit = event.table, None
+        self.series, self.fit = event.series, None
         self._show_levels()
 
     # ---- counts ---------------------------------------------------------------------------
     @on(DataTable.RowSelected)
     def _edit_counts(self, event: DataTable.RowSelected) -> None:
         i = int(event.row_key.value)
-        lv = self.series["levels"][i]
+        lv = self.series.levels[i]
 
         def done(counts) -> None:
             if counts is not None:
-                lv["plasmolysed"] = [k for k, _ in counts]
-                lv["total"] = [n for _, n in counts]
+                self.series = self.series.with_counts(i, counts)
                 self._show_levels()
-                self.query_one(DataTable).move_cursor(row=min(i + 1, len(self.series["levels"]) - 1))
+                self.query_one(DataTable).move_cursor(row=min(i + 1, len(self.series.levels) - 1))
 
-        self.app.push_screen(CountsScreen(f"level {lv.get('level', i + 1)}: ψ {lv.get('water_potential_mpa')} MPa",
-                                          counts_text(lv)), done)
+        number = lv.level if lv.level is not None else i + 1
+        self.app.push_screen(CountsScreen(f"level {number}: ψ {lv.water_potential_mpa} MPa", counts_text(lv)), done)
 
     # ---- fit ------------------------------------------------------------------------------
     def action_fit(self) -> None:
         if self.series:
             self.query_one(FieldMessage).update("fitting…")
-            self.run_fit(copy.deepcopy(self.series), self.link)
+            self.run_fit(self.series, self.link)
 
     @work(thread=True, exclusive=True, exit_on_error=False, group="fit")
-    def run_fit(self, series: dict, link: str) -> None:
+    def run_fit(self, series: SeriesRecord, link: str) -> None:
         from mediaplan.tasks.plasmolysis import counts_from_series, fit_counts
         from mediaplan.views.plot import curve_points
 
@@ -249,7 +255,7 @@ class SeriesScreen(Screen):
             fit = fit_counts(counts_from_series(series, temperature_k=self.session.recipe.temperature_k), link)
             self.post_message(self.Fitted(fit, curve_points(fit)))
         except MediaplanError as exc:
-            self.post_message(self.Fitted(None, error=str(exc)))
+            self.post_message(self.Fitted(None, error=in_app_words(exc, SERIES_LABELS)))
 
     @on(Fitted)
     def _fitted(self, event: Fitted) -> None:
@@ -290,18 +296,14 @@ class SeriesScreen(Screen):
 
     # ---- keep and close -------------------------------------------------------------------
     def action_keep(self) -> None:
-        from dataclasses import replace
-
         if not self.series:
             return
-        plan = self.session.plan
-        cells = dict(plan.cells or {})
-        if self.fit is not None:
-            cells = {k: v for k, v in cells.items() if k not in ("osmolality", "potential")}
-            cells.update(self.fit.cells_table(datetime.date.today().isoformat()))
-            cells.pop("potential", None)  # one reference: the osmolality (both say the same)
-        self.app.get_screen("main")._apply(
-            lambda: self.session.change(replace(plan, series=copy.deepcopy(self.series), cells=cells or None)))
+        try:
+            self.session.keep_series(self.series, self.fit)
+        except MediaplanError as exc:
+            self.notify(in_app_words(exc, SERIES_LABELS), title="not kept", severity="error", markup=False)
+            return
+        self.app.schedule_autosave()
         self.notify("series kept in the plan" + (" · cell reference set" if self.fit else ""), markup=False)
 
     def action_close(self) -> None:

@@ -20,15 +20,18 @@ from textual.worker import Worker, WorkerState
 
 from mediaplan.medium.errors import MediaplanError
 from mediaplan.tui.widgets.fields import FieldMessage, VolumeValidator, report, validated_value
+from mediaplan.tui.words import in_app_words
 
 
 def sheet_markdown(plan, catalog, volume: str, stocks: bool) -> str:
     """Build the sheet and format it (pure; runs in a worker thread)."""
+    from mediaplan.files.plan_tables import provenance_table
     from mediaplan.tasks import prep
     from mediaplan.views import export
 
     sheet = prep.build_sheet(plan.recipe, catalog, volume=volume, stocks=stocks, title=plan.title)
-    return export.prep_sheet(sheet, plan, "md")
+    recorded = provenance_table(plan.provenance) if plan.provenance is not None else None
+    return export.prep_sheet(sheet, plan, "md", provenance=recorded)
 
 
 class PrepScreen(Screen):
@@ -78,7 +81,7 @@ class PrepScreen(Screen):
         try:
             self.post_message(self.Ready(sheet_markdown(session.plan, session.catalog, volume, stocks)))
         except MediaplanError as exc:
-            self.post_message(self.Ready(None, str(exc)))
+            self.post_message(self.Ready(None, in_app_words(exc)))
 
     @on(Ready)
     def _ready(self, event: Ready) -> None:

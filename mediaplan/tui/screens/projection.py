@@ -1,6 +1,6 @@
 """Projections: the medium as made, after autoclaving and after weeks of culture (mediaplan.tasks.projection).
 
-The figures update as you type the fractions; Keep stores them in the plan's [projection] table.
+The figures update as you type the fractions; Keep stores them in the plan's [projection] record.
 """
 
 from __future__ import annotations
@@ -15,9 +15,11 @@ from textual.screen import ModalScreen
 from textual.widgets import Button, Input, Label, Static
 
 from mediaplan.medium.errors import MediaplanError
+from mediaplan.tasks.projection import ProjectionRecord
 from mediaplan.tui.widgets.fields import FieldMessage, report
+from mediaplan.tui.words import in_app_words
 
-#: the inputs: key in ProjectionSettings, label, placeholder
+#: the inputs: key in ProjectionRecord, label, placeholder
 FIELDS = (("autoclave_hydrolysis", "sucrose hydrolysed", "10 %"),
           ("water_loss_per_week", "water lost per week", "2 %"),
           ("weeks", "weeks of culture", "4"))
@@ -35,26 +37,33 @@ def stages_table(projection) -> Table:
     return table
 
 
-class ProjectionScreen(ModalScreen[dict | None]):
-    """Dismisses with the [projection] table to keep, or None."""
+def field_text(key: str, value: float | str | None) -> str:
+    """What an input shows for a value of the plan's record: a percentage for fractions, text as written."""
+    if value is None:
+        return ""
+    if isinstance(value, str):
+        return value
+    return f"{100 * value:g} %" if key != "weeks" else f"{value:g}"
+
+
+class ProjectionScreen(ModalScreen[ProjectionRecord | None]):
+    """Dismisses with the [projection] record to keep, or None."""
 
     BINDINGS = [Binding("escape", "cancel", "Close", id="projection.cancel", tooltip="Close without keeping")]
 
     def __init__(self, session) -> None:
         super().__init__()
         self.session = session
-        self.table: dict | None = None
+        self.record: ProjectionRecord | None = None
 
     def compose(self) -> ComposeResult:
-        current = self.session.plan.projection or {}
+        current = self.session.plan.projection or ProjectionRecord()
         with Vertical(classes="dialog", id="projection-dialog") as box:
             box.border_title = "as made · after autoclaving · after culture"
             with Grid(id="projection-grid"):
                 for key, label, placeholder in FIELDS:
                     yield Label(label, classes="field-label")
-                    value = current.get(key)
-                    text = "" if value is None else (f"{100 * value:g} %" if key != "weeks" else f"{value:g}")
-                    yield Input(text, id=f"proj-{key}", placeholder=placeholder)
+                    yield Input(field_text(key, getattr(current, key)), id=f"proj-{key}", placeholder=placeholder)
             yield FieldMessage("fractions as 10 % or 0.1; empty hydrolysis = 10 %", id="proj-message")
             yield Static("", id="proj-stages")
             with Horizontal(classes="buttons"):
@@ -69,18 +78,18 @@ class ProjectionScreen(ModalScreen[dict | None]):
     def _update(self) -> None:
         from mediaplan.tasks.projection import project, settings_from
 
-        raw = {k: self.query_one(f"#proj-{k}", Input).value.strip() for k, _, _ in FIELDS}
+        typed = {k: self.query_one(f"#proj-{k}", Input).value.strip() for k, _, _ in FIELDS}
         msg = self.query_one(FieldMessage)
         try:
-            settings = settings_from({k: v for k, v in raw.items() if v})
+            settings = settings_from(ProjectionRecord(**{k: v for k, v in typed.items() if v}))
             proj = project(self.session.recipe, self.session.catalog, settings,
                            cell_reference_mosmol=self.session.cell_reference_mosmol())
         except MediaplanError as exc:
-            self.table = None
-            report(msg, str(exc), "")
+            self.record = None
+            report(msg, in_app_words(exc), "")
             self.query_one("#proj-keep", Button).disabled = True
             return
-        self.table = settings.to_table()
+        self.record = ProjectionRecord.of(settings)
         report(msg, None, " · ".join(proj.notes) or "fractions as 10 % or 0.1; empty hydrolysis = 10 %")
         self.query_one("#proj-keep", Button).disabled = False
         self.query_one("#proj-stages", Static).update(stages_table(proj))
@@ -88,8 +97,8 @@ class ProjectionScreen(ModalScreen[dict | None]):
     @on(Input.Submitted)
     @on(Button.Pressed, "#proj-keep")
     def _keep(self) -> None:
-        if self.table is not None:
-            self.dismiss(self.table)
+        if self.record is not None:
+            self.dismiss(self.record)
 
     @on(Button.Pressed, "#proj-cancel")
     def action_cancel(self) -> None:

@@ -1,7 +1,7 @@
 """Set a target (water potential, osmolality or tonicity) and apply the solver's osmoticum addition.
 
 mediaplan.tasks.solve does the work in a worker; this screen shows its Solution and, on Apply, hands the
-new recipe back to the main screen.
+new recipe and the plan's [target] record back to the main screen. Errors name this dialog's fields.
 """
 
 from __future__ import annotations
@@ -18,16 +18,19 @@ from textual.screen import ModalScreen
 from textual.widgets import Button, Input, Label, Static
 from textual.worker import Worker, WorkerState
 
+from mediaplan.files.plan_tables import TargetRecord, target_record_of
 from mediaplan.medium.errors import MediaplanError
+from mediaplan.medium.recipe import Recipe
 from mediaplan.tui.widgets.fields import FieldMessage, ParsedValidator, validated_value
+from mediaplan.tui.words import in_app_words
 
 
 @dataclass(frozen=True)
 class Applied:
-    """What the main screen applies: the new recipe and the plan's [target] table."""
+    """What the main screen applies: the new recipe and the plan's [target] record."""
 
-    recipe: object
-    target: dict
+    recipe: Recipe
+    target: TargetRecord
 
 
 def solution_text(sol) -> Text:
@@ -75,17 +78,17 @@ class TargetScreen(ModalScreen[Applied | None]):
     def compose(self) -> ComposeResult:
         from mediaplan.tasks.solve import parse_solve_target
 
-        t = self.session.plan.target or {}
+        t = self.session.plan.target or TargetRecord()
         catalog = self.session.catalog
         with Vertical(classes="dialog", id="target-dialog") as box:
             box.border_title = "target and osmoticum"
             with Grid(id="target-grid"):
                 yield Label("target", classes="field-label")
-                yield Input(str(t.get("value", "-0.8 MPa")), id="target-value",
+                yield Input(t.value if t.value is not None else "-0.8 MPa", id="target-value",
                             validators=[ParsedValidator(lambda s: parse_solve_target(s))],
                             placeholder="-0.8 MPa, 450 mOsm/kg, isotonic+10%")
                 yield Label("osmotica", classes="field-label")
-                yield Input(", ".join(t.get("osmotica", ["mannitol"])), id="target-osmotica",
+                yield Input(", ".join(t.osmotica if t.osmotica is not None else ("mannitol",)), id="target-osmotica",
                             validators=[ParsedValidator(lambda s: osmotica_ids(catalog, s))],
                             placeholder="mannitol  or  mannitol, sucrose")
             yield FieldMessage("Enter solves · one or two osmotica (two: added in equal moles)", id="target-message")
@@ -122,7 +125,7 @@ class TargetScreen(ModalScreen[Applied | None]):
             sol = solve_target(s.recipe, s.catalog, target, osmotica, ratio=[1.0] * len(osmotica) if len(osmotica) > 1
                                else None, cell_reference_mosmol=s.cell_reference_mosmol())
         except MediaplanError as exc:
-            self.post_message(self.Solved(None, str(exc)))
+            self.post_message(self.Solved(None, in_app_words(exc)))
             return
         self.post_message(self.Solved(sol))
 
@@ -152,7 +155,7 @@ class TargetScreen(ModalScreen[Applied | None]):
     def _apply(self) -> None:
         recipe = applicable(self.solution) if self.solution is not None else None
         if recipe is not None:
-            self.dismiss(Applied(recipe, self.solution.target_table()))
+            self.dismiss(Applied(recipe, target_record_of(self.solution)))
 
     @on(Button.Pressed, "#target-cancel")
     def action_cancel(self) -> None:

@@ -34,10 +34,9 @@ class ParsedValidator(Validator):
 
 def _plain(exc: MediaplanError) -> str:
     """The error in words without the field prefix (the input already says which field)."""
-    text = exc.message
-    if exc.hint:
-        text += f" — {exc.hint}"
-    return text
+    from mediaplan.tui.words import plain
+
+    return plain(exc)
 
 
 class AmountValidator(ParsedValidator):
