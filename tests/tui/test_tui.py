@@ -492,3 +492,100 @@ def test_row_text_is_plain_and_fits_its_columns(catalog):
     big = evaluate(Recipe().with_amount("mannitol", "0.5 M"), catalog).components[0]
     assert row_text(big).numbers.split() == ["533", "100%"]
     assert len(header_text(20)) == 20 + sum(FIXED_WIDTHS.values())
+
+
+# ---- the app in its own words ------------------------------------------------------------------------
+#: text that sends a user to a command line: a subcommand of mediaplan, or a --flag
+COMMAND_LINE = re.compile(r"\bmediaplan (calc|solve|series|fit|prep|catalog|check|diff|open|locate|reading)\b"
+                          r"|(?<![\w-])--[a-z]")
+
+
+def shown(widget) -> str:
+    return str(widget.content)
+
+
+@run_async
+async def test_plasmolysis_errors_name_the_screens_own_fields(catalog):
+    from mediaplan.tui.screens.plasmolysis import SeriesScreen
+
+    seen = []
+    app = app_for(Session(Plan(recipe=Recipe(base="ms1962", strength=0.5)), catalog))
+    async with app.run_test(size=SIZE, message_hook=seen.append) as pilot:
+        await pilot.press("p")
+        screen = app.screen
+        assert isinstance(screen, SeriesScreen)
+        message = screen.query_one("#series-message")
+        cases = [
+            ({"#series-osmoticum": "unobtainium"}, "osmoticum (with): unknown component 'unobtainium'"),
+            ({"#series-osmoticum": "mannitol", "#series-steps": "1"},
+             "number of levels (n): a series needs at least 2 levels (got 1)"),
+            ({"#series-steps": "5", "#series-to": "-0.4 MPa"},
+             "last level (→): the first and last level are the same potential"),
+        ]
+        for inputs, words in cases:
+            for selector, value in inputs.items():
+                screen.query_one(selector).value = value
+            await pilot.pause()
+            screen.action_design()
+            await app.workers.wait_for_complete()
+            await pilot.pause()
+            assert shown(message).startswith("✗ " + words) and message.has_class("-error")
+            assert not COMMAND_LINE.search(shown(message))
+        designed = [m.error for m in seen if isinstance(m, SeriesScreen.Designed)]
+        assert designed and designed[0].startswith("osmoticum (with): ")  # the worker's error, posted in app words
+        assert not any(COMMAND_LINE.search(e or "") for e in designed)
+        assert not COMMAND_LINE.search(screen_text(app))
+        assert screen.series is None  # nothing designed, nothing kept
+
+
+@run_async
+async def test_target_errors_name_the_dialogs_own_fields(catalog):
+    from mediaplan.tui.screens.target import TargetScreen
+
+    seen = []
+    app = app_for(Session(Plan(recipe=Recipe(base="ms1962")), catalog))
+    async with app.run_test(size=SIZE, message_hook=seen.append) as pilot:
+        await pilot.press("t")
+        assert isinstance(app.screen, TargetScreen)
+        result = app.screen.query_one("#target-result")
+        cases = [
+            ("-0.9 MPa", "mannitol, mannitol", "osmotica: mannitol is named twice (name two different osmotica)"),
+            ("isotonic", "mannitol", "target: target 'isotonic' needs a cell reference"),
+        ]
+        for target, osmotica, words in cases:
+            app.screen.query_one("#target-value").value = target
+            app.screen.query_one("#target-osmotica").value = osmotica
+            await pilot.pause()
+            await pilot.click("#target-solve")
+            await app.workers.wait_for_complete()
+            await pilot.pause()
+            solved = [m for m in seen if isinstance(m, TargetScreen.Solved)]
+            assert solved[-1].solution is None and solved[-1].error.startswith(words)
+            assert shown(result).startswith("✗ " + words)
+            assert app.screen.query_one("#target-apply").disabled
+            assert not COMMAND_LINE.search(shown(result)) and not COMMAND_LINE.search(screen_text(app))
+        assert app.session.plan.target is None
+
+
+@run_async
+async def test_a_plan_with_a_malformed_table_is_refused_in_words(catalog, tmp_path):
+    path = write_plan(tmp_path / "p.toml", Recipe().with_amount("sucrose", "30 g/L"))
+    path.write_text(path.read_text() + '\n[cells]\nosmolality = 450\n')
+    app = app_for(Session.new(catalog))
+    notes = []
+    notify = app.notify
+
+    def record(message, **kw):
+        notes.append(message)
+        return notify(message, **kw)
+
+    app.notify = record
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("ctrl+o")
+        app.screen.query_one("#path-input").value = str(path)
+        await pilot.press("enter")
+        await pilot.pause()
+        # the file's own line and key: the place to fix it
+        assert any(n.startswith(f"{path}:") and "cells.osmolality: osmolality must be text" in n for n in notes)
+        assert not any(COMMAND_LINE.search(n) for n in notes)
+        assert app.session.plan.path is None  # still the new plan
