@@ -53,8 +53,9 @@ def run(args) -> int:
     plan, recipe = recipe_from(args, catalog, notes=notes)
     if plan is not None and plan.provenance:
         notes += [f"catalog differs from the plan's record: {d.text()}" for d in compare_provenance(plan, catalog)]
-    tol = cell_tolerance(args.tolerance, plan)
-    ref = cell_reference(args.cells, plan, recipe.temperature_k)
+    cells = plan.cells if plan is not None else None
+    tol = cell_tolerance(args.tolerance, cells)
+    ref = cell_reference(args.cells, cells, recipe.temperature_k)
     ev = evaluate(recipe, catalog, cell_reference_mosmol=ref, isotonic_tolerance=tol)
     proj = projection_from(args, plan, recipe, catalog, ref, tol)
     if args.json:

@@ -62,8 +62,8 @@ def run(args) -> int:
     spec = parse_solve_target(args.target, field="--target")
     plan = planfile.read(args.plan, catalog=catalog)
     recipe = plan.recipe
-    ref = cell_reference(args.cells, plan, recipe.temperature_k)
-    tol = cell_tolerance(args.tolerance, plan)
+    ref = cell_reference(args.cells, plan.cells, recipe.temperature_k)
+    tol = cell_tolerance(args.tolerance, plan.cells)
     sol = solve_target(recipe, catalog, spec, args.osmotica, ratio=_ratio(args.ratio), hold=_hold(args.hold),
                        cell_reference_mosmol=ref, isotonic_tolerance=tol)
     written = None
