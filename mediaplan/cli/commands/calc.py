@@ -5,7 +5,6 @@ from __future__ import annotations
 import sys
 
 from mediaplan.cli.common import add_recipe_arguments, catalog_from, print_json, recipe_from
-from mediaplan.tasks.cells import cell_reference, cell_tolerance
 
 
 def add_arguments(p) -> None:
@@ -54,6 +53,8 @@ def run(args) -> int:
     if plan is not None and plan.provenance:
         notes += [f"catalog differs from the plan's record: {d.text()}" for d in compare_provenance(plan, catalog)]
     cells = plan.cells if plan is not None else None
+    from mediaplan.tasks.cells import cell_reference, cell_tolerance
+
     tol = cell_tolerance(args.tolerance, cells)
     ref = cell_reference(args.cells, cells, recipe.temperature_k)
     ev = evaluate(recipe, catalog, cell_reference_mosmol=ref, isotonic_tolerance=tol)
