@@ -19,7 +19,7 @@ import numpy as np
 from mediaplan.medium.catalog import Catalog
 from mediaplan.medium.errors import AmountError, FitError, MediaplanError
 from mediaplan.medium.recipe import Recipe
-from mediaplan.medium.units import parse_amount
+from mediaplan.medium.units import convert, parse_amount, unit_dimension
 from mediaplan.tasks.plasmolysis.counts import POTENTIAL_COLUMN, Counts, check_counts
 from mediaplan.tasks.plasmolysis.design import describe_background, potential_of_amounts
 from mediaplan.thermo import potential
@@ -50,15 +50,13 @@ def _classify_column(header: str, idx: int, catalog: Catalog | None) -> _LevelCo
     m = _PAREN.match(h)
     if m:
         name, unit = m.group("name"), m.group("unit").strip()
-        from mediaplan.medium.units import ureg
-
         try:
-            dim = ureg.parse_units(unit.replace("mOsm", "mosmol").replace("Osm", "osmol")).dimensionality
-        except Exception:  # noqa: BLE001 - an unreadable unit means: not a level column
+            dim = unit_dimension(unit)
+        except AmountError:  # an unreadable unit means: not a level column
             dim = None
-        if dim == ureg.parse_units("Pa").dimensionality:
+        if dim == "pressure":
             return _LevelColumn(idx, h, "potential", unit)
-        if dim == ureg.parse_units("osmol/kg").dimensionality:
+        if dim == "osmolality":
             return _LevelColumn(idx, h, "osmolality", unit)
         try:
             parse_amount(f"1 {unit}")
@@ -155,10 +153,7 @@ def read_counts_csv(path: str | Path, *, osmoticum: str | None = None, backgroun
         notes.append(f"{skipped} level(s) without counts skipped")
     x = np.array(xs, dtype=float)
     if col.kind == "potential":
-        from mediaplan.medium.units import Q_
-
-        factor = float(Q_(1.0, col.unit).to("MPa").magnitude)
-        x = x * factor
+        x = convert(x, col.unit, "MPa")
         if np.any(x > 0):
             bad = lines[int(np.argmax(x > 0))]
             raise FitError("a water potential is positive", file=file, line=bad, field=col.header,
@@ -168,10 +163,7 @@ def read_counts_csv(path: str | Path, *, osmoticum: str | None = None, backgroun
     else:
         T = background.temperature_k if background is not None else 298.15
         if col.kind == "osmolality":
-            from mediaplan.medium.units import Q_
-
-            osm = x * float(Q_(1.0, col.unit.replace("mOsm", "mosmol").replace("Osm", "osmol")).to("osmol/kg")
-                            .magnitude)
+            osm = convert(x, col.unit, "osmol/kg")
             x = potential.potential_from_osmolality(osm, T) / 1e6
             notes.append(f"levels read from '{col.header}' and converted to water potential at {T - T0:g} °C")
         else:
