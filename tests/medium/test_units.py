@@ -28,6 +28,12 @@ from mediaplan.medium.units import format_amount, parse_amount, parse_target, pa
         ("50 mL/L", "vol_frac", 0.05),
         ("5 % v/v", "vol_frac", 0.05),
         ("0 g/L", "mass_conc", 0.0),
+        ("30 g L-1", "mass_conc", 30.0),  # the forms below are the same units written otherwise
+        ("30 g·L⁻¹", "mass_conc", 30.0),
+        ("1650 mg l-1", "mass_conc", 1.65),
+        ("0.4 mol L-1", "molar", 400.0),
+        ("2 μM", "molar", 0.002),  # Greek mu
+        ("0.5 mol kg⁻¹", "molal", 0.5),
     ],
 )
 def test_amount_forms(text, kind, si):
@@ -52,6 +58,12 @@ def test_amount_forms(text, kind, si):
         ("30", "no unit"),
         ("30 blorps/L", "unknown unit"),
         ("", "cannot read"),
+        ("30,5 g/L", "has a decimal comma (write 30.5)"),
+        ("1,650 mg/L", "has a comma in its number"),
+        ("30 g**9/L", "unknown unit 'g**9'"),
+        ("30 g**9**9**9/L", "unknown unit 'g**9**9**9'"),
+        ("−1 g/L", "negative"),  # U+2212
+        ("30 " + "g" * 100_000, "characters long (at most 100)"),
     ],
 )
 def test_amount_errors_are_one_line(text, fragment):
@@ -89,6 +101,17 @@ def test_volume_temperature_target():
     for bad in ("0.8 MPa", "30 g/L", "-300 MPa"):
         with pytest.raises(AmountError):
             parse_target(bad)
+
+
+def test_minus_signs_as_typed():
+    """U+2212 (minus sign) and U+2013 (en dash) are minus signs, never dropped."""
+    for text in ("−5 degC", "–5 °C", "-5 °C"):
+        with pytest.raises(AmountError, match="outside 0-40"):
+            parse_temperature(text)
+    assert parse_temperature("25 C") == pytest.approx(298.15)  # 0 °C = 273.15 K (SI Brochure, BIPM 2019)
+    for text in ("−0.8 MPa", "–0.8 MPa", "−8 bar", "−800 kPa"):
+        t = parse_target(text)
+        assert (t.kind, t.value) == ("potential", pytest.approx(-8e5))  # 1 bar = 1e5 Pa (SI Brochure table 8)
 
 
 @settings(max_examples=1000, deadline=None)
