@@ -119,7 +119,8 @@ def read_counts_csv(path: str | Path, *, osmoticum: str | None = None, backgroun
     cols = [c for c in (_classify_column(h, i, catalog or _lazy_catalog(header)) for i, h in enumerate(header))
             if c is not None]
     if not cols:
-        raise FitError(f"no level column (found: {', '.join(h.strip() for h in header)})", file=file,
+        found = ", ".join(h.strip()[:40] for h in header[:12]) + (", …" if len(header) > 12 else "")
+        raise FitError(f"no level column (found: {found})", file=file,
                        line=head_line, hint=f"name the level column {POTENTIAL_COLUMN} (or e.g. mannitol_mol_per_kg)")
     col = next((c for c in cols if c.kind == "potential"), None) or \
         next((c for c in cols if c.kind == "osmolality"), None) or cols[0]

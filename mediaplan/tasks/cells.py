@@ -13,8 +13,7 @@ from typing import Any
 
 from mediaplan.medium.errors import AmountError
 from mediaplan.medium.evaluate import ISOTONIC_TOLERANCE
-from mediaplan.medium.units import parse_target
-from mediaplan.tasks.projection import parse_fraction
+from mediaplan.medium.units import parse_fraction, parse_target
 from mediaplan.tasks.records import TableView
 from mediaplan.thermo.potential import osmolality_from_potential
 

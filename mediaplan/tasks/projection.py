@@ -35,7 +35,6 @@ by :mod:`mediaplan.files.plan_tables`)::
 from __future__ import annotations
 
 import math
-import re
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -43,7 +42,7 @@ from mediaplan.medium.catalog import Catalog
 from mediaplan.medium.errors import AmountError
 from mediaplan.medium.evaluate import ISOTONIC_TOLERANCE, Evaluation, evaluate
 from mediaplan.medium.recipe import Recipe
-from mediaplan.medium.units import Amount
+from mediaplan.medium.units import Amount, parse_fraction  # re-exported: the one fraction reader
 from mediaplan.tasks.records import TableView
 from mediaplan.thermo.constants import M_WATER
 
@@ -60,24 +59,6 @@ DEFAULT_HYDROLYSIS = 0.10
 #: a vessel that has lost this much of its water is past any use of the figures
 _MAX_WATER_LOSS = 0.9
 
-_FRACTION_RE = re.compile(r"^\s*(?P<num>[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(?P<pct>%)?\s*$")
-
-
-def parse_fraction(value, *, field: str, upper: float = 1.0) -> float:
-    """A fraction from a number (0.1) or a percentage text ("10 %"), checked to lie in [0, upper]."""
-    if isinstance(value, bool):
-        raise AmountError(f"{value!r} is not a fraction", field=field, hint='e.g. 0.1 or "10 %"')
-    if isinstance(value, (int, float)):
-        v = float(value)
-    else:
-        m = _FRACTION_RE.match(str(value))
-        if not m:
-            raise AmountError(f"cannot read {value!r} as a fraction", field=field, hint='write a fraction (0.1) or "10 %"')
-        v = float(m.group("num")) / (100.0 if m.group("pct") else 1.0)
-    if not math.isfinite(v) or v < 0 or v > upper:
-        raise AmountError(f"{value!r} must lie between 0 and {upper:g}", field=field,
-                          hint='write a fraction (0.1) or "10 %"')
-    return v
 
 
 @dataclass(frozen=True)

@@ -44,9 +44,9 @@ def _potential(text: str, field: str, T: float) -> float:
 def _step(text: str) -> float:
     """A spacing in potential [Pa], sign ignored (parsed as a potential by the one unit parser)."""
     from mediaplan.medium.errors import AmountError
-    from mediaplan.medium.units import parse_target
+    from mediaplan.medium.units import normalise, parse_target
 
-    t = parse_target("-" + text.strip().lstrip("+-"), field="--step")
+    t = parse_target("-" + normalise(text).strip().lstrip("+-"), field="--step")
     if t.kind != "potential":
         raise AmountError(f"step {text!r} is not a pressure", field="--step", hint='write it like "0.1 MPa"')
     return abs(t.value)
