@@ -279,16 +279,14 @@ def design_series(osmoticum: str, *, first: str | None = None, last: str | None 
 
 
 def _counts_from_rows(rows: Iterable[Sequence[float]], temperature_k: float | None) -> Counts:
-    from mediaplan.tasks.plasmolysis import POTENTIAL_COLUMN, counts_from_series
+    from mediaplan.tasks.plasmolysis.counts import counts_from_rows
 
-    levels = []
+    rows = [tuple(row) for row in rows]
     for row in rows:
         if len(row) != 3:
             raise AmountError(f"a row of counts has {len(row)} values, not 3", field="counts",
                               hint="each row: (water potential [MPa], plasmolysed, total)")
-        x, y, n = row
-        levels.append({POTENTIAL_COLUMN: x, "plasmolysed": [y], "total": [n]})
-    counts = counts_from_series({"levels": levels}, temperature_k=temperature_k)
+    counts = counts_from_rows(rows, temperature_k=temperature_k)
     counts.source = "counts given as rows"
     return counts
 

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import math
-from collections.abc import Iterable, Mapping, Sequence
+from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field, replace
 from typing import Any
 
@@ -111,10 +111,6 @@ def counts_from_series(series: SeriesRecord, *, file: str | None = None,
 
     Raises FitError naming the level and count that cannot be used.
     """
-    if isinstance(series, Mapping):  # plain data from a script: transitional, use counts_from_rows
-        series = SeriesRecord(levels=tuple(
-            LevelRecord(water_potential_mpa=lv.get(POTENTIAL_COLUMN), plasmolysed=tuple(lv.get("plasmolysed", ())),
-                        total=tuple(lv.get("total", ()))) for lv in series.get("levels") or ()))
     levels = series.levels
     if not levels:
         raise FitError("the [series] table has no levels", file=file, field="series.levels",
