@@ -45,3 +45,15 @@ def test_no_module_outside_the_app_loads_the_terminal_toolkit():
             "print(bad[:5]); sys.exit(1 if bad else 0)\n")
     r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT)
     assert r.returncode == 0, r.stdout + r.stderr
+
+
+def test_every_package_folder_ships_in_the_wheel():
+    """pyproject.toml lists the packages explicitly (the catalog is mapped from the top-level folder), so a new
+    package folder must be added there; the installed-wheel test would find it missing only later."""
+    import tomllib
+
+    listed = set(tomllib.loads((ROOT / "pyproject.toml").read_text(encoding="utf-8"))["tool"]["setuptools"]["packages"])
+    found = {".".join(p.parent.relative_to(ROOT).parts) for p in (ROOT / "mediaplan").rglob("__init__.py")
+             if "__pycache__" not in p.parts}
+    assert found - listed == set(), "add these to [tool.setuptools] packages in pyproject.toml"
+    assert "mediaplan._catalog" in listed
