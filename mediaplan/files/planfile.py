@@ -23,17 +23,23 @@ sucrose = "30 g/L"
 Optional tables: ``[target]``, ``[cells]``, ``[projection]``, ``[series]``, ``[provenance]``, held by the
 Plan as typed records (:mod:`mediaplan.files.plan_tables` reads and writes them, in the form they were read).
 
-Saving is atomic (temp file in the same folder, flush, fsync, ``os.replace``), keeps one backup
-(``NAME.toml.bak``) and refuses to overwrite a file that changed on disk since it was opened.
+Saving goes through :func:`atomic_write`, the one write path for a user's files (temp file in the same
+folder, flush, fsync, ``os.replace``; new files created exclusively; links, modes and owners kept; numbered
+backups ``NAME.toml.bak``, ``NAME.toml.2.bak`` ...), refuses to overwrite a file that changed on disk since
+it was opened, and edits a plan saved over its own file in place (:mod:`mediaplan.files.edit`), keeping
+what its author wrote.
 """
 
 from __future__ import annotations
 
 import contextlib
+import errno
 import hashlib
 import os
 import re
+import stat
 import tempfile
+import time
 import tomllib
 from dataclasses import dataclass, field, replace
 from pathlib import Path
@@ -260,46 +266,219 @@ def read(path: str | Path, *, catalog: Catalog | None = None) -> Plan:
     return plan
 
 
-def atomic_write(path: Path, data: bytes, *, backup: bool = True) -> None:
+# ---- saving: the one write path for every file mediaplan writes for a user ---------------------------
+class WriteRefusedError(PlanFileError, OSError):
+    """A write refused before anything changed: a folder, a special file, a read-only file, a dangling
+    symbolic link, a file of several hard links that could not be backed up first. Also an OSError, so
+    code that treats any failed write as an OSError keeps doing so."""
+
+
+class FileExistsConflictError(ConflictError, FileExistsError):
+    """A file exists where a new one was to be created, or another writer created it meanwhile."""
+
+
+@dataclass
+class WriteReport:
+    """What :func:`atomic_write` did.
+
+    path : the file written (for a symbolic link, the file it points to)
+    backup : the backup made of what was there, or None
+    notes : what the user should be told (a backup that could not be made, an owner that could not be kept)
+    """
+
+    path: Path
+    backup: Path | None = None
+    notes: list[str] = field(default_factory=list)
+
+
+#: seconds after which a temp file of a writer that no longer runs is removed by the next write beside it
+STALE_TEMP_AGE = 60.0
+
+_KINDS = ((stat.S_ISFIFO, "named pipe (FIFO)"), (stat.S_ISCHR, "character device"),
+          (stat.S_ISBLK, "block device"), (stat.S_ISSOCK, "socket"))
+
+
+def backup_name(path: Path, n: int = 1) -> Path:
+    """The ``n``-th backup of ``path``: ``NAME.bak``, then ``NAME.2.bak``, ``NAME.3.bak`` ..."""
+    return path.with_name(f"{path.name}.bak" if n == 1 else f"{path.name}.{n}.bak")
+
+
+def atomic_write(path: str | os.PathLike, data: bytes, *, backup: bool = True, exist_ok: bool = True) -> WriteReport:
     """Write ``data`` to ``path`` so that a crash leaves the old file or the new one, never a torn one.
 
-    Temp file in the same folder, write, flush, fsync, then ``os.replace``; the folder is fsynced
-    so the rename itself is durable. The previous version is kept as ``path + '.bak'`` (written the
-    same way; a backup that cannot be made does not stop the save).
+    The one way mediaplan writes a user's file (plans, reports, sheets, plots):
+
+    - a new file is written to a temp file in the same folder (flush, fsync) and then created
+      exclusively under its name (a hard link, which fails when the name exists): of two writers
+      creating the same file one wins, the other gets :class:`FileExistsConflictError`;
+    - an existing file is replaced only with ``exist_ok`` (else :class:`FileExistsConflictError`):
+      temp file, fsync, backup, ``os.replace``, then the folder is fsynced; the new file keeps the old
+      one's permissions and, where the system allows it, its owner and group (a note says when not);
+    - a symbolic link is written through: the file it points to is replaced, the link stays (a link to
+      nothing is refused); a folder, a named pipe, a device or a socket is refused, never replaced;
+    - a read-only file, or one this user may not write, is refused;
+    - a file with several hard links is written in place, after its backup, so that every link still
+      shows it (without a backup it is refused; ``backup=False`` writes it in place without one);
+    - data equal to what the file holds writes nothing;
+    - backups are numbered and never overwritten: ``NAME.bak``, ``NAME.2.bak`` ...; a backup that cannot
+      be made does not stop the save, and the report's notes say so;
+    - the temp file never outlives a failure (an exception or an interrupt); temp files left by a writer
+      that was killed are removed by the next write of the same file.
+
+    Refusals raise :class:`WriteRefusedError` or :class:`FileExistsConflictError` (both MediaplanError
+    and OSError); a failure of the system raises OSError. Returns a :class:`WriteReport`.
     """
-    path = Path(path)
-    folder = path.parent if str(path.parent) else Path(".")
+    given = Path(path)
+    report = WriteReport(given)
+    target, st = _write_target(given)
+    report.path = target
+    _clean_stale_temps(target)
+    if st is None:
+        _replace_with(target, data, mode_from=target, exclusive=True)
+    else:
+        if not exist_ok:
+            raise FileExistsConflictError("already exists", file=str(given), asks_for="force",
+                                          hint="choose another name, or say that it may be replaced")
+        if _holds(target, data):
+            return report
+        if st.st_nlink > 1:
+            _write_in_place(target, data, st, backup=backup, report=report)
+        else:
+            def before_replace() -> None:
+                if backup:
+                    _make_backup(target, report)
 
-    def before_replace() -> None:
-        if backup and path.exists():
-            try:
-                _replace_with(path.with_name(path.name + ".bak"), path.read_bytes(), mode_from=path)
-            except OSError:
-                pass
-
-    _replace_with(path, data, mode_from=path, before_replace=before_replace)
-    _fsync_dir(folder)
+            _replace_with(target, data, mode_from=target, owner_from=st, before_replace=before_replace,
+                          report=report)
+    _fsync_dir(target.parent if str(target.parent) else Path("."))
+    return report
 
 
-def _replace_with(path: Path, data: bytes, *, mode_from: Path, before_replace=None) -> None:
-    """Temp file beside ``path``: write, flush, fsync, then rename over ``path``; the temp file never
-    outlives a failure."""
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
+def _write_target(path: Path) -> tuple[Path, os.stat_result | None]:
+    """The file a write of ``path`` replaces (a symbolic link's target) and its status (None: no file yet);
+    refuses what must never be replaced."""
+    try:
+        st = os.lstat(path)
+    except FileNotFoundError:
+        return path, None
+    target = path
+    if stat.S_ISLNK(st.st_mode):
+        target = Path(os.path.realpath(path))
+        try:
+            st = os.stat(target)
+        except FileNotFoundError:
+            raise WriteRefusedError(f"is a symbolic link to {target}, which does not exist", file=str(path),
+                                    hint="write to a file that exists, or remove the link") from None
+    if stat.S_ISDIR(st.st_mode):
+        raise WriteRefusedError("is a folder, not a file", file=str(path),
+                                hint=f"give a file name inside it, e.g. {path / 'NAME'}")
+    if not stat.S_ISREG(st.st_mode):
+        kind = next((name for test, name in _KINDS if test(st.st_mode)), "special file")
+        raise WriteRefusedError(f"is a {kind}, not a regular file; it is never replaced", file=str(path),
+                                hint="name a regular file")
+    if not st.st_mode & 0o222:
+        raise WriteRefusedError("is read-only", file=str(path),
+                                hint="make it writable first if it may change, or write under another name")
+    if not os.access(target, os.W_OK):
+        raise WriteRefusedError("this user may not write this file", file=str(path),
+                                hint="ask its owner, or write under another name")
+    return target, st
+
+
+def _holds(path: Path, data: bytes) -> bool:
+    """Does the file hold exactly ``data`` already?"""
+    try:
+        return path.stat().st_size == len(data) and path.read_bytes() == data
+    except OSError:
+        return False
+
+
+def _make_backup(path: Path, report: WriteReport) -> None:
+    """Copy ``path`` to its first free backup name (atomic, same permissions); a failure becomes a note."""
+    try:
+        old = path.read_bytes()
+        n = 1
+        while os.path.lexists(backup_name(path, n)):
+            n += 1
+        bak = backup_name(path, n)
+        _replace_with(bak, old, mode_from=path)
+    except OSError as exc:
+        report.notes.append(f"no backup of {path} could be made ({exc.strerror or exc}); the save went ahead")
+        return
+    report.backup = bak
+
+
+def _write_in_place(path: Path, data: bytes, st: os.stat_result, *, backup: bool, report: WriteReport) -> None:
+    """Overwrite a file of several hard links in place (so every link sees the new text), after a backup."""
+    if backup:
+        _make_backup(path, report)
+        if report.backup is None:
+            raise WriteRefusedError(f"has {st.st_nlink} hard links, so it is written in place, and no backup "
+                                    "could be made first; nothing was written", file=str(path),
+                                    hint="free some space, or write under another name")
+    fd = os.open(path, os.O_WRONLY)
+    try:
+        view = memoryview(data)
+        while view:
+            view = view[os.write(fd, view):]
+        os.ftruncate(fd, len(data))
+        os.fsync(fd)
+    finally:
+        os.close(fd)
+
+
+def _replace_with(path: Path, data: bytes, *, mode_from: Path, owner_from: os.stat_result | None = None,
+                  before_replace=None, exclusive: bool = False, report: WriteReport | None = None) -> None:
+    """Temp file beside ``path``: write, flush, fsync, then rename over ``path`` (or, ``exclusive``, create
+    ``path`` only if it does not exist); the temp file never outlives a failure."""
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.{os.getpid()}.", suffix=".tmp", dir=path.parent)
     try:
         _set_mode(fd, mode_from)
+        if owner_from is not None:
+            _set_owner(fd, owner_from, path, report)
         with os.fdopen(fd, "wb") as fh:
             fh.write(data)
             fh.flush()
             os.fsync(fh.fileno())
         if before_replace is not None:
             before_replace()
-        os.replace(tmp, path)
+        if exclusive:
+            _create_from(tmp, path)
+        else:
+            os.replace(tmp, path)
     except BaseException:
         try:
             os.unlink(tmp)
         except OSError:
             pass
         raise
+
+
+def _create_from(tmp: str, path: Path) -> None:
+    """Give the finished temp file ``tmp`` the name ``path`` only if no file has that name (atomic)."""
+    def taken() -> FileExistsConflictError:
+        return FileExistsConflictError("was created by another program meanwhile; nothing was written over it",
+                                       file=str(path), asks_for="force",
+                                       hint="choose another name, or say that it may be replaced")
+
+    try:
+        os.link(tmp, path)
+    except FileExistsError:
+        raise taken() from None
+    except OSError as exc:
+        if exc.errno not in (errno.EPERM, errno.ENOTSUP, errno.EOPNOTSUPP, errno.ENOSYS, errno.EMLINK):
+            raise
+        # no hard links on this file system: reserve the name exclusively, then rename over the reservation
+        try:
+            os.close(os.open(path, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600))
+        except FileExistsError:
+            raise taken() from None
+        os.replace(tmp, path)
+        return
+    try:
+        os.unlink(tmp)
+    except OSError:
+        pass
 
 
 def _set_mode(fd: int, path: Path) -> None:
@@ -316,6 +495,85 @@ def _set_mode(fd: int, path: Path) -> None:
         pass
 
 
+def _set_owner(fd: int, old: os.stat_result, path: Path, report: WriteReport | None) -> None:
+    """Give the new file the old file's owner and group where the system allows it; a note says when not."""
+    if not hasattr(os, "fchown"):  # pragma: no cover - Windows
+        return
+    now = os.fstat(fd)
+    if (now.st_uid, now.st_gid) == (old.st_uid, old.st_gid):
+        return
+    try:
+        os.fchown(fd, old.st_uid, old.st_gid)
+        return
+    except OSError:
+        pass
+    try:
+        os.fchown(fd, -1, old.st_gid)
+        kept_group = True
+    except OSError:
+        kept_group = False
+    if report is not None and now.st_uid != old.st_uid:
+        report.notes.append(f"{path} now belongs to this user (it belonged to {_user_name(old.st_uid)}"
+                            + ("" if kept_group else f", group {_group_name(old.st_gid)}") + ")")
+    elif report is not None and not kept_group:
+        report.notes.append(f"{path} is now in this user's group (it was in {_group_name(old.st_gid)})")
+
+
+def _user_name(uid: int) -> str:
+    try:
+        import pwd
+
+        return pwd.getpwuid(uid).pw_name
+    except (ImportError, KeyError):
+        return f"user {uid}"
+
+
+def _group_name(gid: int) -> str:
+    try:
+        import grp
+
+        return grp.getgrgid(gid).gr_name
+    except (ImportError, KeyError):
+        return f"group {gid}"
+
+
+def _clean_stale_temps(path: Path) -> None:
+    """Remove temp files of ``path`` left by a writer that no longer runs (killed mid-save), once they are
+    older than :data:`STALE_TEMP_AGE`; a running writer's temp file is never touched."""
+    prefix = f".{path.name}."
+    folder = path.parent if str(path.parent) else Path(".")
+    try:
+        entries = list(os.scandir(folder))
+    except OSError:
+        return
+    now = time.time()
+    for entry in entries:
+        name = entry.name
+        if not (name.startswith(prefix) and name.endswith(".tmp")):
+            continue
+        pid, dot, rest = name[len(prefix):-4].partition(".")
+        if not (pid.isdigit() and dot and rest) or _running(int(pid)):
+            continue
+        try:
+            if now - entry.stat(follow_symlinks=False).st_mtime > STALE_TEMP_AGE and entry.is_file(
+                    follow_symlinks=False):
+                os.unlink(entry.path)
+        except OSError:
+            pass
+
+
+def _running(pid: int) -> bool:
+    if pid == os.getpid():
+        return True
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except (OSError, OverflowError, ValueError):
+        return True
+    return True
+
+
 def _fsync_dir(folder: Path) -> None:
     try:
         dfd = os.open(folder, os.O_RDONLY)
@@ -329,35 +587,76 @@ def _fsync_dir(folder: Path) -> None:
         os.close(dfd)
 
 
-def write(plan: Plan, path: str | Path | None = None, *, force: bool = False) -> Path:
-    """Save atomically. Refuses (ConflictError) when the file changed on disk since it was opened,
-    or when saving over an existing file that this plan was not opened from, unless ``force``.
+def write(plan: Plan, path: str | Path | None = None, *, force: bool = False, catalog: Catalog | None = None,
+          notes: list[str] | None = None) -> Path:
+    """Save a plan through :func:`atomic_write`; returns the path saved to.
+
+    - Over the file it was opened from, unchanged on disk since: the file's text is edited
+      (:func:`mediaplan.files.edit.updated_text`), so comments, key order, unknown keys, the spelling of
+      component keys (``KNO3``) and the format version line stay as written; only what changed is
+      rewritten. A numbered backup keeps what was there.
+    - As a new file: written whole (tomli-w) and created exclusively (of two writers, one wins).
+    - Over any other existing file: refused (ConflictError) unless ``force``; so is a file changed on
+      disk since it was opened. Folders, special files, read-only files: refused always.
+
+    catalog : resolves component keys as written to the ids the plan holds, so that edits keep the
+        spelling (default: the catalog in force)
+    notes : receives what the user should be told about the save (no backup made, owner not kept, the
+        plan written afresh because its text could not be edited)
     """
     target = Path(path) if path is not None else plan.path
     if target is None:
         raise PlanFileError("no file name to save to", hint="use save as")
-    data = dumps(plan).encode("utf-8")
-    with _locked(target):
-        if target.exists() and not force:
-            current = _digest(target.read_bytes())
+    said: list[str] = []
+    try:
+        _write_target(target)  # folders, special files, read-only files: refused before anything else
+        with _locked(target):
+            exists = os.path.lexists(target)
             same_file = plan.path is not None and _same(plan.path, target)
-            if not same_file:
-                raise ConflictError("a different file already exists there", file=str(target),
-                                    hint="choose another name, or say that it may be overwritten")
-            if plan.disk_digest is not None and current != plan.disk_digest:
-                raise ConflictError("the file changed on disk since it was opened", file=str(target),
-                                    hint="save beside it under another name, then compare (mediaplan diff)")
-        try:
-            atomic_write(target, data)
-        except PermissionError:
-            raise PlanFileError("no permission to write there", file=str(target),
-                                hint="save in another folder") from None
-        except OSError as exc:
-            raise PlanFileError(f"could not save ({exc.strerror or exc})", file=str(target),
-                                hint="the previous file is unchanged; free space or save elsewhere") from None
+            old = None
+            if exists:
+                if not force and not same_file:
+                    raise ConflictError("a different file already exists there", file=str(target),
+                                        asks_for="force", hint="choose another name, or say that it may be replaced")
+                old = target.read_bytes()
+                if same_file and not force and plan.disk_digest is not None and _digest(old) != plan.disk_digest:
+                    raise ConflictError("the file changed on disk since it was opened", file=str(target),
+                                        hint="save beside it under another name, then compare (mediaplan diff)")
+            data = _plan_bytes(plan, old if same_file and old is not None and plan.disk_digest == _digest(old)
+                               else None, catalog, said)
+            report = atomic_write(target, data, exist_ok=exists)
+    except MediaplanError:
+        raise
+    except PermissionError:
+        raise PlanFileError("no permission to write there", file=str(target),
+                            hint="save in another folder") from None
+    except OSError as exc:
+        raise PlanFileError(f"could not save ({exc.strerror or exc})", file=str(target),
+                            hint="the previous file is unchanged; free space or save elsewhere") from None
+    if notes is not None:
+        kept = [f"the previous version is kept as {report.backup}"] if report.backup else []
+        notes += said + kept + report.notes
     plan.path = target
     plan.disk_digest = _digest(data)
     return target
+
+
+def _plan_bytes(plan: Plan, old: bytes | None, catalog: Catalog | None, notes: list[str]) -> bytes:
+    """The bytes a save writes: the old text edited to hold ``plan`` when there is one, else the plan
+    written whole."""
+    whole = dumps(plan)
+    if old is None:
+        return whole.encode("utf-8")
+    from mediaplan.files.edit import EditError, updated_text
+
+    try:
+        text = old.decode("utf-8")
+        if text == whole:
+            return old
+        return updated_text(text, plan, catalog=catalog).encode("utf-8")
+    except (EditError, UnicodeDecodeError) as exc:
+        notes.append(f"the plan was written afresh; its comments and layout could not be kept ({exc})")
+        return whole.encode("utf-8")
 
 
 @contextlib.contextmanager
@@ -366,11 +665,13 @@ def _locked(target: Path):
     two processes saving the same plan the second sees the first one's change and is refused."""
     fd = None
     try:
-        if fcntl is not None and target.exists():
+        if fcntl is not None and _regular(target):
             try:
-                fd = os.open(target, os.O_RDONLY)
+                fd = os.open(target, os.O_RDONLY | getattr(os, "O_NONBLOCK", 0))
                 fcntl.flock(fd, fcntl.LOCK_EX)
             except OSError:
+                if fd is not None:
+                    os.close(fd)
                 fd = None
         yield
     finally:
@@ -379,6 +680,13 @@ def _locked(target: Path):
                 fcntl.flock(fd, fcntl.LOCK_UN)
             finally:
                 os.close(fd)
+
+
+def _regular(path: Path) -> bool:
+    try:
+        return stat.S_ISREG(os.stat(path).st_mode)
+    except (OSError, ValueError):
+        return False
 
 
 def _same(a: Path, b: Path) -> bool:

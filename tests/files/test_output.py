@@ -18,7 +18,7 @@ def test_stdout_gets_exactly_one_final_newline(capsys):
 def test_a_file_gets_the_text_byte_for_byte_and_no_backup(tmp_path, capsys):
     out = tmp_path / "sheet.md"
     out.write_text("old", encoding="utf-8")
-    write_output("# Medium\n\nµ, °C, ψ", out)
+    write_output("# Medium\n\nµ, °C, ψ", out, force=True)  # replacing an existing file is asked for
     assert out.read_bytes() == "# Medium\n\nµ, °C, ψ".encode()
     assert sorted(p.name for p in tmp_path.iterdir()) == ["sheet.md"]  # no .bak, no temp file left
     captured = capsys.readouterr()
