@@ -6,6 +6,7 @@ The dicts are the JSON of ``mediaplan catalog search|show --json``; the texts ar
 from __future__ import annotations
 
 from mediaplan.medium.catalog import Catalog
+from mediaplan.views.safe_text import terminal
 from mediaplan.views.table import Column, pairs_table, text_table
 
 #: entry fields printed as a list under their name rather than as one value
@@ -22,7 +23,7 @@ def search_rows(catalog: Catalog, text: str) -> list[dict]:
 def search_text(rows: list[dict]) -> str:
     """Search results as lines ``id  name  formula  group`` (names cut at 40 characters)."""
     table = [[r["id"], r["name"], r["formula"] or "", r["group"]] for r in rows]
-    return "\n".join(text_table([Column(), Column(max_width=40, cut=""), Column(), Column()], table, header=False))
+    return terminal("\n".join(text_table([Column(), Column(max_width=40, cut=""), Column(), Column()], table, header=False)))
 
 
 def entry_dict(catalog: Catalog, cid: str) -> dict:
@@ -77,7 +78,7 @@ def entry_text(entry: dict) -> str:
     if sources:
         out.append("sources:")
         out += [f"  {k}: {v}" for k, v in sources.items()]
-    return "\n".join(out)
+    return terminal("\n".join(out))
 
 
 def check_text(problems: list[str], counts: dict) -> str:
@@ -87,4 +88,4 @@ def check_text(problems: list[str], counts: dict) -> str:
         out.append(f"{counts['components']} components and {counts['media']} media in "
                    f"{len(counts['folders'])} folder(s); {counts['values_from_memory']} values marked from memory "
                    f"(unverified); {len(problems)} problem(s)")
-    return "\n".join(out)
+    return terminal("\n".join(out))

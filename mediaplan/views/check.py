@@ -2,18 +2,20 @@
 
 from __future__ import annotations
 
+from mediaplan.views.safe_text import one_line
+
 
 def check_line(r: dict) -> str:
     """``PLAN: ok`` (with catalog differences and warning codes in brackets) or ``PLAN: invalid: reason``."""
     if r["status"] != "ok":
-        return f"{r['path']}: invalid: {r['reason']}"
+        return one_line(f"{r['path']}: invalid: {r['reason']}")
     extra = []
     if r["differences"]:
         extra.append("catalog differs: " + "; ".join(d["message"] for d in r["differences"]))
     if r["warnings"]:
         extra.append(f"{len(r['warnings'])} warning{'s' if len(r['warnings']) != 1 else ''}: "
                      + "; ".join(w["code"] for w in r["warnings"]))
-    return f"{r['path']}: ok" + (" (" + " | ".join(extra) + ")" if extra else "")
+    return one_line(f"{r['path']}: ok" + (" (" + " | ".join(extra) + ")" if extra else ""))
 
 
 def check_text(results: list[dict]) -> str:

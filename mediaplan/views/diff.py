@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from mediaplan.views.safe_text import terminal
 from mediaplan.views.table import pairs_table
 
 _MARK = {"added": "+", "removed": "-", "changed": "~"}
@@ -26,4 +27,4 @@ def diff_text(d: dict) -> str:
     out.append("")
     out.append("Results")
     out += pairs_table([(r["label"], r["text"]) for r in d["results"]], indent="  ")
-    return "\n".join(out)
+    return terminal("\n".join(out))

@@ -3,13 +3,15 @@
 HTML is self-contained (inline CSS only; no fonts, scripts or images from the network) and prints on
 A4/Letter. Every document carries the plan title, the date, the catalog provenance (entry ids and
 digests) and lines to sign (prepared by / checked by / date).
+
+Text from files (titles, notes, catalog names) goes through :mod:`mediaplan.views.safe_text`: escaped as
+HTML in Markdown and HTML, made inert as a formula in CSV, freed of control characters everywhere.
 """
 
 from __future__ import annotations
 
 import csv
 import datetime
-import html
 import io
 
 from mediaplan.medium.errors import MediaplanError
@@ -17,6 +19,7 @@ from mediaplan.medium.evaluate import Evaluation
 from mediaplan.tasks.prep import PrepSheet, format_mass, format_volume_ml, gel_note, ph_osmotic_note
 from mediaplan.views.report import component_rows
 from mediaplan.views.report import fmt as fmt_number
+from mediaplan.views.safe_text import csv_cell, html_text, markdown
 from mediaplan.views.table import markdown_table
 
 FORMATS = ("md", "csv", "html")
@@ -123,14 +126,15 @@ SIGN_LINES = ("prepared by", "checked by", "date")
 
 
 def _markdown(title, facts, tables, sections, prov) -> str:
-    out = [f"# {title}", ""]
-    out += [f"- **{k}:** {v}" for k, v in facts]
+    md = markdown
+    out = [f"# {md(title)}", ""]
+    out += [f"- **{md(k)}:** {md(v)}" for k, v in facts]
     for cap, header, rows in tables:
-        out += ["", f"## {cap}", ""] + markdown_table(header, rows)
+        out += ["", f"## {md(cap)}", ""] + markdown_table(header, rows)
     for head, items in sections:
-        out += ["", f"## {head}", ""]
+        out += ["", f"## {md(head)}", ""]
         numbered = head == "Order of addition"
-        out += [f"{i}. {x}" if numbered else f"- {x}" for i, x in enumerate(items, 1)]
+        out += [f"{i}. {md(x)}" if numbered else f"- {md(x)}" for i, x in enumerate(items, 1)]
     cap, header, rows = prov
     out += ["", f"## {cap}", ""] + (markdown_table(header, rows) if rows else ["(not recorded)"])
     out += ["", "## Sign-off", ""] + [f"- {s}: ______________________" for s in SIGN_LINES]
@@ -139,7 +143,7 @@ def _markdown(title, facts, tables, sections, prov) -> str:
 
 def _csv(title, facts, tables, sections, prov) -> str:
     buf = io.StringIO()
-    w = csv.writer(buf, lineterminator="\n")
+    w = _SafeCsvWriter(csv.writer(buf, lineterminator="\n"))
     w.writerow(["title", title])
     for k, v in facts:
         w.writerow([k, v])
@@ -158,6 +162,20 @@ def _csv(title, facts, tables, sections, prov) -> str:
     for s in SIGN_LINES:
         w.writerow([s, ""])
     return buf.getvalue()
+
+
+class _SafeCsvWriter:
+    """A csv writer whose text cells go through :func:`mediaplan.views.safe_text.csv_cell`."""
+
+    def __init__(self, writer) -> None:
+        self._w = writer
+
+    def writerow(self, row) -> None:
+        self._w.writerow([csv_cell(c) for c in row])
+
+    def writerows(self, rows) -> None:
+        for r in rows:
+            self.writerow(r)
 
 
 _CSS = """
@@ -189,7 +207,7 @@ def _looks_numeric(text: str) -> bool:
 
 
 def _html_table(cap: str, header: list[str], rows: list[list[str]], digest_col: int | None = None) -> list[str]:
-    e = html.escape
+    e = html_text
     out = [f"<h2>{e(cap)}</h2>", "<table>", "<thead><tr>" + "".join(f"<th>{e(h)}</th>" for h in header) +
            "</tr></thead>", "<tbody>"]
     for r in rows:
@@ -203,7 +221,7 @@ def _html_table(cap: str, header: list[str], rows: list[list[str]], digest_col: 
 
 
 def _html(title, facts, tables, sections, prov) -> str:
-    e = html.escape
+    e = html_text
     out = ["<!DOCTYPE html>", '<html lang="en">', "<head>", '<meta charset="utf-8">',
            '<meta name="viewport" content="width=device-width, initial-scale=1">',
            f"<title>{e(title)}</title>", f"<style>{_CSS}</style>", "</head>", "<body>", f"<h1>{e(title)}</h1>",

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from mediaplan.views.safe_text import terminal
 from mediaplan.views.table import RIGHT, Column, text_table
 
 #: the counts per row: ψ [MPa], plasmolysed / total, observed and fitted fractions [%]; each column at least
@@ -42,4 +43,4 @@ def fit_text(fit) -> str:
         lines.append(f"note: {n}")
     for w in f.warnings:
         lines.append(f"warning: {w}")
-    return "\n".join(lines)
+    return terminal("\n".join(lines))

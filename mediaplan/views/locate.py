@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from mediaplan.views.safe_text import terminal
 from mediaplan.views.table import pairs_table
 
 
@@ -10,4 +11,4 @@ def places_text(places: dict[str, str | list[str]]) -> str:
     says how to set one)."""
     rows = [(k.replace("_", " "), (", ".join(v) if isinstance(v, list) else v) or "(none: set MEDIAPLAN_CATALOG)")
             for k, v in places.items()]
-    return "\n".join(pairs_table(rows))
+    return terminal("\n".join(pairs_table(rows)))

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from mediaplan.views.safe_text import terminal
 from mediaplan.views.table import RIGHT, Column, text_table
 
 
@@ -32,4 +33,4 @@ def projection_text(proj) -> str:
     out += text_table(columns, rows)
     out += [f"  - {n}" for n in proj.notes]
     out.append(f"  guidance: {GUIDANCE}")
-    return "\n".join(out)
+    return terminal("\n".join(out))

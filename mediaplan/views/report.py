@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from mediaplan.medium.evaluate import Evaluation
+from mediaplan.views.safe_text import terminal
 from mediaplan.views.table import RIGHT, Column, pairs_table, text_table
 
 
@@ -74,7 +75,7 @@ def evaluation_text(ev: Evaluation, title: str | None = None, notes: list[str] |
         out.append("")
         out.append("Cautions: " + ", ".join(c["component"] for c in d.cautions) +
                    " carry hazard notes (mediaplan catalog show ID; the prep sheet prints them in full)")
-    return "\n".join(out)
+    return terminal("\n".join(out))
 
 
 def _groups_table(groups: dict[str, float]) -> list[str]:

@@ -5,6 +5,7 @@ from __future__ import annotations
 import csv
 import io
 
+from mediaplan.views.safe_text import csv_cell, terminal
 from mediaplan.views.table import RIGHT, Column, text_table
 
 
@@ -40,14 +41,14 @@ def design_text(design) -> str:
                      f"makes {vol} after volume change on mixing.")
     for w in d.warnings:
         lines.append(f"warning: {w}")
-    return "\n".join(lines)
+    return terminal("\n".join(lines))
 
 
 def design_csv(design) -> str:
     """The levels as CSV; the empty plasmolysed/total columns make it a counting sheet for ``mediaplan fit``."""
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
-    ox = design.osmoticum
+    ox = csv_cell(design.osmoticum)
     head = ["level", "water_potential_mpa", "osmolality_mosmol_per_kg", f"{ox}_mol_per_kg", f"{ox}_g_per_l",
             f"grams_per_{design.volume_ml:g}_ml"]
     if design.stock is not None:

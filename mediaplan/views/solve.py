@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from mediaplan.views.report import fmt
+from mediaplan.views.safe_text import terminal
 from mediaplan.views.table import RIGHT, Column, pairs_table, text_table
 
 
@@ -17,7 +18,7 @@ def solution_text(sol) -> str:
     out.append(f"Start: {start.osmolality_mosmol_per_kg:.1f} mOsm/kg, {start.osmotic_potential_mpa:.4f} MPa")
     out.append("")
     if sol.status == "too_concentrated":
-        return "\n".join(out + _reduction_lines(sol))
+        return terminal("\n".join(out + _reduction_lines(sol)))
     if sol.status == "on_target":
         out.append("Already on target: nothing to add.")
     else:
@@ -28,7 +29,7 @@ def solution_text(sol) -> str:
     if ev.warnings:
         out.append("")
         out += [f"  ! {w.message}" for w in ev.warnings]
-    return "\n".join(out)
+    return terminal("\n".join(out))
 
 
 def _reduction_lines(sol) -> list[str]:

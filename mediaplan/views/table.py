@@ -11,13 +11,17 @@ Layout rules of :func:`text_table` (they keep the printed output stable):
 - cells are padded to the column width on the side their alignment says, except the last column
   when it is left-aligned, which is never padded (so a line ends where its text ends, unless that
   column is empty, in which case the separator before it stays);
-- columns are joined by ``sep`` (or a column's own ``sep``) and every line starts with ``indent``.
+- columns are joined by ``sep`` (or a column's own ``sep``) and every line starts with ``indent``;
+- control characters in a cell are shown as escapes (:func:`mediaplan.views.safe_text.terminal`) before
+  the widths are measured.
 """
 
 from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
+
+from mediaplan.views.safe_text import markdown, terminal
 
 LEFT = "left"
 RIGHT = "right"
@@ -67,6 +71,7 @@ def text_table(columns: Sequence[Column], rows: Sequence[Sequence[str]], *, head
     for r in rows:
         if len(r) != len(columns):
             raise ValueError(f"a row has {len(r)} cells for {len(columns)} columns")
+    rows = [[terminal(c) for c in r] for r in rows]  # escapes first, so that the columns line up
     widths = _widths(columns, rows, header)
     last = len(columns) - 1
 
@@ -98,9 +103,10 @@ def pairs_table(pairs: Sequence[tuple[str, str]], *, indent: str = "", key_width
 
 def markdown_table(columns: Sequence[Column | str], rows: Sequence[Sequence[str]]) -> list[str]:
     """The table as Markdown lines: a header row, a ``|---|`` line, one line per row; ``|`` in a cell is
-    escaped and a newline becomes a space. Alignment is left to the Markdown reader."""
+    escaped, HTML and control characters too (:func:`mediaplan.views.safe_text.markdown`), and a newline
+    becomes a space. Alignment is left to the Markdown reader."""
     def cell(x) -> str:
-        return str(x).replace("|", "\\|").replace("\n", " ")
+        return markdown(x).replace("|", "\\|")
 
     heads = [c.header if isinstance(c, Column) else c for c in columns]
     out = ["| " + " | ".join(cell(h) for h in heads) + " |", "|" + "|".join("---" for _ in heads) + "|"]
