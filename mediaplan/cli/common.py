@@ -60,12 +60,43 @@ def recipe_from(args, catalog, *, notes: list[str] | None = None):
     return plan, recipe
 
 
-def print_json(obj) -> None:
-    """Print ``obj`` (a ``to_dict()`` result) as indented JSON on standard output."""
+def print_json(obj, path=None, *, force: bool = False, reads: tuple = ()) -> None:
+    """Print ``obj`` (a ``to_dict()`` result) as indented JSON on standard output, or write it to ``path``
+    (``-o FILE``; see :func:`mediaplan.files.output.write_output` for ``force`` and ``reads``)."""
     from mediaplan.files.output import write_output
     from mediaplan.views.jsontext import json_text
 
-    write_output(json_text(obj))
+    write_output(json_text(obj), path, force=force, reads=reads)
+
+
+def add_output_arguments(p: argparse.ArgumentParser, formats: tuple[str, ...], default: str, *,
+                         format_help: str, json_help: str = "print one JSON object") -> None:
+    """``--json``, ``--format`` (one or the other: both is a usage error), ``-o FILE`` and ``--force``."""
+    kind = p.add_mutually_exclusive_group()
+    kind.add_argument("--json", action="store_true", help=json_help + " (also with -o)")
+    kind.add_argument("--format", choices=formats, default=None, help=f"{format_help} (default {default})")
+    p.set_defaults(format_default=default)
+    p.add_argument("-o", "--output", metavar="FILE",
+                   help="write to FILE instead of standard output (a new file; see --force)")
+    p.add_argument("--force", action="store_true",
+                   help="let -o replace an existing file (never one the command reads)")
+
+
+def note(text: str) -> None:
+    """One ``note:`` line on standard error, control characters shown as escapes."""
+    import sys
+
+    from mediaplan.views.safe_text import one_line
+
+    print(one_line(f"note: {text}"), file=sys.stderr)
+
+
+def error_line(exc) -> str:
+    """The one line an error prints: ``mediaplan: ...`` in the command line's words, control characters and
+    line breaks shown as escapes."""
+    from mediaplan.views.safe_text import one_line
+
+    return one_line(f"mediaplan: {in_cli_words(exc)}")
 
 
 def fail(msg: str, **kw) -> MediaplanError:
@@ -79,7 +110,7 @@ FLAG_OF_FIELD = {
     "ratio": "--ratio", "hold": "--hold", "link": "--link", "format": "--format", "trust": "--trust",
     "series.first": "--from", "series.last": "--to", "series.step": "--step", "series.steps": "--steps",
     "series.stock": "--stock", "batch_volume": "--volume", "stock_volume": "--stock-volume",
-    "stock_factor": "--factor", "form": "--form",
+    "stock_factor": "--factor", "form": "--form", "force": "--force",
 }
 
 

@@ -2,8 +2,10 @@
 
 Each subcommand lives in ``mediaplan/commands/<name>.py`` with two functions:
 ``add_arguments(parser)`` (cheap: no heavy imports at module level) and ``run(args) -> int``.
-Errors a user can fix (MediaplanError) print one line on stderr and exit 2; anything unexpected is
-logged with its traceback in the user's state folder and reported in one line naming the log.
+Errors a user can fix (MediaplanError) print one line on stderr (control characters shown as escapes) and
+exit 2; anything unexpected is logged with its traceback in the user's state folder and reported in one
+line naming the log. ``mediaplan`` alone opens the terminal app, or, when standard input or output is not
+a terminal, says so in one line and exits 2.
 """
 
 from __future__ import annotations
@@ -21,7 +23,7 @@ COMMANDS = {
     "fit": "fit plasmolysis counts: incipient plasmolysis point with its interval",
     "prep": "preparation sheet and stock solutions for a batch",
     "check": "validate plan files (exit 1 if any is invalid)",
-    "diff": "compare two plans: components and results",
+    "diff": "compare two plans: components and results (exit 1 if they differ)",
     "catalog": "search, show or check the component catalog",
     "open": "open a plan in the terminal app",
     "locate": "print where mediaplan keeps the user's files",
@@ -30,8 +32,11 @@ COMMANDS = {
 
 class _Parser(argparse.ArgumentParser):
     def error(self, message: str) -> None:  # one line, exit 2
-        self.exit(2, f"mediaplan: {message} (see mediaplan {self.prog.split()[-1] if ' ' in self.prog else ''} --help)\n"
-                  .replace("mediaplan  --help", "mediaplan --help"))
+        from mediaplan.views.safe_text import one_line
+
+        line = (f"mediaplan: {message} (see mediaplan {self.prog.split()[-1] if ' ' in self.prog else ''} --help)"
+                .replace("mediaplan  --help", "mediaplan --help"))
+        self.exit(2, one_line(line) + "\n")
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -67,8 +72,11 @@ def main(argv: list[str] | None = None) -> int:
     use_unit_cache()
     try:
         if args.command is None:
-            from mediaplan.cli.commands.open import run_app
+            from mediaplan.cli.commands.open import NO_TERMINAL, has_terminal, run_app
 
+            if not has_terminal():
+                print(NO_TERMINAL, file=sys.stderr)
+                return 2
             return run_app(None, args)
         if getattr(args, "_missing", None):
             print(f"mediaplan: the '{args._missing}' command is not available in this build", file=sys.stderr)
@@ -76,9 +84,9 @@ def main(argv: list[str] | None = None) -> int:
         mod = importlib.import_module(args._module)
         return int(mod.run(args) or 0)
     except MediaplanError as exc:
-        from mediaplan.cli.common import in_cli_words
+        from mediaplan.cli.common import error_line
 
-        print(f"mediaplan: {in_cli_words(exc)}", file=sys.stderr)
+        print(error_line(exc), file=sys.stderr)
         return 2
     except KeyboardInterrupt:
         print("mediaplan: interrupted", file=sys.stderr)

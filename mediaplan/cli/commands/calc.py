@@ -2,9 +2,14 @@
 
 from __future__ import annotations
 
-import sys
-
-from mediaplan.cli.common import add_recipe_arguments, catalog_from, print_json, recipe_from
+from mediaplan.cli.common import (
+    add_output_arguments,
+    add_recipe_arguments,
+    catalog_from,
+    note,
+    print_json,
+    recipe_from,
+)
 
 
 def add_arguments(p) -> None:
@@ -23,10 +28,8 @@ def add_arguments(p) -> None:
     loss.add_argument("--water-loss", metavar="FRACTION", help="water lost by the end of the culture (total)")
     loss.add_argument("--water-loss-per-week", metavar="FRACTION", help="water lost per week (of the water first present)")
     p.add_argument("--weeks", metavar="N", help="length of the culture in weeks (default 4)")
-    p.add_argument("--json", action="store_true", help="print one JSON object")
-    p.add_argument("--format", choices=("text", "md", "csv", "html"), default="text",
-                   help="report format (md, csv and html include provenance and a place to sign)")
-    p.add_argument("-o", "--output", metavar="FILE", help="write the report to FILE (atomic) instead of stdout")
+    add_output_arguments(p, ("text", "md", "csv", "html"), "text; md with -o",
+                         format_help="report format (md, csv and html include provenance and a place to sign)")
 
 
 def projection_from(args, plan, recipe, catalog, ref: float | None, tol: float):
@@ -59,27 +62,28 @@ def run(args) -> int:
     ref = cell_reference(args.cells, cells, recipe.temperature_k)
     ev = evaluate(recipe, catalog, cell_reference_mosmol=ref, isotonic_tolerance=tol)
     proj = projection_from(args, plan, recipe, catalog, ref, tol)
+    reads = (getattr(args, "plan", None),)
     if args.json:
         d = ev.to_dict()
         d["notes"] = notes
         d["title"] = plan.title if plan else None
         if proj is not None:
             d["projection"] = proj.to_dict()
-        print_json(d)
-    elif args.format != "text" or args.output:
+        print_json(d, args.output, force=args.force, reads=reads)
+    elif args.format not in (None, "text") or args.output:
         from mediaplan.files.planfile import Plan
         from mediaplan.files.sharing import provenance_of
         from mediaplan.views.export import evaluation_report
 
-        fmt = "md" if args.format == "text" else args.format
+        fmt = "md" if args.format in (None, "text") else args.format
         text = evaluation_report(ev, plan or Plan(recipe=recipe), fmt,
                                  provenance=provenance_of(recipe, catalog))
         for n in notes:
-            print(f"note: {n}", file=sys.stderr)
-        write_output(text, args.output)
+            note(n)
+        write_output(text, args.output, force=args.force, reads=reads)
     else:
         for n in notes:
-            print(f"note: {n}", file=sys.stderr)
+            note(n)
         text = evaluation_text(ev, plan.title if plan else None)
         if proj is not None:
             from mediaplan.views.projection import projection_text

@@ -56,9 +56,10 @@ def check(extra) -> tuple[list[str], dict]:
 
 
 def run(args) -> int:
-    from mediaplan.cli.common import catalog_from
+    from mediaplan.cli.common import catalog_from, note
     from mediaplan.files.output import write_output
     from mediaplan.views import catalog as view
+    from mediaplan.views.safe_text import one_line
 
     if args.action == "check":
         problems, counts = check(_extra(args))
@@ -69,7 +70,7 @@ def run(args) -> int:
             if text:
                 write_output(text)
             for s in counts.get("shadowed", []):
-                print(f"note: facility catalog entry in force: {s}", file=sys.stderr)
+                note(f"facility catalog entry in force: {s}")
         return 1 if problems else 0
     catalog = catalog_from(args)
     if args.action == "show":
@@ -88,7 +89,7 @@ def run(args) -> int:
         print_json(rows)
         return 0
     if not rows:
-        print(f"nothing matches '{args.text}'", file=sys.stderr)
+        print(one_line(f"nothing matches '{args.text}'"), file=sys.stderr)
         return 1
     write_output(view.search_text(rows))
     return 0

@@ -1,6 +1,7 @@
 """mediaplan check: validate plan files (for CI in a facility's plan repository).
 
-One line per plan, ``PLAN: ok`` or ``PLAN: invalid: reason``; exit status 1 when any plan is invalid.
+One line per plan, ``PLAN: ok`` or ``PLAN: invalid: reason``; exit status 1 when any plan is invalid
+(2 when ``--stamp`` could not write a plan: its line on standard error says why).
 A plan is invalid when it cannot be read, a component does not resolve, the models cannot evaluate
 it, or an embedded catalog entry conflicts with the local catalog. Catalog differences against the
 plan's recorded provenance and model warnings are reported on the same line (``--strict`` makes
@@ -21,7 +22,8 @@ def add_arguments(p) -> None:
     p.add_argument("--trust", choices=("plan", "local"),
                    help="settle conflicts between a plan's embedded entries and the local catalog")
     p.add_argument("--stamp", action="store_true",
-                   help="record the catalog entries each valid plan uses in its [provenance] table (rewrites it)")
+                   help="record the catalog entries each valid plan uses in its [provenance] table (edits the "
+                        "file in place, keeping its comments; a numbered backup keeps the previous version)")
     p.add_argument("--embed", action="store_true", help="with --stamp: embed a full copy of each entry")
 
 
@@ -57,19 +59,18 @@ def check_one(path: str, catalog, *, strict: bool = False, trust: str | None = N
 
 
 def run(args) -> int:
-    from mediaplan.files import planfile
-    from mediaplan.files.sharing import shadow_notes, stamp
+    from mediaplan.cli.common import note
+    from mediaplan.files.sharing import shadow_notes
 
     catalog = catalog_from(args)
     for n in shadow_notes(catalog):
-        print(f"note: {n}", file=sys.stderr)
+        note(n)
     results = [check_one(p, catalog, strict=args.strict, trust=args.trust) for p in args.plans]
+    unstamped = 0
     if args.stamp or args.embed:
         for r in results:
             if r["status"] == "ok":
-                plan = r["_plan"]
-                planfile.write(stamp(plan, r["_catalog"], embed=args.embed), plan.path)
-                r["notes"].append("provenance recorded" + (" with embedded entries" if args.embed else ""))
+                unstamped += not stamp_one(r, embed=args.embed)
     for r in results:
         r.pop("_plan", None)
         r.pop("_catalog", None)
@@ -80,4 +81,39 @@ def run(args) -> int:
         from mediaplan.views.check import check_text
 
         write_output(check_text(results))
+    if unstamped:
+        return 2
     return 1 if any(r["status"] != "ok" for r in results) else 0
+
+
+def stamp_one(r: dict, *, embed: bool) -> bool:
+    """Record the provenance of one valid plan in its own file (an edit: comments, spellings and the rest of
+    the file stay); say on standard error what was written, or why nothing was. Returns whether it was."""
+    from mediaplan.cli.common import error_line, note
+    from mediaplan.files import planfile
+    from mediaplan.files.sharing import stamp
+    from mediaplan.medium.errors import MediaplanError
+
+    plan = r["_plan"]
+    stamped = stamp(plan, r["_catalog"], embed=embed)
+    said: list[str] = []
+    try:
+        planfile.write(stamped, plan.path, catalog=r["_catalog"], notes=said)
+    except MediaplanError as exc:
+        exc.message = f"not stamped: {exc.message}"
+        print(error_line(exc), file=sys.stderr)
+        r["notes"].append(str(exc))
+        return False
+    prov = stamped.provenance
+    n_comp, n_media = len(prov.components or {}), len(prov.media or {})
+    what = (f"{n_comp} component{'s' if n_comp != 1 else ''}"
+            + (f" and {n_media} medium" if n_media == 1 else f" and {n_media} media" if n_media else "")
+            + (", with embedded copies" if embed else ""))
+    if stamped.disk_digest == plan.disk_digest:
+        note(f"{plan.path}: [provenance] already up to date ({what}, recorded {prov.recorded}); file unchanged")
+    else:
+        note(f"{plan.path}: [provenance] written ({what}, recorded {prov.recorded})")
+    for n in said:
+        note(n)
+    r["notes"].append("provenance recorded" + (" with embedded entries" if embed else ""))
+    return True

@@ -1,8 +1,7 @@
-"""mediaplan diff: what changed between two plans, in components and in results."""
+"""mediaplan diff: what changed between two plans, in components and in results (exit status 1 when they
+differ, 0 when they make the same medium)."""
 
 from __future__ import annotations
-
-import sys
 
 from mediaplan.cli.common import catalog_from, print_json
 
@@ -13,19 +12,22 @@ def add_arguments(p) -> None:
     p.add_argument("--json", action="store_true", help="print one JSON object")
     p.add_argument("--trust", choices=("plan", "local"),
                    help="settle conflicts between a plan's embedded entries and the local catalog")
+    p.epilog = ("Exit status: 0 when the two plans make the same medium (same settings, components and results; "
+                "titles and notes aside), 1 when they differ, 2 for bad input.")
 
 
 def run(args) -> int:
+    from mediaplan.cli.common import note
     from mediaplan.files.sharing import read_plan, shadow_notes
     from mediaplan.tasks.compare import plan_diff
 
     catalog = catalog_from(args)
     for n in shadow_notes(catalog):
-        print(f"note: {n}", file=sys.stderr)
+        note(n)
     pa, ca, na = read_plan(args.a, catalog, trust=args.trust)
     pb, cb, nb = read_plan(args.b, catalog, trust=args.trust)
     for n in na + nb:
-        print(f"note: {n}", file=sys.stderr)
+        note(n)
     d = plan_diff(pa, ca, pb, cb)
     if args.json:
         print_json(d)
@@ -34,4 +36,4 @@ def run(args) -> int:
         from mediaplan.views.diff import diff_text
 
         write_output(diff_text(d))
-    return 0
+    return 0 if d["same_medium"] else 1

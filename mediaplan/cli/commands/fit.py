@@ -18,7 +18,8 @@ def add_arguments(p) -> None:
     p.add_argument("--temperature", metavar="T",
                    help='series temperature, e.g. "25 degC" (default: the plan\'s, else 25 °C)')
     p.add_argument("--json", action="store_true", help="print one JSON object")
-    p.add_argument("--plot", metavar="OUT", help="save the fitted curve as OUT.svg or OUT.png")
+    p.add_argument("--plot", metavar="OUT", help="save the fitted curve as OUT.svg or OUT.png (a new file; see --force)")
+    p.add_argument("--force", action="store_true", help="let --plot replace an existing file")
     p.add_argument("--write-cells", metavar="PLAN",
                    help="store the fitted cell reference in PLAN's [cells] table (created if missing)")
 
@@ -52,12 +53,13 @@ def load_counts(args, catalog):
     return None, read_counts_csv(path, osmoticum=args.osmoticum, background=background, catalog=catalog)
 
 
-def save_plot(fit, out: str) -> str:
-    """Write the curve as SVG or PNG (by extension), atomically."""
+def save_plot(fit, out: str, *, force: bool = False, reads: tuple = ()) -> str:
+    """Write the curve as SVG or PNG (by extension) through the one safe write path (a new file unless
+    ``force``; never one the command reads)."""
     from pathlib import Path
 
-    from mediaplan.files.planfile import atomic_write
-    from mediaplan.medium.errors import MediaplanError
+    from mediaplan.files.output import write_file
+    from mediaplan.medium.errors import MediaplanError, PlanFileError
     from mediaplan.views.plot import curve_points, png_bytes, svg_text
 
     path = Path(out)
@@ -69,15 +71,17 @@ def save_plot(fit, out: str) -> str:
     title = f"Incipient plasmolysis ({fit.link} fit, {fit.n_levels} levels)"
     data = svg_text(cp, title).encode("utf-8") if ext == ".svg" else png_bytes(cp, title)
     try:
-        atomic_write(path, data, backup=False)
-    except OSError as exc:
-        raise MediaplanError(f"cannot write the plot ({exc.strerror or exc})", file=str(path),
-                             hint="choose another folder") from None
+        write_file(data, path, force=force, reads=reads)
+    except PlanFileError as exc:
+        if exc.message.startswith("cannot write ("):
+            exc.message = exc.message.replace("cannot write (", "cannot write the plot (", 1)
+        raise
     return str(path)
 
 
-def write_cells(fit, target: str, counts_plan, catalog) -> str:
-    """Store the fitted reference in the [cells] table of a plan (a new plan when the file does not exist)."""
+def write_cells(fit, target: str, counts_plan, catalog, notes: list[str] | None = None) -> str:
+    """Store the fitted reference in the [cells] table of a plan (a new plan when the file does not exist);
+    an existing plan is edited in place (comments, spellings and the rest of the file stay)."""
     import datetime
     from pathlib import Path
 
@@ -93,20 +97,23 @@ def write_cells(fit, target: str, counts_plan, catalog) -> str:
         plan = planfile.Plan(title="Cell reference from an incipient plasmolysis fit")
     fitted = cell_reference_of(fit, datetime.date.today().isoformat())
     plan.cells = plan.cells.merged(fitted) if plan.cells is not None else fitted
-    return str(planfile.write(plan, path))
+    return str(planfile.write(plan, path, catalog=catalog, notes=notes))
 
 
 def run(args) -> int:
+    from mediaplan.cli.common import note
     from mediaplan.tasks.plasmolysis import fit_counts
+    from mediaplan.views.safe_text import one_line
 
     catalog = catalog_from(args)
     plan, counts = load_counts(args, catalog)
     fit = fit_counts(counts, args.link)
     saved = []
+    said: list[str] = []
     if args.plot:
-        saved.append(f"plot {save_plot(fit, args.plot)}")
+        saved.append(f"plot {save_plot(fit, args.plot, force=args.force, reads=(args.counts,))}")
     if args.write_cells:
-        saved.append(f"cell reference in {write_cells(fit, args.write_cells, plan, catalog)}")
+        saved.append(f"cell reference in {write_cells(fit, args.write_cells, plan, catalog, said)}")
     if args.json:
         print_json(fit.to_dict())
     else:
@@ -115,5 +122,7 @@ def run(args) -> int:
 
         write_output(fit_text(fit))
     for s in saved:
-        print(f"saved {s}", file=sys.stderr)
+        print(one_line(f"saved {s}"), file=sys.stderr)
+    for n in said:
+        note(n)
     return 0

@@ -8,7 +8,27 @@ def add_arguments(p) -> None:
     p.add_argument("--no-recovery", action="store_true", help="do not offer autosaved unsaved work")
 
 
+#: what ``mediaplan`` (or ``mediaplan open``) says when there is no terminal to show the app in
+NO_TERMINAL = ("mediaplan: the terminal app needs a terminal (standard input and output are not one); "
+               "run a command instead, e.g. mediaplan calc --plan PLAN (mediaplan --help lists them)")
+
+
+def has_terminal() -> bool:
+    """Are standard input and standard output both terminals (the app needs both)?"""
+    import sys
+
+    try:
+        return sys.stdin is not None and sys.stdout is not None and sys.stdin.isatty() and sys.stdout.isatty()
+    except (AttributeError, ValueError):
+        return False
+
+
 def run(args) -> int:
+    if not has_terminal():
+        import sys
+
+        print(NO_TERMINAL, file=sys.stderr)
+        return 2
     return run_app(args.plan, args)
 
 

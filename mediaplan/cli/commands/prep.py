@@ -2,9 +2,14 @@
 
 from __future__ import annotations
 
-import sys
-
-from mediaplan.cli.common import add_recipe_arguments, catalog_from, print_json, recipe_from
+from mediaplan.cli.common import (
+    add_output_arguments,
+    add_recipe_arguments,
+    catalog_from,
+    note,
+    print_json,
+    recipe_from,
+)
 
 
 def add_arguments(p) -> None:
@@ -22,9 +27,8 @@ def add_arguments(p) -> None:
     p.add_argument("--ph", metavar="PH", help="target pH printed on the sheet (default: the base medium's)")
     p.add_argument("--trust", choices=("plan", "local"),
                    help="which entry wins when the plan's embedded copy differs from the local catalog")
-    p.add_argument("--format", choices=("md", "csv", "html"), default="md", help="output format (default md)")
-    p.add_argument("--json", action="store_true", help="print the sheet as one JSON object")
-    p.add_argument("--output", "-o", metavar="FILE", help="write to FILE instead of standard output")
+    add_output_arguments(p, ("md", "csv", "html"), "md", format_help="output format",
+                         json_help="print the sheet as one JSON object")
 
 
 def split_plan_argument(args) -> None:
@@ -47,7 +51,7 @@ def load(args):
     catalog = catalog_from(args)
     notes = shadow_notes(catalog)
     for n in notes:  # before anything can fail: a conflict may come from the facility entry
-        print(f"note: {n}", file=sys.stderr)
+        note(n)
     if args.plan:
         _, catalog, more = read_plan(args.plan, catalog, trust=getattr(args, "trust", None))
         notes += more
@@ -69,9 +73,10 @@ def run(args) -> int:
     sheet.provenance = provenance_of(recipe, catalog)
     sheet.notes = notes + sheet.notes
     for n in notes[shown:]:
-        print(f"note: {n}", file=sys.stderr)
+        note(n)
+    reads = (args.plan,)
     if args.json:
-        print_json(sheet.to_dict())
+        print_json(sheet.to_dict(), args.output, force=args.force, reads=reads)
         return 0
-    write_output(prep_sheet(sheet, plan, args.format), args.output)
+    write_output(prep_sheet(sheet, plan, args.format or "md"), args.output, force=args.force, reads=reads)
     return 0

@@ -28,7 +28,8 @@ def add_arguments(p) -> None:
     out.add_argument("--json", action="store_true", help="print one JSON object")
     out.add_argument("--csv", action="store_true", help="print the levels as CSV (with empty count columns)")
     p.add_argument("--write", metavar="PLAN", help="save the background and the series (with empty counts) "
-                                                   "as a plan file")
+                                                   "as a plan file (written back into the --plan file when it is "
+                                                   "the same, keeping its comments)")
     p.add_argument("--force", action="store_true", help="with --write: overwrite an existing file")
 
 
@@ -82,9 +83,11 @@ def build_design(args, catalog):
 def run(args) -> int:
     from pathlib import Path
 
+    from mediaplan.cli.common import note
     from mediaplan.files import planfile
     from mediaplan.files.plan_tables import series_record_of
     from mediaplan.files.planfile import Plan
+    from mediaplan.views.safe_text import one_line
 
     catalog = catalog_from(args)
     plan, recipe, design = build_design(args, catalog)
@@ -102,7 +105,10 @@ def run(args) -> int:
         plan.series = series_record_of(design)
         if plan.path is None or plan.path.resolve() != Path(args.write).resolve():
             plan.path, plan.disk_digest = None, None
-        path = planfile.write(plan, args.write, force=args.force)
-        print(f"saved {path} (fill in plasmolysed and total per level, then: mediaplan fit {path})",
+        said: list[str] = []
+        path = planfile.write(plan, args.write, force=args.force, catalog=catalog, notes=said)
+        print(one_line(f"saved {path} (fill in plasmolysed and total per level, then: mediaplan fit {path})"),
               file=sys.stderr)
+        for n in said:
+            note(n)
     return 0

@@ -24,7 +24,8 @@ def add_arguments(p) -> None:
     p.add_argument("--json", action="store_true", help="print one JSON object")
     p.add_argument("--write", metavar="OUT.toml", help="save the solved plan (never over an existing file "
                    "without --force)")
-    p.add_argument("--force", action="store_true", help="let --write replace an existing file, the input included")
+    p.add_argument("--force", action="store_true", help="let --write replace an existing file; the input plan "
+                   "itself is edited in place, keeping its comments")
     p.epilog = ("Exit status: 0 when the target is reached or already met, 1 when the medium is already more "
                 "concentrated than the target (the strength or dilution that reaches it is printed; nothing is "
                 "written), 2 for bad input or an unreachable target.")
@@ -54,9 +55,11 @@ def _hold(text: str | None) -> dict[str, str] | None:
 
 
 def run(args) -> int:
+    from mediaplan.cli.common import note
     from mediaplan.files import planfile
     from mediaplan.tasks.cells import cell_reference, cell_tolerance
     from mediaplan.tasks.solve import parse_solve_target, solve_target
+    from mediaplan.views.safe_text import one_line
 
     catalog = catalog_from(args)
     spec = parse_solve_target(args.target, field="--target")
@@ -67,6 +70,7 @@ def run(args) -> int:
     sol = solve_target(recipe, catalog, spec, args.osmotica, ratio=_ratio(args.ratio), hold=_hold(args.hold),
                        cell_reference_mosmol=ref, isotonic_tolerance=tol)
     written = None
+    said: list[str] = []
     if args.write and sol.status != "too_concentrated":
         from pathlib import Path
 
@@ -74,11 +78,15 @@ def run(args) -> int:
         from mediaplan.tasks.cells import CellReference
 
         new = plan.with_recipe(sol.recipe)
-        new.path, new.disk_digest = None, None  # a new file: planfile.write refuses to replace one unless --force
+        out = Path(args.write)
+        if not _is_input(out, plan) or not args.force:
+            # a new file: planfile.write refuses to replace any existing one unless --force
+            new.path, new.disk_digest = None, None
+        # else: written back into the input plan (with --force), which is edited, keeping its comments
         new.target = target_record_of(sol)
         if args.cells and not plan.cells:
             new.cells = CellReference(osmolality=f"{ref:.4g} mOsm/kg", source=f"--cells {args.cells}")
-        written = planfile.write(new, Path(args.write), force=args.force)
+        written = planfile.write(new, out, force=args.force, catalog=catalog, notes=said)
     if args.json:
         d = sol.to_dict()
         d["written"] = str(written) if written else None
@@ -89,7 +97,19 @@ def run(args) -> int:
 
         write_output(solution_text(sol))
         if written:
-            print(f"\nwritten: {written}")
+            print("\n" + one_line(f"written: {written}"))
         elif args.write:
             print("\nnothing written: no addition reaches this target", file=sys.stderr)
+    for n in said:
+        note(n)
     return 1 if sol.status == "too_concentrated" else 0
+
+
+def _is_input(out, plan) -> bool:
+    """Is ``out`` the plan file the command read (the same name, a link to it or another hard link)?"""
+    import os
+
+    try:
+        return plan.path is not None and os.path.samefile(out, plan.path)
+    except (OSError, ValueError):
+        return False
