@@ -1,15 +1,20 @@
 """The mediaplan terminal app: compose a medium and watch its water relations change.
 
 The App owns the :class:`~mediaplan.tui.session.Session` (plan, undo history, recovery file) and the
-file actions (open, save, save as, new, quit); the main screen owns the recipe actions.
+file actions (open, save, save as, new, quit); the main screen owns the recipe actions. Right after the
+first paint a worker warms the solver, the series design and fit and the sheet
+(:mod:`mediaplan.tui.warm`), so the user's first action does not wait for imports.
 """
 
 from __future__ import annotations
 
 import os
+from dataclasses import dataclass
 from pathlib import Path
 
+from textual import work
 from textual.app import App
+from textual.message import Message
 from textual.theme import Theme
 from textual.timer import Timer
 
@@ -48,12 +53,19 @@ class MediaplanApp(App):
     COMMANDS = App.COMMANDS | {PlanCommands}
     BINDINGS = bindings("app")
 
+    @dataclass
+    class Warmed(Message):
+        """The warm start is done: seconds per step [s] (steps that failed are left out)."""
+
+        took: dict[str, float]
+
     def __init__(self, session: Session, *, offer_recovery: bool = True, start_dir: Path | None = None) -> None:
         super().__init__()
         self.session = session
         self.offer_recovery = offer_recovery
         self.start_dir = start_dir or Path.cwd()
         self._autosave: Timer | None = None
+        self.warmed: dict[str, float] | None = None
 
     @property
     def catalog(self) -> Catalog:
@@ -71,8 +83,19 @@ class MediaplanApp(App):
         if os.environ.get(EXIT_AFTER_PAINT) == "1":
             self.call_after_refresh(self.exit)
             return
+        self.call_after_refresh(self.warm_start)
         if self.offer_recovery:
             self.call_after_refresh(self._offer_recovery)
+
+    @work(thread=True, exclusive=True, exit_on_error=False, group="warm", name="warm start")
+    def warm_start(self) -> None:
+        """Import and compile what the first solve, series, fit and sheet need (a thin worker)."""
+        from mediaplan.tui.warm import warm_up
+
+        self.post_message(self.Warmed(warm_up(self.session.recipe, self.catalog)))
+
+    def on_mediaplan_app_warmed(self, event: Warmed) -> None:
+        self.warmed = event.took
 
     # ---- recovery of unsaved work -------------------------------------------------------------
     def _offer_recovery(self) -> None:

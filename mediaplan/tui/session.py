@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import datetime
 import hashlib
+import json
 import os
 from dataclasses import dataclass, replace
 from pathlib import Path
@@ -25,8 +26,23 @@ from mediaplan.tasks.plasmolysis.counts import SeriesRecord
 from mediaplan.tasks.projection import ProjectionRecord
 from mediaplan.tui.words import in_app_words
 
-#: plan-file table that marks a recovery file (stripped again when it is restored)
+#: plan-file table that marked a recovery file in earlier versions (stripped again when it is restored)
 RECOVERY_TABLE = "recovery"
+#: the first line of a recovery file: this prefix, then where the plan came from as one line of JSON. A
+#: comment, so the rest of the file is exactly the plan as the plan writer writes it (a strict reader takes it)
+RECOVERY_HEADER = "# mediaplan recovery: "
+#: recovery files larger than this are not read [bytes]
+RECOVERY_MAX_BYTES = 8_000_000
+
+
+@dataclass(frozen=True)
+class RemovedLine:
+    """A line of the base formulation that the plan removed (its amount set to zero); restorable."""
+
+    id: str
+    name: str
+    amount: str  # what the base gives at the plan's strength
+    after: str | None  # the base line it follows in the table (None: it comes first)
 
 
 @dataclass(frozen=True)
@@ -120,13 +136,40 @@ class Session:
         else:
             self.set_recipe(self.recipe.without(component_id))
 
-    def set_conditions(self, title: str, volume: str, temperature: str, cells: str) -> None:
+    def removed_base_lines(self) -> list[RemovedLine]:
+        """Base lines the plan sets to zero, in the base's order, with the line each follows."""
+        recipe = self.recipe
+        if not recipe.base:
+            return []
+        try:
+            lines = self.catalog.medium(recipe.base).lines
+        except MediaplanError:
+            return []
+        out, previous = [], None
+        for ml in lines:
+            own = recipe.amount_of(ml.component)
+            if own is not None and own.is_zero:
+                amount = ml.amount if recipe.strength == 1 else ml.amount.scaled(recipe.strength)
+                comp = self.catalog.components[ml.component]
+                out.append(RemovedLine(ml.component, comp.name, amount.text, previous))
+            else:
+                previous = ml.component
+        return out
+
+    def restore(self, component_id: str) -> None:
+        """Give a removed base line back its base amount (the plan's own amount for it goes)."""
+        self.set_recipe(self.recipe.without(component_id))
+
+    def set_conditions(self, title: str, volume: str, temperature: str, cells: str, *,
+                       notes: str | None = None) -> None:
         """Title, batch volume, temperature and the cells' reference (``""`` removes it; other [cells]
-        fields such as the tolerance are kept). Raises AmountError for bad text."""
+        fields such as the tolerance are kept); the plan's notes when given. Raises AmountError for bad
+        text."""
         plan = self.plan
         reference = (plan.cells or CellReference()).with_reference(cells)
         recipe = plan.recipe.with_settings(volume=volume, temperature=temperature)
-        self.change(replace(plan, title=title, recipe=recipe, cells=None if reference.empty else reference))
+        self.change(replace(plan, title=title, recipe=recipe, cells=None if reference.empty else reference,
+                            notes=plan.notes if notes is None else notes))
 
     def apply_target(self, recipe: Recipe, target: TargetRecord) -> None:
         """The recipe a solve reached, and the target it was asked for (the plan's [target])."""
@@ -176,13 +219,12 @@ class Session:
         """Autosave unsaved work to the recovery folder (atomic). Returns the file, or None if clean."""
         if not self.dirty:
             return None
-        extra = dict(self.plan.extra)
-        extra[RECOVERY_TABLE] = {
+        meta = {
             "path": str(self.plan.path.resolve()) if self.plan.path else "",
             "disk_digest": self.plan.disk_digest or "",
             "saved": datetime.datetime.now().isoformat(timespec="seconds"),
         }
-        data = planfile.dumps(replace(self.plan, extra=extra)).encode("utf-8")
+        data = (RECOVERY_HEADER + json.dumps(meta) + "\n" + planfile.dumps(self.plan)).encode("utf-8")
         self.recovery_path.parent.mkdir(parents=True, exist_ok=True)
         planfile.atomic_write(self.recovery_path, data, backup=False)
         return self.recovery_path
@@ -216,12 +258,13 @@ class Recovery:
     plan: Plan
     original: Path | None
     saved: str
+    contents: str = ""  # "23 components, on a base formulation", a base's lines counted
 
     @property
     def summary(self) -> str:
         where = self.original.name if self.original else "new plan"
-        n = len(self.plan.recipe.amounts)
-        return f"{self.plan.title} ({where}, {n} components set in the plan, autosaved {self.saved.replace('T', ' ')})"
+        what = self.contents or f"{len(self.plan.recipe.amounts)} components set in the plan"
+        return f"{self.plan.title} ({where}, {what}, autosaved {self.saved.replace('T', ' ')})"
 
 
 def find_recoveries(catalog: Catalog, for_path: str | Path | None = None) -> list[Recovery]:
@@ -238,17 +281,58 @@ def find_recoveries(catalog: Catalog, for_path: str | Path | None = None) -> lis
     out = []
     for f in sorted(folder.glob("*.toml"), key=lambda p: p.stat().st_mtime, reverse=True):
         try:
-            plan = planfile.read(f, catalog=catalog)
-        except MediaplanError:
+            plan, meta = read_recovery(f, catalog)
+        except (MediaplanError, OSError, ValueError):
             continue
-        meta = plan.extra.pop(RECOVERY_TABLE, {}) or {}
         original = Path(meta["path"]) if meta.get("path") else None
         if want is not None and str(original) != want:
             continue
         plan.path = original
         plan.disk_digest = meta.get("disk_digest") or None
-        out.append(Recovery(f, plan, original, str(meta.get("saved", ""))))
+        out.append(Recovery(f, plan, original, str(meta.get("saved", "")), _contents(plan.recipe, catalog)))
     return out
+
+
+def read_recovery(file: Path, catalog: Catalog) -> tuple[Plan, dict]:
+    """A recovery file's plan and where it came from (``path``, ``disk_digest``, ``saved``).
+
+    Reads the header line of this version, or the ``[recovery]`` table earlier versions wrote into the plan.
+    Raises MediaplanError (an unreadable plan), OSError or ValueError (a damaged file).
+    """
+    import tomllib
+
+    with open(file, "rb") as fh:
+        raw = fh.read(RECOVERY_MAX_BYTES + 1)
+    if len(raw) > RECOVERY_MAX_BYTES:
+        raise ValueError(f"{file} is larger than a recovery file can be")
+    text = raw.decode("utf-8")
+    first, _, rest = text.partition("\n")
+    if first.startswith(RECOVERY_HEADER):
+        meta = json.loads(first[len(RECOVERY_HEADER):])
+        if not isinstance(meta, dict):
+            raise ValueError(f"{file}: the recovery header is not a table")
+        return planfile.loads(rest, file=str(file), catalog=catalog), meta
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise ValueError(f"{file}: {exc}") from None
+    meta = data.pop(RECOVERY_TABLE, None)
+    if not isinstance(meta, dict):
+        raise ValueError(f"{file} is not a recovery file")
+    return planfile.from_dict(data, text=text, file=str(file), catalog=catalog), meta
+
+
+def _contents(recipe: Recipe, catalog: Catalog) -> str:
+    """What the medium holds in words: its components (a base's lines counted) and the base by name."""
+    try:
+        n = len(recipe.lines(catalog))
+        base = catalog.medium(recipe.base).name if recipe.base else None
+    except MediaplanError:
+        return ""
+    what = f"{n} component{'' if n == 1 else 's'}"
+    if base:
+        what += f" on {base} × {recipe.strength:g}"
+    return what
 
 
 def restore(recovery: Recovery, catalog: Catalog) -> Session:

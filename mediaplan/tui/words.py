@@ -24,9 +24,9 @@ APP_LABELS: dict[str, str] = {
     # target dialog (t)
     "target": "target", "osmoticum": "osmotica", "ratio": "osmotica", "hold": "osmotica",
     # plasmolysis screen (p)
-    "series.first": "first level (ψ)", "series.last": "last level (→)", "series.steps": "number of levels (n)",
+    "series.first": "first ψ", "series.last": "last ψ", "series.steps": "levels",
     "link": "link (l: logit or probit)",
-    # projection dialog (w)
+    # projection dialog (w: after autoclaving and culture)
     "projection": "projection", "projection.autoclave_hydrolysis": "sucrose hydrolysed",
     "projection.water_loss_per_week": "water lost per week", "projection.water_loss": "water lost per week",
     "projection.weeks": "weeks of culture",
@@ -39,10 +39,11 @@ PLAIN_WORDS: dict[str, str] = {
     "cells.tolerance": "isotonic band of the cells", "series.step": "spacing of the levels",
     "series.stock": "stock solution", "stock_volume": "stock volume", "stock_factor": "stock strength",
     "form": "form on the shelf", "format": "sheet format", "trust": "which catalog entry to trust",
+    "force": "permission to replace the file",
 }
 
-#: labels of the plasmolysis screen, where the osmoticum is typed after "with" and the volume after "vol"
-SERIES_LABELS: dict[str, str] = {"osmoticum": "osmoticum (with)", "volume": "volume (vol)"}
+#: labels of the plasmolysis screen, where one osmoticum is typed and the volume is that of each level
+SERIES_LABELS: dict[str, str] = {"osmoticum": "osmoticum", "volume": "volume each"}
 
 _LEVEL = re.compile(r"^series\.levels\[(\d+)\](?:\.(\w+)(?:\[(\d+)\])?)?$")
 #: a hint (or part of one) that sends the user to a command line

@@ -153,8 +153,9 @@ async def test_base_and_strength(catalog):
     app = app_for(Session.new(catalog))
     async with app.run_test(size=SIZE) as pilot:
         await pilot.press("b")
-        ids = ["-none-", *sorted(catalog.media)]
         ol = app.screen.query_one("#base-list")
+        ids = [ol.get_option_at_index(i).id for i in range(ol.option_count)]
+        assert ids[0] == "-none-" and sorted(ids[1:]) == sorted(catalog.media)
         ol.highlighted = ids.index("ms1962")
         app.screen.query_one("#strength-input").value = "1/2"
         await pilot.pause()
@@ -271,7 +272,8 @@ async def test_prep_sheet_is_built_in_a_worker(catalog):
         ready = [m for m in seen if isinstance(m, PrepScreen.Ready)]
         assert ready and ready[-1].error is None
         assert "sucrose" in ready[-1].markdown and "**batch:** 1 L" in ready[-1].markdown
-        # a bad batch volume is refused inline, in words
+        # a bad batch volume is refused inline, in words (v goes to the batch field)
+        await pilot.press("v")
         app.screen.query_one("#prep-volume").value = "2 parsecs"
         await pilot.press("enter")
         await pilot.pause()
@@ -516,11 +518,11 @@ async def test_plasmolysis_errors_name_the_screens_own_fields(catalog):
         assert isinstance(screen, SeriesScreen)
         message = screen.query_one("#series-message")
         cases = [
-            ({"#series-osmoticum": "unobtainium"}, "osmoticum (with): unknown component 'unobtainium'"),
+            ({"#series-osmoticum": "unobtainium"}, "osmoticum: unknown component 'unobtainium'"),
             ({"#series-osmoticum": "mannitol", "#series-steps": "1"},
-             "number of levels (n): a series needs at least 2 levels (got 1)"),
+             "levels: a series needs at least 2 levels (got 1)"),
             ({"#series-steps": "5", "#series-to": "-0.4 MPa"},
-             "last level (→): the first and last level are the same potential"),
+             "last ψ: the first and last level are the same potential"),
         ]
         for inputs, words in cases:
             for selector, value in inputs.items():
@@ -532,7 +534,7 @@ async def test_plasmolysis_errors_name_the_screens_own_fields(catalog):
             assert shown(message).startswith("✗ " + words) and message.has_class("-error")
             assert not COMMAND_LINE.search(shown(message))
         designed = [m.error for m in seen if isinstance(m, SeriesScreen.Designed)]
-        assert designed and designed[0].startswith("osmoticum (with): ")  # the worker's error, posted in app words
+        assert designed and designed[0].startswith("osmoticum: ")  # the worker's error, posted in app words
         assert not any(COMMAND_LINE.search(e or "") for e in designed)
         assert not COMMAND_LINE.search(screen_text(app))
         assert screen.series is None  # nothing designed, nothing kept

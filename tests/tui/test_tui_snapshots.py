@@ -1,11 +1,13 @@
-"""SVG snapshots of the main screens (100x32, cursor blink and animation off, no recovery files).
+"""SVG snapshots of the main screens (100x32, and the main and plasmolysis screens at 80x24 and 140x45;
+cursor blink and animation off, no recovery files).
 
-Update after a deliberate visual change with: pytest tests/test_tui_snapshots.py --snapshot-update
+Update after a deliberate visual change with: pytest tests/tui/test_tui_snapshots.py --snapshot-update
 """
 
 from __future__ import annotations
 
 import pytest
+from tui_helpers import DEMO_COUNTS, SIZE_IDS, SIZES, settle
 
 from mediaplan.files.catalog import get_catalog
 from mediaplan.files.planfile import Plan
@@ -61,3 +63,38 @@ def test_component_picker(snap_compare):
         await _no_blink(pilot)
 
     assert snap_compare(demo_app(), terminal_size=SIZE, run_before=run_before)
+
+
+def series_app() -> MediaplanApp:
+    """A designed mannitol series with the invented demo counts (two strips per level)."""
+    from mediaplan.files.plan_tables import series_record_of
+    from mediaplan.tasks.plasmolysis import design_series, potentials_between
+
+    catalog = get_catalog()
+    design = design_series(Recipe(volume="50 mL"), "mannitol", potentials_between(-0.4e6, -1.8e6, 8), catalog=catalog,
+                           stock="1 mol/kg", spacing="8 levels evenly spaced in water potential")
+    series = series_record_of(design)
+    for i, counts in enumerate(DEMO_COUNTS):
+        series = series.with_counts(i, counts)
+    plan = Plan(recipe=Recipe(volume="50 mL"), title="Series demo (invented)", series=series)
+    app = MediaplanApp(Session(plan, catalog), offer_recovery=False)
+    app.cursor_blink = False  # type: ignore[attr-defined]
+    return app
+
+
+@pytest.mark.parametrize("size", SIZES, ids=SIZE_IDS)
+def test_main_screen_at(snap_compare, size):
+    assert snap_compare(demo_app(), terminal_size=size, run_before=_no_blink)
+
+
+@pytest.mark.parametrize("size", SIZES, ids=SIZE_IDS)
+def test_plasmolysis_screen_fitted_at(snap_compare, size):
+    async def run_before(pilot):
+        await pilot.pause()
+        await pilot.press("p")
+        await _no_blink(pilot)
+        await pilot.press("f")
+        await settle(pilot.app, pilot)
+        await _no_blink(pilot)
+
+    assert snap_compare(series_app(), terminal_size=size, run_before=run_before)

@@ -28,10 +28,11 @@ COMMAND_LINE = re.compile(r"\bmediaplan (calc|solve|series|fit|prep|catalog|chec
 FIELDS = [
     ("osmoticum", "osmotica"), ("target", "target"), ("cells", "cells"), ("cells.tolerance", "isotonic band of the cells"),
     ("ratio", "osmotica"), ("hold", "osmotica"), ("link", "link (l: logit or probit)"),
-    ("series.first", "first level (ψ)"), ("series.last", "last level (→)"), ("series.step", "spacing of the levels"),
-    ("series.steps", "number of levels (n)"), ("series.stock", "stock solution"), ("batch_volume", "batch"),
+    ("series.first", "first ψ"), ("series.last", "last ψ"), ("series.step", "spacing of the levels"),
+    ("series.steps", "levels"), ("series.stock", "stock solution"), ("batch_volume", "batch"),
     ("stock_volume", "stock volume"), ("stock_factor", "stock strength"), ("form", "form on the shelf"),
     ("format", "sheet format"), ("trust", "which catalog entry to trust"),
+    ("force", "permission to replace the file"),
 ]
 
 
@@ -49,13 +50,13 @@ def test_every_field_the_command_line_maps_the_app_names_too():
 def test_a_screen_names_its_own_inputs():
     exc = MediaplanError("mannitol is named twice", field="osmoticum", hint="name two different osmotica")
     assert in_app_words(exc) == "osmotica: mannitol is named twice (name two different osmotica)"
-    assert in_app_words(exc, SERIES_LABELS).startswith("osmoticum (with): ")
+    assert in_app_words(exc, SERIES_LABELS).startswith("osmoticum: ")
 
 
 def test_the_input_that_would_settle_it_is_named_in_the_apps_words():
     exc = FitError("the counts do not say which osmoticum", field="counts.csv", asks_for="osmoticum")
     assert in_app_words(exc, SERIES_LABELS) == ("counts.csv: the counts do not say which osmoticum "
-                                                "(set it in the osmoticum (with) field)")
+                                                "(set it in the osmoticum field)")
     # nothing in the app settles trust: no flag, no field, the hint as the domain gave it
     conflict = MediaplanError("embedded component 'x' differs", file="p.toml", field="provenance.embedded.components.x",
                               hint="choose which entry of x is trusted", asks_for="trust")

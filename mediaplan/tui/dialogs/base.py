@@ -32,16 +32,14 @@ class BaseScreen(ModalScreen[tuple[str | None, float] | None]):
         with Vertical(classes="dialog", id="base-dialog") as box:
             box.border_title = "base formulation"
             options = [Option(Text("none: only the components I add"), id=NO_BASE)]
-            for m in sorted(self.catalog.media.values(), key=lambda m: m.id):
-                t = Text(f"{m.id:<9}", style="bold")
-                t.append(f" {m.name}")
-                options.append(Option(t, id=m.id))
+            for m in self._media():
+                options.append(Option(Text(m.name), id=m.id))
             yield OptionList(*options, id="base-list")
             yield Static("", id="base-info", markup=False)
             with Horizontal(classes="row"):
                 yield Label("strength ×", classes="field-label")
                 yield Input(f"{self.strength:g}", id="strength-input", validators=[StrengthValidator()],
-                            placeholder="1, 0.5, 1/2, 50 %")
+                            placeholder="e.g. 1 (full) or 1/2 (half)")
             yield FieldMessage("1 = full strength · 0.5 or 1/2 or 50 % = half", id="strength-message")
             with Horizontal(classes="buttons"):
                 yield Button("Apply", variant="primary", id="base-apply")
@@ -49,9 +47,13 @@ class BaseScreen(ModalScreen[tuple[str | None, float] | None]):
 
     def on_mount(self) -> None:
         ol = self.query_one(OptionList)
-        ids = [NO_BASE, *sorted(self.catalog.media)]
+        ids = [NO_BASE, *(m.id for m in self._media())]
         ol.highlighted = ids.index(self.base) if self.base in ids else 0
         ol.focus()
+
+    def _media(self):
+        """The base formulations by their display names."""
+        return sorted(self.catalog.media.values(), key=lambda m: m.name.lower())
 
     @on(OptionList.OptionHighlighted)
     def _info(self, event: OptionList.OptionHighlighted) -> None:

@@ -1,15 +1,19 @@
-"""Plan conditions: title, batch volume, temperature and the cell reference for tonicity."""
+"""Plan conditions: title, notes, batch volume, temperature and the cell reference for tonicity.
+
+The fields come in the order they are shown, the title first. Esc after a change asks before the typed
+text is dropped.
+"""
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 from textual import on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Grid, Horizontal, Vertical
 from textual.screen import ModalScreen
-from textual.widgets import Button, Input, Label
+from textual.widgets import Button, Input, Label, TextArea
 
 from mediaplan.tui.widgets.fields import (
     FieldMessage,
@@ -26,6 +30,17 @@ class Conditions:
     volume: str
     temperature: str
     cells: str  # "" = no cell reference
+    notes: str = ""
+
+
+def shown_temperature(text: str) -> str:
+    """A temperature as the dialog shows it: ``25 degC`` reads ``25 °C``."""
+    return text.replace("degC", "°C").replace("deg_C", "°C")
+
+
+def kept_temperature(typed: str, original: str) -> str:
+    """The text to keep: the plan's own text when the user left the shown form unchanged."""
+    return original if typed.strip() == shown_temperature(original).strip() else typed
 
 
 class ConditionsScreen(ModalScreen[Conditions | None]):
@@ -41,22 +56,27 @@ class ConditionsScreen(ModalScreen[Conditions | None]):
             box.border_title = "conditions"
             with Grid(id="conditions-grid"):
                 yield Label("title", classes="field-label")
-                yield Input(c.title, id="cond-title")
+                yield Input(c.title, id="cond-title", placeholder="a name for this medium")
                 yield Label("volume", classes="field-label")
-                yield Input(c.volume, id="cond-volume", validators=[VolumeValidator()], placeholder="1 L")
+                yield Input(c.volume, id="cond-volume", validators=[VolumeValidator()],
+                            placeholder="batch volume, e.g. 1 L")
                 yield Label("temperature", classes="field-label")
-                yield Input(c.temperature, id="cond-temperature", validators=[TemperatureValidator()],
-                            placeholder="25 degC")
+                yield Input(shown_temperature(c.temperature), id="cond-temperature",
+                            validators=[TemperatureValidator()], placeholder="e.g. 25 °C")
                 yield Label("cells", classes="field-label")
                 yield Input(c.cells, id="cond-cells", validators=[TargetValidator(allow_empty=True)],
-                            placeholder="sap: 450 mOsm/kg or -1.1 MPa (empty: none)")
-            yield FieldMessage("cells: the sap of the cells you culture, for tonicity", id="cond-message")
+                            placeholder="cells' sap, e.g. 450 mOsm/kg (empty: none)")
+            yield Label("notes (kept in the plan file)", classes="field-label", id="cond-notes-label")
+            yield TextArea(c.notes, id="cond-notes", soft_wrap=True, show_line_numbers=False,
+                           placeholder="what this medium is for, who made it, what to watch")
+            yield FieldMessage("cells: the sap of the cells you culture, for tonicity · Enter applies",
+                               id="cond-message")
             with Horizontal(classes="buttons"):
                 yield Button("Apply", variant="primary", id="cond-apply")
                 yield Button("Cancel", id="cond-cancel")
 
     def on_mount(self) -> None:
-        self.query_one("#cond-volume", Input).focus()
+        self.query_one("#cond-title", Input).focus()
 
     @on(Input.Changed)
     def _changed(self, event: Input.Changed) -> None:
@@ -66,17 +86,35 @@ class ConditionsScreen(ModalScreen[Conditions | None]):
     @on(Button.Pressed, "#cond-apply")
     def _apply(self) -> None:
         msg = self.query_one(FieldMessage)
-        values = {}
         for key in ("volume", "temperature", "cells"):
             inp = self.query_one(f"#cond-{key}", Input)
-            value = validated_value(inp, msg)
-            if value is None:
+            if validated_value(inp, msg) is None:
                 inp.focus()
                 return
-            values[key] = value
-        title = self.query_one("#cond-title", Input).value.strip() or "Untitled medium"
-        self.dismiss(Conditions(title, values["volume"], values["temperature"], values["cells"]))
+        self.dismiss(self._typed())
+
+    def _typed(self) -> Conditions:
+        """What the fields hold now (unchecked), in the plan's words."""
+        c = self.current
+        return Conditions(self.query_one("#cond-title", Input).value.strip() or "Untitled medium",
+                          self.query_one("#cond-volume", Input).value.strip(),
+                          kept_temperature(self.query_one("#cond-temperature", Input).value, c.temperature),
+                          self.query_one("#cond-cells", Input).value.strip(),
+                          self.query_one("#cond-notes", TextArea).text.strip())
 
     @on(Button.Pressed, "#cond-cancel")
     def action_cancel(self) -> None:
-        self.dismiss(None)
+        """Close; when something was typed, ask before dropping it."""
+        from mediaplan.tui.dialogs.files import ChoiceScreen
+
+        c = self.current
+        if self._typed() == replace(c, title=c.title.strip() or "Untitled medium", notes=c.notes.strip()):
+            self.dismiss(None)
+            return
+
+        def done(answer: str | None) -> None:
+            if answer == "discard":
+                self.dismiss(None)
+
+        self.app.push_screen(ChoiceScreen("drop the changes?", "The conditions have changes that are not applied.",
+                                          [("keep", "Keep editing"), ("discard", "Drop the changes")]), done)

@@ -16,30 +16,37 @@ from mediaplan.tui.widgets.fields import FieldMessage
 
 
 class PlanTree(DirectoryTree):
-    """Folders and plan files only (hidden files left out)."""
+    """Folders and files of one kind only (plan files unless told; hidden files left out)."""
+
+    suffix = ".toml"
 
     def filter_paths(self, paths: Iterable[Path]) -> Iterable[Path]:
-        return [p for p in paths if not p.name.startswith(".") and (p.is_dir() or p.suffix == ".toml")]
+        return [p for p in paths if not p.name.startswith(".") and (p.is_dir() or p.suffix == self.suffix)]
 
 
 class PathScreen(ModalScreen[Path | None]):
-    """Ask for a plan file path; ``must_exist`` for opening, otherwise a name to save to."""
+    """Ask for a file path (a plan unless ``suffix`` says otherwise); ``must_exist`` for opening, otherwise a
+    name to save to (the suffix is added when missing)."""
 
     BINDINGS = [Binding("escape", "cancel", "Cancel", id="path.cancel", tooltip="Close without choosing")]
 
-    def __init__(self, title: str, start: Path, suggestion: str = "", *, must_exist: bool) -> None:
+    def __init__(self, title: str, start: Path, suggestion: str = "", *, must_exist: bool,
+                 suffix: str = ".toml") -> None:
         super().__init__()
         self.title_text = title
         self.start = start
         self.suggestion = suggestion
         self.must_exist = must_exist
+        self.suffix = suffix
 
     def compose(self) -> ComposeResult:
         with Vertical(classes="dialog", id="path-dialog") as box:
             box.border_title = self.title_text
-            yield Input(self.suggestion, id="path-input", placeholder="path/to/plan.toml")
+            yield Input(self.suggestion, id="path-input", placeholder=f"a file name ending {self.suffix}")
             yield FieldMessage("Enter confirms · Tab to the folder tree · Esc cancels", id="path-message")
-            yield PlanTree(self.start, id="path-tree")
+            tree = PlanTree(self.start, id="path-tree")
+            tree.suffix = self.suffix
+            yield tree
 
     def on_mount(self) -> None:
         self.query_one(Input).focus()
@@ -78,8 +85,8 @@ class PathScreen(ModalScreen[Path | None]):
         if self.must_exist and not path.is_file():
             msg.update(f"✗ no file {path.name} there")
             return
-        if not self.must_exist and path.suffix != ".toml":
-            path = path.with_name(path.name + ".toml")
+        if not self.must_exist and path.suffix != self.suffix:
+            path = path.with_name(path.name + self.suffix)
         self.dismiss(path)
 
     def action_cancel(self) -> None:

@@ -13,16 +13,26 @@ from textual.widgets import Static
 from mediaplan.tui.actions import ACTIONS
 
 NOTES = (
-    "Rows marked + were added to the base, * replace a base amount, ! carry a caution (see notes).",
+    "Rows marked + were added to the base, * replace a base amount, - were removed from the base (struck "
+    "through; x restores them), ! carry a handling caution.",
+    "Notes: '!' marks a handling caution for a component; 'i' marks a note about how far the figures can be "
+    "trusted (plain words; i shows the models' own words).",
     "Osmolality: non-ideal (Pitzer, Norrish, Michel, mixed by ZSR) beside the van't Hoff ideal sum.",
     "ψs is the osmotic potential of the medium; tonicity needs the cells' sap (c, conditions).",
     "Amounts: 30 g/L, 1900 mg/L, 3 % w/v, 20 mM, 0.4 mol/L, 0.5 mol/kg (per kg water); 0 removes.",
     "Ctrl+P opens the command palette: every action, and 'add NAME' / 'amount of NAME' by typing.",
+    "The key bar shows the keys that fit the window; every key is listed here.",
 )
 
 
 def _keys(text: str) -> str:
-    return " ".join(k.replace("question_mark", "?").replace("delete", "Del") for k in text.split(","))
+    def one(k: str) -> str:
+        if len(k) == 1 and k.isupper():
+            return f"Shift+{k}"
+        k = k.replace("question_mark", "?").replace("delete", "Del")
+        return "Ctrl+" + k[5:].upper() if k.startswith("ctrl+") else k
+
+    return " ".join(one(k) for k in text.split(","))
 
 
 def bindings_table() -> Table:

@@ -10,13 +10,15 @@ from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.content import Content
 from textual.message import Message
 from textual.screen import Screen
-from textual.widgets import Footer, Static
+from textual.widgets import Static
 
 from mediaplan.medium.errors import MediaplanError
+from mediaplan.medium.evaluate import Evaluation
 from mediaplan.tui.actions import bindings
 from mediaplan.tui.session import Outcome
-from mediaplan.tui.widgets.recipe_table import RecipeTable
-from mediaplan.tui.widgets.relations import GroupChart, NotesPanel, RelationsPanel, figures
+from mediaplan.tui.widgets.keybar import KeyBar
+from mediaplan.tui.widgets.recipe_table import RecipeTable, fit_left
+from mediaplan.tui.widgets.relations import GroupChart, NotesPanel, RelationsPanel, comparison_text
 from mediaplan.tui.words import in_app_words
 
 
@@ -42,9 +44,11 @@ class MainScreen(Screen):
                 yield RelationsPanel(id="relations")
                 with VerticalScroll(id="notes-scroll"):
                     yield NotesPanel(id="notes")
-        yield Footer(compact=True)
+        yield KeyBar()
 
     _binding_state: tuple = ()
+    #: the evaluation of the plan as it stands (a preview never replaces it)
+    committed: Evaluation | None = None
 
     @property
     def session(self):
@@ -52,17 +56,21 @@ class MainScreen(Screen):
 
     def on_mount(self) -> None:
         self.query_one("#groups").border_title = "osmolality by group · mOsm/kg"
+        self.query_one(RelationsPanel).base_names = {m.id: m.name for m in self.session.catalog.media.values()}
         self.query_one(RecipeTable).focus()
         self.refresh_all()
+
+    def on_resize(self) -> None:
+        self._topbar()
 
     # ---- showing the plan -----------------------------------------------------------------
     def refresh_all(self, outcome: Outcome | None = None) -> Outcome:
         """Evaluate the plan and re-render every figure; returns what was shown."""
         outcome = outcome or self.session.evaluate()
-        ev = outcome.evaluation
-        self.query_one(RecipeTable).show(ev)
+        ev = self.committed = outcome.evaluation
+        self.query_one(RecipeTable).show(ev, self.session.removed_base_lines())
         self.query_one(RelationsPanel).show(ev, outcome.error)
-        self.query_one(NotesPanel).show(ev)
+        self.query_one(NotesPanel).show(ev, self.session.plan.notes)
         self.query_one(GroupChart).show(ev)
         self._topbar()
         self._detail()
@@ -71,9 +79,13 @@ class MainScreen(Screen):
         return outcome
 
     def _topbar(self) -> None:
+        """Name, file and title; the unsaved mark comes before the title so a narrow screen never cuts it."""
         s = self.session
-        content = Content.assemble((" mediaplan ", "reverse"), f" {s.label} · {s.plan.title}",
-                                   "  ● unsaved" if s.dirty else "").stylize_before("bold")
+        mark = " ● unsaved " if s.dirty else ""
+        room = max((self.size.width or 80) - 11 - len(mark) - 1, 8)
+        content = Content.assemble((" mediaplan ", "reverse"), (mark, "reverse $warning" if mark else ""),
+                                   fit_left(f" {s.label} · {s.plan.title}", room).rstrip()
+                                   ).stylize_before("bold")
         if content.plain != self._topbar_shown:
             self._topbar_shown = content.plain
             self.query_one("#topbar", Static).update(content, layout=False)  # one line, fixed size
@@ -96,24 +108,27 @@ class MainScreen(Screen):
     _detail_shape: tuple | None = None
 
     def _detail_content(self) -> Content:
-        cid = self.query_one(RecipeTable).selected_id
-        ev = self.query_one(RelationsPanel).evaluation
+        table = self.query_one(RecipeTable)
+        cid = table.selected_id
+        ev = self.committed
+        if table.selected_is_removed:
+            line = next(ln for ln in self.session.removed_base_lines() if ln.id == cid)
+            return Content.assemble((line.name, "bold"), f" · removed from the base ({line.amount} there)",
+                                    " · x restores it")
         c = ev.component(cid) if ev and cid else None
         if c is None:
             if ev and ev.components:
                 return Content("")
             return Content.styled("Empty recipe: press a to add a component, "
                                   "b to start from a base formulation.", "dim")
-        origin = {"base": "from the base", "user": "added", "override": "replaces the base amount"}[c.origin]
         return Content.assemble(
-            c.name, f" {c.formula}" if c.formula else "", f" · {origin}",
-            f" (confidence {c.confidence})" if c.confidence else "",
-            f" · {c.osmolality_mosmol_per_kg:.1f} mOsm/kg · {c.grams_per_litre:.4g} g/L",
+            c.name, f" {c.formula}" if c.formula else "", f" · {amount_words(c)}",
+            f" · {ORIGIN_WORDS[c.origin]}", f" (confidence {c.confidence})" if c.confidence else "",
+            f" · {c.osmolality_mosmol_per_kg:.1f} mOsm/kg",
             " · caution: see notes" if c.hazard else "").stylize_before("bold")
 
     def preview(self, component_id: str, text: str | None) -> str:
         """Show the figures the recipe would have with this amount (None restores). Returns a summary."""
-        base = self.query_one(RelationsPanel).evaluation
         if text is None:
             self.refresh_all()
             return ""
@@ -128,11 +143,7 @@ class MainScreen(Screen):
         self.post_message(self.Evaluated(outcome, preview=True))
         if ev is None:
             return outcome.error or ""
-        now, was = figures(ev), figures(base) if base else None
-        if was is None:
-            return f"osmolality {now['osmolality']} mOsm/kg · ψs {now['potential_mpa']} MPa"
-        return (f"osmolality {was['osmolality']} → {now['osmolality']} mOsm/kg · "
-                f"ψs {was['potential_mpa']} → {now['potential_mpa']} MPa")
+        return comparison_text(self.committed, ev)
 
     # ---- table events -------------------------------------------------------------------
     def _refresh_bindings_if_changed(self) -> None:
@@ -154,8 +165,10 @@ class MainScreen(Screen):
     # ---- actions ------------------------------------------------------------------------
     def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
         if action in ("prep_sheet", "projection"):
-            ev = self.query_one(RelationsPanel).evaluation
+            ev = self.committed
             return True if ev and ev.components else None
+        if action == "toggle_details":
+            return True if self.committed and self.committed.warnings else None
         if action in ("edit_amount", "remove_component"):
             return True if self.query_one(RecipeTable).selected_id else None
         if action == "undo":
@@ -177,7 +190,7 @@ class MainScreen(Screen):
     def action_add_component(self, query: str = "") -> None:
         from mediaplan.tui.dialogs.picker import PickerScreen
 
-        present = {c.id for c in (self.query_one(RelationsPanel).evaluation or _NoEv).components}
+        present = {c.id for c in (self.committed or _NoEv).components}
         self.app.push_screen(PickerScreen(self.session.catalog, present, query), self._picked)
 
     def _picked(self, component_id: str | None) -> None:
@@ -185,14 +198,19 @@ class MainScreen(Screen):
             return
         self.query_one(RecipeTable).select_id(component_id)
         amount = self.session.recipe.amount_of(component_id)
-        ev = self.query_one(RelationsPanel).evaluation
+        ev = self.committed
         current = ev.component(component_id) if ev else None
-        text = amount.text if amount else (current.amount if current else "")
+        text = amount.text if amount and not amount.is_zero else (current.amount if current else "")
         self.edit(component_id, text)
 
     def action_edit_amount(self) -> None:
-        cid = self.query_one(RecipeTable).selected_id
-        ev = self.query_one(RelationsPanel).evaluation
+        table = self.query_one(RecipeTable)
+        cid = table.selected_id
+        if table.selected_is_removed:
+            line = next(ln for ln in self.session.removed_base_lines() if ln.id == cid)
+            self.edit(cid, line.amount)
+            return
+        ev = self.committed
         c = ev.component(cid) if ev and cid else None
         if c is not None:
             self.edit(cid, c.amount)
@@ -213,9 +231,23 @@ class MainScreen(Screen):
         self.app.push_screen(AmountScreen(name, text, lambda t: self.preview(component_id, t)), done)
 
     def action_remove_component(self) -> None:
-        cid = self.query_one(RecipeTable).selected_id
-        if cid:
+        """Remove the selected component; on a removed base line, restore it."""
+        table = self.query_one(RecipeTable)
+        cid = table.selected_id
+        if not cid:
+            return
+        if table.selected_is_removed:
+            self._apply(self.session.restore, cid)
+            self.notify(f"{self.session.catalog.components[cid].name} restored from the base", markup=False)
+        else:
             self._apply(self.session.remove, cid)
+        table.select_id(cid)
+
+    def action_toggle_details(self) -> None:
+        """Notes on the figures: plain words, or the models' own words."""
+        detail = self.query_one(NotesPanel).toggle_detail(self.committed)
+        self.notify("notes on the figures: " + ("the models' own words" if detail else "plain words"),
+                    markup=False, timeout=2)
 
     def action_choose_base(self) -> None:
         from mediaplan.tui.dialogs.base import BaseScreen
@@ -235,11 +267,12 @@ class MainScreen(Screen):
         plan = self.session.plan
         reference = plan.cells.reference if plan.cells is not None else None
         current = Conditions(plan.title, plan.recipe.volume, plan.recipe.temperature,
-                             reference[1] if reference else "")
+                             reference[1] if reference else "", plan.notes)
 
         def done(c: Conditions | None) -> None:
             if c is not None:
-                self._apply(self.session.set_conditions, c.title, c.volume, c.temperature, c.cells)
+                self._apply(lambda: self.session.set_conditions(c.title, c.volume, c.temperature, c.cells,
+                                                                notes=c.notes))
 
         self.app.push_screen(ConditionsScreen(current), done)
 
@@ -283,7 +316,16 @@ class MainScreen(Screen):
 
 
 #: actions whose availability depends on the state of the plan
-_STATEFUL = ("edit_amount", "remove_component", "undo", "redo", "prep_sheet", "projection")
+_STATEFUL = ("edit_amount", "remove_component", "undo", "redo", "prep_sheet", "projection", "toggle_details")
+
+ORIGIN_WORDS = {"base": "from the base", "user": "added", "override": "replaces the base amount"}
+
+
+def amount_words(c) -> str:
+    """The row's amount as written, with its mass per litre when the amount is not one already."""
+    if c.amount.endswith("g/L") or c.grams_per_litre <= 0:
+        return c.amount
+    return f"{c.amount} = {c.grams_per_litre:.4g} g/L"
 
 
 class _NoEv:

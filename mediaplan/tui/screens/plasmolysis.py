@@ -4,6 +4,10 @@ mediaplan.tasks.plasmolysis designs (worker) and fits (worker); mediaplan.views.
 drawn here with textual-plotext. The screen works on the plan's series record (a SeriesRecord: the design
 as saved plus the counts entered per level) from the design to the fit; Keep stores it in the plan and,
 after a fit, the [cells] reference that the main screen's tonicity uses (Session.keep_series).
+
+Counts are never lost without a question: a new design over entered counts asks first, Esc with counts
+that are not kept asks first, an empty counts field leaves the level as it was, and ``u`` undoes the last
+design or counts entry. Below 120 columns the plot goes under the table.
 """
 
 from __future__ import annotations
@@ -14,10 +18,10 @@ from rich.text import Text
 from textual import on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
-from textual.containers import Horizontal, Vertical
+from textual.containers import Grid, ScrollableContainer, Vertical
 from textual.message import Message
 from textual.screen import ModalScreen, Screen
-from textual.widgets import DataTable, Footer, Input, Label, Static
+from textual.widgets import DataTable, Input, Label, Static
 from textual.worker import Worker, WorkerState
 
 from mediaplan.medium.errors import AmountError, MediaplanError
@@ -29,6 +33,7 @@ from mediaplan.tui.widgets.fields import (
     report,
     validated_value,
 )
+from mediaplan.tui.widgets.keybar import KeyBar
 from mediaplan.tui.words import SERIES_LABELS, in_app_words
 
 LEVEL_COLUMNS = (("level", "#"), ("psi", "ψ MPa"), ("osm", "mOsm/kg"), ("g", "g/batch"),
@@ -66,8 +71,29 @@ def fit_summary(fit) -> Text:
     t.append(f"\ncell sap ≈ {fit.osmolality_50_mosmol_per_kg:.0f} mOsm/kg · {fit.link} · {fit.n_levels} levels, "
              f"{fit.cells} cells")
     for w in fit.warnings:
-        t.append("\n△ " + w)
+        t.append("\ni ", style="bold")
+        t.append(w)
     return t
+
+
+def round_ticks(lo: float, hi: float, most: int = 5) -> list[float]:
+    """Round tick values [same unit as lo, hi] inside lo..hi, at most ``most`` of them."""
+    span = abs(hi - lo) or 1.0
+    lo, hi = min(lo, hi), max(lo, hi)
+    for step in (0.05, 0.1, 0.2, 0.25, 0.5, 1.0, 2.0, 5.0):
+        if span / step <= most - 1:
+            break
+    first = -(-lo // step) * step
+    ticks, v = [], first
+    while v <= hi + 1e-9:
+        ticks.append(round(v, 6) + 0.0)
+        v += step
+    return ticks
+
+
+def counted(series: SeriesRecord | None) -> int:
+    """Levels with counts entered."""
+    return sum(1 for lv in (series.levels or ()) if lv.counts) if series else 0
 
 
 def _num(value: float | None, fmt: str) -> str:
@@ -75,6 +101,8 @@ def _num(value: float | None, fmt: str) -> str:
 
 
 class CountsScreen(ModalScreen[list[tuple[int, int]] | None]):
+    """Dismisses with the counts typed, or None (cancelled, or Enter on an empty field: nothing changes)."""
+
     BINDINGS = [Binding("escape", "cancel", "Cancel", id="counts.cancel", tooltip="Keep the counts as they were")]
 
     def __init__(self, title: str, text: str) -> None:
@@ -88,7 +116,7 @@ class CountsScreen(ModalScreen[list[tuple[int, int]] | None]):
             yield Label(self.title_text, markup=False)
             yield Input(self.text, id="counts-input", validators=[ParsedValidator(parse_counts, allow_empty=True)],
                         placeholder="plasmolysed/total per sample, e.g. 12/50, 10/48")
-            yield FieldMessage("one plasmolysed/total per counted sample · Enter keeps · empty clears",
+            yield FieldMessage("one plasmolysed/total per counted sample · Enter keeps them · Esc cancels",
                                id="counts-message")
 
     @on(Input.Changed)
@@ -99,7 +127,8 @@ class CountsScreen(ModalScreen[list[tuple[int, int]] | None]):
     def _done(self, event: Input.Submitted) -> None:
         result = event.input.validate(event.value)
         if self.query_one(FieldMessage).show(result):
-            self.dismiss(parse_counts(event.value))
+            counts = parse_counts(event.value)
+            self.dismiss(counts or None)  # empty: the level keeps what it had (Del on a level clears it)
 
     def action_cancel(self) -> None:
         self.dismiss(None)
@@ -109,12 +138,16 @@ class SeriesScreen(Screen):
     """Full screen: design row, levels table with counts, fitted curve."""
 
     BINDINGS = [
-        Binding("escape", "close", "Back", id="series.close", tooltip="Back to the recipe"),
+        Binding("escape", "close", "Back", id="series.close", tooltip="Back to the recipe (asks if counts are not kept)"),
         Binding("d", "design", "Design", id="series.design", tooltip="Design the levels from the fields above"),
         Binding("f", "fit", "Fit", id="series.fit", tooltip="Fit the counts: 50 % point with its interval"),
         Binding("l", "toggle_link", "Logit/probit", id="series.link", tooltip="Switch the link function"),
         Binding("k", "keep", "Keep", id="series.keep", tooltip="Keep the series, counts and cell reference in the plan"),
+        Binding("u", "undo", "Undo", id="series.undo", tooltip="Undo the last design or counts entry"),
+        Binding("delete", "clear_level", "Clear level", id="series.clear", show=False,
+                tooltip="Clear the counts of the level under the cursor (u brings them back)"),
     ]
+    HORIZONTAL_BREAKPOINTS = [(0, "-narrow"), (120, "-wide")]
 
     @dataclass
     class Designed(Message):
@@ -131,33 +164,36 @@ class SeriesScreen(Screen):
         super().__init__()
         self.session = session
         self.series: SeriesRecord | None = session.plan.series
+        self.kept: SeriesRecord | None = session.plan.series  # what the plan holds
         self.fit = None
         self.link = "logit"
+        self._history: list[SeriesRecord | None] = []  # series before each design or counts entry
 
     def compose(self) -> ComposeResult:
         from textual_plotext import PlotextPlot
 
         s = self.series or SeriesRecord()
         yield Static(" plasmolysis series", id="topbar")
-        with Horizontal(id="series-controls"):
-            yield Label("ψ", classes="field-label")
-            yield Input("-0.4 MPa", id="series-from", validators=[TargetValidator()])
-            yield Label("→", classes="field-label")
-            yield Input("-1.8 MPa", id="series-to", validators=[TargetValidator()])
-            yield Label("n", classes="field-label")
-            yield Input(str(len(s.levels or ()) or 8), id="series-steps", type="integer")
-            yield Label("with", classes="field-label")
-            yield Input(s.osmoticum if s.osmoticum is not None else "mannitol", id="series-osmoticum")
-            yield Label("vol", classes="field-label")
-            yield Input(s.volume if s.volume is not None else "50 mL", id="series-volume")
+        with Grid(id="series-controls"):
+            yield Label("first ψ", classes="field-label")
+            yield Input("-0.4 MPa", id="series-from", validators=[TargetValidator()], compact=True)
+            yield Label("last ψ", classes="field-label")
+            yield Input("-1.8 MPa", id="series-to", validators=[TargetValidator()], compact=True)
+            yield Label("levels", classes="field-label")
+            yield Input(str(len(s.levels or ()) or 8), id="series-steps", type="integer", compact=True)
+            yield Label("osmoticum", classes="field-label")
+            yield Input(s.osmoticum if s.osmoticum is not None else "mannitol", id="series-osmoticum",
+                        compact=True)
+            yield Label("volume each", classes="field-label")
+            yield Input(s.volume if s.volume is not None else "50 mL", id="series-volume", compact=True)
         yield FieldMessage("d designs the levels · Enter on a level enters its counts · f fits · k keeps",
                            id="series-message")
-        with Horizontal(id="series-body"):
+        with ScrollableContainer(id="series-body"):
             yield DataTable(id="series-levels", cursor_type="row", zebra_stripes=True)
             with Vertical(id="series-right"):
-                yield PlotextPlot(id="series-plot")
                 yield Static("", id="series-fit")
-        yield Footer(compact=True)
+                yield PlotextPlot(id="series-plot")
+        yield KeyBar()
 
     def on_mount(self) -> None:
         table = self.query_one(DataTable)
@@ -195,9 +231,28 @@ class SeriesScreen(Screen):
         except ValueError as exc:
             report(msg, str(exc), "")
             return
+        if counted(self.series):
+            self._ask_redesign(lo.value, hi.value, steps)
+            return
         msg.update("designing…")
         self.design(lo.value, hi.value, steps, self.query_one("#series-osmoticum", Input).value.strip(),
                     self.query_one("#series-volume", Input).value.strip())
+
+    def _ask_redesign(self, lo: float, hi: float, steps: int) -> None:
+        from mediaplan.tui.dialogs.files import ChoiceScreen
+
+        n = counted(self.series)
+        osmoticum = self.query_one("#series-osmoticum", Input).value.strip()
+        volume = self.query_one("#series-volume", Input).value.strip()
+
+        def done(answer: str | None) -> None:
+            if answer == "redesign":
+                self.query_one(FieldMessage).update("designing… (u brings the counted levels back)")
+                self.design(lo, hi, steps, osmoticum, volume)
+
+        self.app.push_screen(ChoiceScreen(
+            "design new levels?", f"{n} level{'s' if n != 1 else ''} hold counts. New levels start without counts "
+            "(u brings these back).", [("cancel", "Keep these levels"), ("redesign", "Design new levels")]), done)
 
     @work(thread=True, exclusive=True, exit_on_error=False, group="design")
     def design(self, lo: float, hi: float, steps: int, osmoticum: str, volume: str) -> None:
@@ -222,8 +277,17 @@ class SeriesScreen(Screen):
         if not report(self.query_one(FieldMessage), event.error,
                       "Enter on a level enters its counts (plasmolysed/total) · f fits · k keeps"):
             return
-        self.series, self.fit = event.series, None
+        self._change(event.series)
+        self.fit = None
+        self.query_one("#series-fit", Static).update("")
+
+    def _change(self, series: SeriesRecord | None) -> None:
+        """Replace the series (undoable with u) and show its levels."""
+        self._history.append(self.series)
+        del self._history[:-50]
+        self.series = series
         self._show_levels()
+        self.refresh_bindings()
 
     # ---- counts ---------------------------------------------------------------------------
     @on(DataTable.RowSelected)
@@ -233,8 +297,7 @@ class SeriesScreen(Screen):
 
         def done(counts) -> None:
             if counts is not None:
-                self.series = self.series.with_counts(i, counts)
-                self._show_levels()
+                self._change(self.series.with_counts(i, counts))
                 self.query_one(DataTable).move_cursor(row=min(i + 1, len(self.series.levels) - 1))
 
         number = lv.level if lv.level is not None else i + 1
@@ -265,8 +328,15 @@ class SeriesScreen(Screen):
         self.fit = event.fit
         self.query_one("#series-fit", Static).update(fit_summary(event.fit))
         self._plot(event.points)
+        self.query_one("#series-plot").scroll_visible(animate=False)  # narrow: the curve comes into view
+
+    @on(DataTable.RowHighlighted)
+    def _row_in_view(self, event: DataTable.RowHighlighted) -> None:
+        """Narrow: the levels come back into view when the cursor moves on them."""
+        event.data_table.scroll_visible(animate=False)
 
     def _plot(self, cp) -> None:
+        """The fitted curve with its band, the observed proportions (o) and the 50 % point; round ticks."""
         from textual_plotext import PlotextPlot
 
         widget = self.query_one(PlotextPlot)
@@ -278,6 +348,10 @@ class SeriesScreen(Screen):
         plt.plot(list(cp.x_mpa), list(cp.fitted), marker="braille", color="green")
         plt.scatter(list(cp.observed_x_mpa), list(cp.observed), marker="o", color="orange")  # proportions
         plt.vline(cp.water_potential_50_mpa)
+        xs = list(cp.x_mpa) + list(cp.observed_x_mpa)
+        ticks = round_ticks(min(xs), max(xs))
+        plt.xticks(ticks, [f"{t:g}" for t in ticks])
+        plt.yticks([0, 0.5, 1], ["0", "50%", "100%"])
         plt.xlabel("ψ MPa")
         plt.ylabel("plasmolysed")
         plt.ylim(0, 1)
@@ -295,16 +369,62 @@ class SeriesScreen(Screen):
             self.query_one(FieldMessage).update(f"✗ failed: {event.worker.error}")
 
     # ---- keep and close -------------------------------------------------------------------
-    def action_keep(self) -> None:
+    def action_keep(self) -> bool:
+        """Keep the series (and a fit's cell reference) in the plan; returns whether it was kept."""
         if not self.series:
-            return
+            return False
         try:
             self.session.keep_series(self.series, self.fit)
         except MediaplanError as exc:
             self.notify(in_app_words(exc, SERIES_LABELS), title="not kept", severity="error", markup=False)
-            return
+            return False
+        self.kept = self.series
         self.app.schedule_autosave()
         self.notify("series kept in the plan" + (" · cell reference set" if self.fit else ""), markup=False)
+        return True
+
+    @property
+    def unkept_counts(self) -> bool:
+        """Counts are on screen that the plan does not hold."""
+        return bool(counted(self.series)) and self.series != self.kept
+
+    def action_undo(self) -> None:
+        if not self._history:
+            self.notify("nothing to undo here", markup=False, timeout=2)
+            return
+        self.series = self._history.pop()
+        self.fit = None
+        self.query_one("#series-fit", Static).update("")
+        self._show_levels()
+        self.refresh_bindings()
+        self.query_one(FieldMessage).update("undone · d designs · Enter on a level enters its counts · f fits")
+
+    def action_clear_level(self) -> None:
+        table = self.query_one(DataTable)
+        if not self.series or not self.series.levels or not table.row_count:
+            return
+        i = table.cursor_row
+        if self.series.levels[i].counts:
+            self._change(self.series.with_counts(i, []))
+            self.query_one(FieldMessage).update(f"counts of level {i + 1} cleared · u brings them back")
+            table.move_cursor(row=i)
 
     def action_close(self) -> None:
-        self.dismiss()
+        """Back to the recipe; counts that are not kept are not dropped without a question."""
+        from mediaplan.tui.dialogs.files import ChoiceScreen
+
+        if not self.unkept_counts:
+            self.dismiss()
+            return
+
+        def done(answer: str | None) -> None:
+            if answer == "keep":
+                if self.action_keep():
+                    self.dismiss()
+            elif answer == "leave":
+                self.dismiss()
+
+        n = counted(self.series)
+        self.app.push_screen(ChoiceScreen(
+            "counts not kept", f"{n} level{'s' if n != 1 else ''} hold counts that the plan does not keep yet.",
+            [("keep", "Keep in the plan"), ("leave", "Leave without them"), ("stay", "Stay here")]), done)

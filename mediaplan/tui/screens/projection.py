@@ -19,10 +19,11 @@ from mediaplan.tasks.projection import ProjectionRecord
 from mediaplan.tui.widgets.fields import FieldMessage, report
 from mediaplan.tui.words import in_app_words
 
-#: the inputs: key in ProjectionRecord, label, placeholder
-FIELDS = (("autoclave_hydrolysis", "sucrose hydrolysed", "10 %"),
-          ("water_loss_per_week", "water lost per week", "2 %"),
-          ("weeks", "weeks of culture", "4"))
+#: the inputs: key in ProjectionRecord, label, placeholder (it says what an empty field means, so it is
+#: never read as a value typed in)
+FIELDS = (("autoclave_hydrolysis", "sucrose hydrolysed", "empty: 10 % (typical)"),
+          ("water_loss_per_week", "water lost per week", "empty: none · e.g. 2 %"),
+          ("weeks", "weeks of culture", "empty: 4 weeks"))
 
 
 def stages_table(projection) -> Table:
@@ -59,12 +60,12 @@ class ProjectionScreen(ModalScreen[ProjectionRecord | None]):
     def compose(self) -> ComposeResult:
         current = self.session.plan.projection or ProjectionRecord()
         with Vertical(classes="dialog", id="projection-dialog") as box:
-            box.border_title = "as made · after autoclaving · after culture"
+            box.border_title = "after autoclaving and weeks of culture"
             with Grid(id="projection-grid"):
                 for key, label, placeholder in FIELDS:
                     yield Label(label, classes="field-label")
                     yield Input(field_text(key, getattr(current, key)), id=f"proj-{key}", placeholder=placeholder)
-            yield FieldMessage("fractions as 10 % or 0.1; empty hydrolysis = 10 %", id="proj-message")
+            yield FieldMessage("fractions as 10 % or 0.1", id="proj-message")
             yield Static("", id="proj-stages")
             with Horizontal(classes="buttons"):
                 yield Button("Keep in plan", variant="primary", id="proj-keep")
@@ -90,7 +91,7 @@ class ProjectionScreen(ModalScreen[ProjectionRecord | None]):
             self.query_one("#proj-keep", Button).disabled = True
             return
         self.record = ProjectionRecord.of(settings)
-        report(msg, None, " · ".join(proj.notes) or "fractions as 10 % or 0.1; empty hydrolysis = 10 %")
+        report(msg, None, " · ".join(proj.notes) or "fractions as 10 % or 0.1")
         self.query_one("#proj-keep", Button).disabled = False
         self.query_one("#proj-stages", Static).update(stages_table(proj))
 

@@ -86,11 +86,11 @@ class TargetScreen(ModalScreen[Applied | None]):
                 yield Label("target", classes="field-label")
                 yield Input(t.value if t.value is not None else "-0.8 MPa", id="target-value",
                             validators=[ParsedValidator(lambda s: parse_solve_target(s))],
-                            placeholder="-0.8 MPa, 450 mOsm/kg, isotonic+10%")
+                            placeholder="e.g. -0.8 MPa, 450 mOsm/kg or isotonic")
                 yield Label("osmotica", classes="field-label")
                 yield Input(", ".join(t.osmotica if t.osmotica is not None else ("mannitol",)), id="target-osmotica",
                             validators=[ParsedValidator(lambda s: osmotica_ids(catalog, s))],
-                            placeholder="mannitol  or  mannitol, sucrose")
+                            placeholder="one or two, e.g. mannitol")
             yield FieldMessage("Enter solves · one or two osmotica (two: added in equal moles)", id="target-message")
             yield Static("", id="target-result")
             with Horizontal(classes="buttons"):

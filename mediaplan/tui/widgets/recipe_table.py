@@ -22,12 +22,17 @@ from textual.scroll_view import ScrollView
 from textual.strip import Strip
 
 from mediaplan.medium.evaluate import ComponentResult, Evaluation
+from mediaplan.tui.session import RemovedLine
 
 #: column keys and headings
 COLUMNS = (("name", "component"), ("amount", "amount"), ("molality", "mmol/kg"), ("share", "share"))
 BAR_WIDTH = 4
 #: widths of the columns other than the name [characters]
 FIXED_WIDTHS = {"amount": 12, "molality": 8, "share": 7 + BAR_WIDTH}
+#: when the table is narrower than this [characters], it leaves out the molality and the bar, so that
+#: names stay readable (the detail line under the table gives the figures of the selected row)
+COMPACT_BELOW = 60
+COMPACT_WIDTHS = {"amount": 12, "share": 7}
 _ORIGIN_MARK = {"user": "+", "override": "*", "base": " "}
 #: strips kept per table before the cache is emptied (rows x parity x cursor, many edits' worth)
 _CACHE_LIMIT = 2048
@@ -70,21 +75,34 @@ class RowText(NamedTuple):
     numbers: str  # molality and share percent
     bar: str
     emphasis: bool  # amounts the user set are bold
+    removed: bool = False  # a base line the user removed: struck through, restorable
 
 
-def row_text(c: ComponentResult, name_width: int = 30) -> RowText:
-    """The cells of one component row, each padded to its column width."""
+def row_text(c: ComponentResult, name_width: int = 30, *, compact: bool = False) -> RowText:
+    """The cells of one component row, each padded to its column width (compact: no molality, no bar)."""
     mark = _ORIGIN_MARK.get(c.origin, " ") + ("!" if c.hazard else " ")
     pct = 100 * c.share
     share = f" {pct:4.1f}% " if round(pct, 1) < 100 else "  100% "  # always 7 cells
+    amount = fit_right(" " + c.amount, FIXED_WIDTHS["amount"])
+    if compact:
+        return RowText(fit_left(mark + c.name, name_width), amount, share, "", c.origin != "base")
     numbers = fit_right(" " + molality_text(c.molality_mmol_per_kg), FIXED_WIDTHS["molality"]) + share
-    return RowText(fit_left(mark + c.name, name_width), fit_right(" " + c.amount, FIXED_WIDTHS["amount"]),
-                   numbers, share_bar(c.share), c.origin != "base")
+    return RowText(fit_left(mark + c.name, name_width), amount, numbers, share_bar(c.share), c.origin != "base")
 
 
-def header_text(name_width: int) -> str:
+def removed_row_text(line: RemovedLine, name_width: int = 30, *, compact: bool = False) -> RowText:
+    """A removed base line: marked ``-`` (not by the strike alone), its base amount, and the word removed."""
+    widths = COMPACT_WIDTHS if compact else FIXED_WIDTHS
+    rest = sum(widths.values()) - widths["amount"]
+    numbers = fit_right("removed" if compact else "removed ", rest - (0 if compact else BAR_WIDTH))
+    return RowText(fit_left("- " + line.name, name_width), fit_right(" " + line.amount, widths["amount"]),
+                   numbers, "" if compact else " " * BAR_WIDTH, False, removed=True)
+
+
+def header_text(name_width: int, *, compact: bool = False) -> str:
+    widths = COMPACT_WIDTHS if compact else FIXED_WIDTHS
     return fit_left("  " + COLUMNS[0][1], name_width) + "".join(
-        fit_right(" " + label, FIXED_WIDTHS[key]) for key, label in COLUMNS[1:])
+        fit_right(" " + label, widths[key]) for key, label in COLUMNS[1:] if key in widths)
 
 
 class RecipeTable(ScrollView, can_focus=True):
@@ -176,8 +194,10 @@ class RecipeTable(ScrollView, can_focus=True):
         self._ids: list[str] = []
         self._rows: list[RowText] = []
         self._evaluation: Evaluation | None = None
+        self._removed: list[RemovedLine] = []
         self.cursor_row = 0
         self.name_width = 30
+        self.compact = False
         self._highlighted: tuple[int, str | None] = (0, None)  # last announced (row, id)
         self._strips: dict[tuple, Strip] = {}
         self._strip_basis: tuple = ()  # (width, styles) the cached strips were made for
@@ -191,12 +211,19 @@ class RecipeTable(ScrollView, can_focus=True):
             return self._ids[self.cursor_row]
         return None
 
-    def show(self, ev: Evaluation | None) -> None:
-        """Show an evaluation; only rows whose text changed are repainted."""
+    def show(self, ev: Evaluation | None, removed: list[RemovedLine] | None = None) -> None:
+        """Show an evaluation (and the base lines the plan removed); only rows whose text changed are
+        repainted."""
         self._evaluation = ev
+        if removed is not None:
+            self._removed = list(removed)
         comps = ev.components if ev else []
         ids = [c.id for c in comps]
-        rows = [row_text(c, self.name_width) for c in comps]
+        rows = [row_text(c, self.name_width, compact=self.compact) for c in comps]
+        for line in self._removed:
+            at = ids.index(line.after) + 1 if line.after in ids else 0
+            ids.insert(at, line.id)
+            rows.insert(at, removed_row_text(line, self.name_width, compact=self.compact))
         if ids == self._ids:
             changed = [i for i, (old, new) in enumerate(zip(self._rows, rows, strict=True)) if old != new]
             self._rows = rows
@@ -205,10 +232,16 @@ class RecipeTable(ScrollView, can_focus=True):
             return
         keep = self.selected_id
         self._ids, self._rows = ids, rows
-        self.virtual_size = Size(self.name_width + sum(FIXED_WIDTHS.values()), len(rows) + 1)
+        widths = COMPACT_WIDTHS if self.compact else FIXED_WIDTHS
+        self.virtual_size = Size(self.name_width + sum(widths.values()), len(rows) + 1)
         self.cursor_row = ids.index(keep) if keep in ids else min(self.cursor_row, max(len(ids) - 1, 0))
         self.refresh()
         self._cursor_moved()
+
+    @property
+    def selected_is_removed(self) -> bool:
+        """The cursor is on a base line the plan removed."""
+        return any(line.id == self.selected_id for line in self._removed)
 
     def select_id(self, component_id: str) -> None:
         if component_id in self._ids:
@@ -245,10 +278,11 @@ class RecipeTable(ScrollView, can_focus=True):
 
     def on_resize(self) -> None:
         """Give the name column whatever the other columns leave (no sideways scrolling)."""
-        rest = sum(FIXED_WIDTHS.values()) + 1  # the last column is kept for the vertical scrollbar
+        compact = self.size.width < COMPACT_BELOW
+        rest = sum((COMPACT_WIDTHS if compact else FIXED_WIDTHS).values()) + 1  # 1: the vertical scrollbar
         width = max(12, self.size.width - rest)
-        if width != self.name_width:
-            self.name_width = width
+        if (width, compact) != (self.name_width, self.compact):
+            self.name_width, self.compact = width, compact
             self._ids = []  # re-cut every name at the new width
             self.show(self._evaluation)
         self._scroll_to_cursor()
@@ -317,7 +351,7 @@ class RecipeTable(ScrollView, can_focus=True):
     def render_line(self, y: int) -> Strip:
         width = self.size.width
         if y == 0:
-            return self._strip(("header", self.name_width), width)
+            return self._strip(("header", self.name_width, self.compact), width)
         i = y - 1 + round(self.scroll_y)
         if i >= len(self._rows):
             return Strip.blank(width, self.rich_style)
@@ -334,10 +368,16 @@ class RecipeTable(ScrollView, can_focus=True):
     def _build(self, key: tuple, width: int) -> Strip:
         if key[0] == "header":
             style = self._header_style
-            return Strip([Segment(header_text(self.name_width), style)]).adjust_cell_length(width, style)
+            return Strip([Segment(header_text(self.name_width, compact=self.compact), style)]
+                         ).adjust_cell_length(width, style)
         row, parity, on = key
         plain, bold = self._styles[parity, on]
         strong = bold if row.emphasis else plain
+        if row.removed:
+            struck = plain + Style(strike=True, dim=True)
+            segments = [Segment(row.name[:2], plain), Segment(row.name[2:], struck), Segment(row.amount, struck),
+                        Segment(row.numbers, plain + Style(italic=True)), Segment(row.bar, plain)]
+            return Strip(segments).adjust_cell_length(width, plain)
         segments = [Segment(row.name, strong), Segment(row.amount, strong), Segment(row.numbers, plain),
                     Segment(row.bar, bold)]
         return Strip(segments).adjust_cell_length(width, plain)

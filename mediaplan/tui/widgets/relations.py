@@ -5,6 +5,8 @@ Each widget formats an Evaluation it is given; none computes anything.
 
 from __future__ import annotations
 
+import re
+
 from rich.console import Group
 from rich.text import Text
 from textual.content import Content
@@ -39,6 +41,25 @@ def figures(ev: Evaluation) -> dict[str, str]:
     return out
 
 
+def comparison_text(was: Evaluation | None, now: Evaluation) -> str:
+    """The plan as it stands beside the candidate: osmolality, potential and tonicity, one line each."""
+    b = figures(now)
+    if was is None:
+        return f"with this amount: osmolality {b['osmolality']} mOsm/kg · ψs {b['potential_mpa']} MPa"
+    a = figures(was)
+    rows = [("osmolality", a["osmolality"], b["osmolality"], "mOsm/kg"),
+            ("ψs", a["potential_mpa"], b["potential_mpa"], "MPa")]
+    if was.tonicity or now.tonicity:
+        def tone(f):
+            return f"{f['tonicity']} {f['tonicity_ratio']}×" if "tonicity" in f else "–"
+
+        rows.append(("tonicity", tone(a), tone(b), ""))
+    width = max(len(r[1]) for r in rows)
+    lines = ["now → with this amount"]
+    lines += [f"{label:<10} {x:>{width}} → {y} {unit}".rstrip() for label, x, y, unit in rows]
+    return "\n".join(lines)
+
+
 class RelationsPanel(Static):
     """Osmolality (non-ideal beside van't Hoff), a_w, potential in MPa and bar, freezing point, tonicity.
 
@@ -52,6 +73,8 @@ class RelationsPanel(Static):
         self.error: str | None = None
         self.preview = False
         self._shape: tuple = ()
+        #: display names of the base formulations (id -> name), set by the screen from the catalog
+        self.base_names: dict[str, str] = {}
 
     def show(self, ev: Evaluation | None, error: str | None = None, *, preview: bool = False) -> None:
         self.evaluation, self.error, self.preview = ev, error, preview
@@ -103,8 +126,10 @@ class RelationsPanel(Static):
             lines.append(Content.styled(t["water_flow"], "italic"))
         else:
             lines.append(Content.styled("tonicity: no cells set (c)", "dim"))
-        meta = f"{ev.temperature_c:.1f} °C · {ev.volume_l:g} L"
-        lines.append(Content.styled(meta + (f" · {ev.base} × {ev.strength:g}" if ev.base else ""), "dim"))
+        lines.append(Content.styled(f"{ev.temperature_c:.4g} °C · {ev.volume_l:g} L batch", "dim"))
+        if ev.base:
+            name = self.base_names.get(ev.base, ev.base)
+            lines.append(Content.styled(fit_left(f"{strength_words(ev.strength)} {name}", width), "dim"))
         if self.error:
             lines.append(Content.styled(self.error, "bold"))
         return Content("\n").join(lines)
@@ -115,36 +140,152 @@ def first_sentence(text: str) -> str:
     return head + ("." if dot else "")
 
 
+def caution_words(text: str, detail: bool) -> str:
+    """A hazard caution: its first sentence in detail, else what the hazard is (up to the first colon or
+    semicolon)."""
+    sentence = first_sentence(text)
+    if detail:
+        return sentence
+    return re.split(r"[:;]", sentence, maxsplit=1)[0].strip()
+
+
+def strength_words(strength: float) -> str:
+    """``1`` -> "full-strength", ``0.5`` -> "half-strength", ``0.75`` -> "0.75 ×"."""
+    words = {1.0: "full-strength", 0.5: "half-strength", 0.25: "quarter-strength", 2.0: "double-strength"}
+    return words.get(float(strength), f"{strength:g} ×")
+
+
+def plural(n: int, word: str, words: str | None = None) -> str:
+    """``1 caution``, ``2 cautions``."""
+    return f"{n} {word if n == 1 else (words or word + 's')}"
+
+
+#: notes on the figures in plain words, by the engine's warning code; ``{n}`` is the count the message starts
+#: with, ``{who}`` the component it names. Codes not listed are shown as the engine words them.
+PLAIN_NOTES: dict[str, str] = {
+    "pitzer_default": "{n} pairs of ions in this medium have no measured data; a general estimate is used for "
+                      "them, so the figures are a little less certain.",
+    "ideal_fallback": "Some solutes have no published model and are counted as ideal.",
+    "peg_mixture": "PEG with other solutes: the real water potential is lower than shown. Measure it.",
+    "validity": "{who} is beyond the range its model was measured for; its figure is an extrapolation.",
+    "reflection_unknown": "Tonicity counts some solutes as staying outside the cells; any that enter the cells "
+                          "make the medium less hypertonic than shown.",
+    "density_estimate": "The volume taken up by some large additions is estimated.",
+    "temperature": "Some salt data are 25 °C values used at this temperature.",
+}
+#: codes of notes a technician can act on (shown first); the model's limits follow
+ACTIONABLE = ("solubility", "precipitation", "unverified", "peg_mixture", "validity")
+
+MARK_CAUTION = "!"  # same mark as a hazardous row in the recipe table
+MARK_NOTE = "i"
+
+
+def with_names(text: str, names: dict[str, str]) -> str:
+    """Component ids in an engine message replaced by the components' names."""
+    for cid, name in names.items():
+        if "_" in cid or cid.isalpha():
+            text = re.sub(rf"(?<![\w-]){re.escape(cid)}(?![\w-])", name, text)
+    return text
+
+
+def note_text(w, names: dict[str, str], detail: bool) -> str:
+    """One note on the figures: plain words, or the engine's own words (with names for ids) in detail."""
+    full = with_names(w.message, names)
+    plain = PLAIN_NOTES.get(w.code)
+    if detail or plain is None:
+        return full
+    count = re.match(r"\d+", w.message)
+    who = names.get(w.component or "", w.component or "A solute")
+    return plain.format(n=count.group(0) if count else "Some", who=who)
+
+
 class NotesPanel(Static):
-    """Warnings from the models and cautions for hazardous components, in words."""
+    """The plan's own notes, hazard cautions (marked !) and notes on the figures (marked i), in that order.
+
+    The notes on the figures are in plain words, the actionable ones first; ``detail`` shows the models'
+    own words instead.
+    """
 
     def __init__(self, **kw) -> None:
         super().__init__("", **kw)
         self.count = 0
+        self.detail = False
+        self.plan_notes = ""
+        self.plain = ""  # the notes as plain text (what the panel shows, unwrapped)
         self._shown: tuple = (None,)
 
-    def show(self, ev: Evaluation | None) -> None:
+    def show(self, ev: Evaluation | None, plan_notes: str | None = None) -> None:
+        if plan_notes is not None:
+            self.plan_notes = plan_notes
         lines: list[Text] = []
+        if self.plan_notes.strip():
+            lines.append(Text("plan notes", style="bold underline"))
+            lines.append(Text(self.plan_notes.strip(), style="italic"))
+        n_w = len(ev.warnings) if ev else 0
+        n_c = len(ev.cautions) if ev else 0
         if ev is not None:
-            for w in ev.warnings:
-                lines.append(Text("△ " + w.message))
             names = {c.id: c.name for c in ev.components}
+            check = [w for w in ev.warnings if w.code in ACTIONABLE]
+            limits = [w for w in ev.warnings if w.code not in ACTIONABLE]
+            more = "" if self.detail else " (i: details)"
+            lines += self._section(f"{MARK_NOTE} to check", check, names)
+            if ev.cautions:
+                lines.append(Text(f"{MARK_CAUTION} handling", style="bold underline"))
             for c in ev.cautions:
-                t = Text("⚠ ", style="bold")
+                t = Text()
+                t.append(MARK_CAUTION, style="bold reverse")
+                t.append(" ")
                 t.append(names.get(c["component"], c["component"]), style="bold")
-                t.append(": " + first_sentence(c["caution"]))
+                t.append(": " + caution_words(c["caution"], self.detail))
                 lines.append(t)
+            lines += self._section(f"{MARK_NOTE} how sure the figures are" + more, limits, names)
         key = tuple(t.plain for t in lines)
         if key == self._shown:
             return
         self._shown = key
-        self.count = len(lines)
-        n_w = len(ev.warnings) if ev else 0
-        n_c = len(ev.cautions) if ev else 0
-        title = f"notes · {n_w} warnings · {n_c} cautions"
+        self.count = n_w + n_c
+        self.plain = "\n".join(key)
+        title = f"{plural(n_c, 'caution')} · {plural(n_w, 'note')}" if n_w or n_c else "notes"
         if self.border_title != title:
             self.border_title = title
-        self.update(Group(*lines) if lines else Text("no warnings, no hazardous components", style="dim"))
+        self.update(Group(*lines) if lines else Text("no cautions, nothing to note about the figures",
+                                                     style="dim"))
+
+    def _section(self, heading: str, warnings: list, names: dict[str, str]) -> list[Text]:
+        if not warnings:
+            return []
+        out = [Text(heading, style="bold underline")]
+        for w in warnings:
+            t = Text()
+            t.append(MARK_NOTE, style="bold")
+            t.append(" " + note_text(w, names, self.detail))
+            out.append(t)
+        return out
+
+    def toggle_detail(self, ev: Evaluation | None) -> bool:
+        """Switch between plain words and the models' own words; returns the new state."""
+        self.detail = not self.detail
+        self.show(ev)
+        return self.detail
+
+
+#: the chart's groups, by the catalog's component group: growth regulators, vitamins and amino acids each
+#: have their own row (the evaluation's own groups put them together as organics)
+APP_GROUPS: dict[str, str] = {
+    "macro": "macro salts", "salt": "macro salts", "micro": "micro salts", "iron": "iron chelate",
+    "carbon": "carbon source", "osmoticum": "osmoticum", "cryoprotectant": "osmoticum", "organic": "other organics",
+    "vitamin": "vitamins", "amino_acid": "amino acids", "growth_regulator": "growth regulators",
+    "buffer": "buffer & pH", "ph": "buffer & pH", "gelling": "gelling agent",
+}
+
+
+def app_groups(ev: Evaluation) -> dict[str, float]:
+    """Osmolality by the chart's groups [mOsm/kg]: the components' shares summed per group."""
+    out: dict[str, float] = {}
+    for c in ev.components:
+        label = APP_GROUPS.get(c.group, c.group.replace("_", " "))
+        out[label] = out.get(label, 0.0) + c.osmolality_mosmol_per_kg
+    return out
 
 
 def chart_rows(groups: dict[str, float], small: float = 0.01) -> list[tuple[str, float]]:
@@ -159,7 +300,7 @@ def chart_rows(groups: dict[str, float], small: float = 0.01) -> list[tuple[str,
 
 
 class GroupChart(Static):
-    """Osmolality by group (macro salts, micro salts, carbon source, osmoticum, organics...)."""
+    """Osmolality by group (macro salts, micro salts, carbon source, osmoticum, growth regulators...)."""
 
     def __init__(self, **kw) -> None:
         super().__init__("", **kw)
@@ -167,7 +308,7 @@ class GroupChart(Static):
 
     def show(self, ev: Evaluation | None) -> None:
         rows_before = len(chart_rows(self.groups)) if self.groups else 0
-        self.groups = dict(ev.groups) if ev else {}
+        self.groups = app_groups(ev) if ev else {}
         rows_now = len(chart_rows(self.groups)) if self.groups else 0
         self.update(self._chart_content(), layout=rows_now != rows_before)
 
