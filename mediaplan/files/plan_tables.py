@@ -13,6 +13,10 @@ and tables where those belong. Anything else raises PlanFileError (CatalogError 
 as before) naming the file, the line and the field. What a value means (its unit, its range, whole counts)
 is checked where it is used, exactly as for a value typed on the command line.
 
+Read strictly (a plan of a format version this release writes), a key or table a table does not know is
+an error naming it, its line and the nearest known name (:func:`unknown_name`). Read leniently (a plan of a
+newer minor version), such keys are kept in the record's ``extra`` and listed in ``kept``.
+
 Writing gives each table back in the form it was read: values keep their TOML type (``4`` stays ``4``,
 ``"10 %"`` stays text), keys keep their order (the :class:`Layout` of each table, which the Plan keeps
 beside its records), unknown keys are kept, and counts written as one bare number stay one number. Keys a
@@ -22,8 +26,9 @@ record gains are written after the others, in the order this module's writers gi
 from __future__ import annotations
 
 import datetime
+import difflib
 import re
-from collections.abc import Callable, Mapping
+from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass
 from typing import Any, ClassVar
 
@@ -121,6 +126,108 @@ def line_of(text: str, key: str | None = None, table: str | None = None, nth: in
     return header + 1 if header is not None else None
 
 
+def locate(text: str, path: tuple[str, ...]) -> int | None:
+    """Best guess at the line [1-based] where the table or key ``path`` (``("medium", "component")``) is
+    written: its header (``[medium.component]``, ``[[...]]``, or the first header below it), or its key in
+    the table above it, written plainly (``component =``) or dotted (``component.sucrose =``)."""
+    if not path:
+        return None
+    lines = text.splitlines()
+    dotted = r"\s*\.\s*".join(rf"[\"']?{re.escape(p)}[\"']?" for p in path)
+    header = re.compile(rf"^\s*\[\[?\s*{dotted}\s*(\]|\.)")
+    for i, ln in enumerate(lines):
+        if header.match(ln):
+            return i + 1
+    table, key = ".".join(path[:-1]), path[-1]
+    start, stop = 0, len(lines)
+    if table:
+        found = line_of(text, None, table)
+        if found is None:
+            found = locate(text, path[:-1])
+        if found is None:
+            return None
+        start = found
+        stop = next((j for j in range(start, len(lines)) if _HEADER.match(lines[j])), len(lines))
+    else:
+        stop = next((j for j in range(len(lines)) if _HEADER.match(lines[j])), len(lines))
+    pat = re.compile(rf"^\s*[\"']?{re.escape(key)}[\"']?\s*[=.]")
+    for i in range(start, stop):
+        if pat.match(lines[i]):
+            return i + 1
+    return start if table else None
+
+
+def _is_table(value: Any) -> bool:
+    return isinstance(value, dict) or (isinstance(value, list) and bool(value)
+                                       and all(isinstance(v, dict) for v in value))
+
+
+def _toml_key(key: str) -> str:
+    """``key`` as TOML writes it: bare when it can be, else quoted."""
+    return key if re.fullmatch(r"[A-Za-z0-9_-]+", key) else '"' + key.replace("\\", "\\\\").replace('"', '\\"') + '"'
+
+
+def nearest(name: str, known: Iterable[str]) -> str | None:
+    """The known name closest to ``name`` (case ignored), or None when none is close."""
+    known = list(known)
+    lower = {k.lower(): k for k in known}
+    hit = difflib.get_close_matches(name.lower(), list(lower), n=1, cutoff=0.6)
+    return lower[hit[0]] if hit else None
+
+
+def unknown_name(path: tuple[str, ...], value: Any, known: Iterable[str], *, text: str = "",
+                 file: str | None = None, line: int | None = None, error: type[MediaplanError] = PlanFileError,
+                 hint: str | None = None, field_name: str | None = None) -> MediaplanError:
+    """The error of a key or table ``path`` that its table does not know, naming the nearest known name.
+
+    known : the keys the table knows (tables among them are named as tables in the hint)
+    """
+    table, key = ".".join(path[:-1]), path[-1]
+    full = ".".join(_toml_key(p) for p in path)
+    close = nearest(key, known)
+    if _is_table(value):
+        message = f"unknown table [{full}]"
+        if close is not None:
+            hint = hint or f"did you mean [{table + '.' if table else ''}{_toml_key(close)}]?"
+    else:
+        message = f"unknown key {_toml_key(key)}" + (f" in [{table}]" if table else "")
+        if close is not None:
+            hint = hint or f"did you mean {_toml_key(close)}?"
+    if hint is None:
+        known = sorted(known)
+        hint = ("this format version knows " + (", ".join(known) if known else "no keys here")) if table else \
+            "the tables of a plan are " + ", ".join(f"[{k}]" for k in known)
+    return error(message, file=file, line=line if line is not None else locate(text, path),
+                 field=field_name or ".".join(path), hint=hint)
+
+
+def dotted_key(key: str, value: Any) -> tuple[str, Any] | None:
+    """When ``value`` is what TOML makes of an unquoted dotted key (``MgSO4.7H2O = "370 mg/L"`` gives
+    ``{"MgSO4": {"7H2O": "370 mg/L"}}``): the key as written (``MgSO4.7H2O``) and its value; else None."""
+    parts = [key]
+    while isinstance(value, dict) and len(value) == 1:
+        (k, value), = value.items()
+        parts.append(k)
+    if len(parts) < 2 or isinstance(value, (dict, list)):
+        return None
+    return ".".join(parts), value
+
+
+def dotted_key_error(key: str, value: Any, where: str, *, text: str = "", file: str | None = None,
+                     table: str | None = None, error: type[MediaplanError] = PlanFileError) -> MediaplanError | None:
+    """The error of an unquoted dotted key in a table of ``id = "amount"`` lines (``where``: that table's
+    name, ``medium.components``), showing the quoted form; None when ``value`` is no dotted key."""
+    found = dotted_key(key, value)
+    if found is None:
+        return None
+    name, leaf = found
+    shown = f'"{leaf}"' if isinstance(leaf, str) else repr(leaf)
+    parts = tuple((table or where).split(".")) + tuple(name.split("."))
+    return error(f"{name} is read as a table (an unquoted dot splits a TOML key)", file=file,
+                 line=locate(text, parts), field=f"{where}.{name}",
+                 hint=f'quote the name: "{name}" = {shown}')
+
+
 # ---- reading -------------------------------------------------------------------------------------
 def _number(v: Any) -> bool:
     return isinstance(v, (int, float)) and not isinstance(v, bool)
@@ -130,11 +237,13 @@ class _Table:
     """One table being read: where it sits in the file (for errors) and how it is written (its layout)."""
 
     def __init__(self, path: str, raw: dict, text: str, file: str | None, *, nth: int | None = None,
-                 field_name: str | None = None, error: type[MediaplanError] = PlanFileError) -> None:
+                 field_name: str | None = None, error: type[MediaplanError] = PlanFileError,
+                 kept: list[str] | None = None) -> None:
         self.path, self.raw, self.text, self.file, self.nth, self.cls = path, raw, text, file, nth, error
         self.field_name = field_name or path  # "series.levels[2]" for the second level
         self.single: set[str] = set()
         self.items: tuple[Layout, ...] = ()
+        self.kept = kept  # None: strict (an unknown key is an error); a list: unknown keys kept, named here
 
     def error(self, message: str, key: str | None = None, *, field_name: str | None = None,
               table: str | None = None, hint: str | None = None) -> MediaplanError:
@@ -149,8 +258,13 @@ class _Table:
         for key, value in self.raw.items():
             if key in spec:
                 known[key] = spec[key](self, key, value)
+            elif self.kept is None:
+                line = line_of(self.text, key, self.path, self.nth) if self.nth and not _is_table(value) else None
+                raise unknown_name((*self.path.split("."), key), value, spec, text=self.text, file=self.file,
+                                   line=line, error=self.cls, field_name=f"{self.field_name}.{key}")
             else:
                 extra.append((key, value))
+                self.kept.append(f"{self.field_name}.{key}")
         return cls(**known, extra=tuple(extra)), Layout(tuple(self.raw), frozenset(self.single), self.items)
 
 
@@ -206,6 +320,10 @@ def _amounts(t: _Table, key: str, v: Any) -> tuple[tuple[str, str], ...]:
     if not isinstance(v, dict):
         raise t.error(f"[{t.path}.{key}] must be a table of id = \"amount\"", key, hint='e.g. sucrose = "20 g/L"')
     for cid, amount in v.items():
+        dotted = dotted_key_error(cid, amount, f"{t.field_name}.{key}", text=t.text, file=t.file,
+                                  table=f"{t.path}.{key}", error=t.cls)
+        if dotted is not None:
+            raise dotted
         if not isinstance(amount, str):
             raise t.error(f"amount of {cid} must be text with a unit", cid, table=f"{t.path}.{key}",
                           field_name=f"{t.field_name}.{key}.{cid}", hint='like "20 g/L"')
@@ -243,8 +361,8 @@ def _levels(t: _Table, key: str, v: Any) -> tuple[LevelRecord, ...]:
         where = f"{t.field_name}.{key}[{i}]"
         if not isinstance(lv, dict):
             raise t.error("a level must be a table", key, field_name=where)
-        level, layout = _Table(f"{t.path}.{key}", lv, t.text, t.file, nth=i, field_name=where).read(LevelRecord,
-                                                                                                     _LEVEL)
+        level, layout = _Table(f"{t.path}.{key}", lv, t.text, t.file, nth=i, field_name=where,
+                               kept=t.kept).read(LevelRecord, _LEVEL)
         levels.append(level)
         layouts.append(layout)
     t.items = tuple(layouts)
@@ -264,6 +382,13 @@ def _embedded(t: _Table, key: str, v: Any) -> dict[str, Any]:
         if kind in v and not isinstance(v[kind], dict):
             raise t.error(f"[{t.path}.{key}.{kind}] must be a table", kind, table=f"{t.path}.{key}",
                           field_name=f"{t.field_name}.{key}.{kind}")
+    for kind, entries in v.items():
+        if kind in ("components", "media"):
+            continue
+        if t.kept is None:
+            raise unknown_name((*t.path.split("."), key, kind), entries, ("components", "media"), text=t.text,
+                               file=t.file, error=t.cls)
+        t.kept.append(f"{t.field_name}.{key}.{kind}")
     return dict(v)
 
 
@@ -283,26 +408,41 @@ _READ: dict[str, tuple[type, dict[str, Callable], type[MediaplanError]]] = {
 }
 
 
-def read_table(name: str, raw: dict, *, text: str = "", file: str | None = None) -> tuple[Any, Layout]:
+def known_keys(name: str) -> tuple[str, ...]:
+    """The keys an optional table knows in this format version (``"series.levels"`` for a level)."""
+    if name == "series.levels":
+        return tuple(_LEVEL)
+    return tuple(_READ[name][1])
+
+
+def read_table(name: str, raw: dict, *, text: str = "", file: str | None = None,
+               kept: list[str] | None = None, strict: bool = False) -> tuple[Any, Layout]:
     """The record of one optional table (None for an empty table) and the table's layout.
 
     name : ``"target"``, ``"cells"``, ``"projection"``, ``"series"`` or ``"provenance"``
     raw : the table as TOML gave it
     text : the file's text (to name the line of an error)
+    strict : a key the table does not know is an error (:func:`unknown_name`); else it is kept in the
+        record's ``extra`` and its name appended to ``kept``
     """
     cls, spec, error = _READ[name]
     if not raw:
         return None, Layout()
-    return _Table(name, raw, text, file, error=error).read(cls, spec)
+    return _Table(name, raw, text, file, error=error, kept=None if strict else kept if kept is not None else []
+                  ).read(cls, spec)
 
 
-def read_tables(data: Mapping[str, Any], *, text: str = "", file: str | None = None
-                ) -> tuple[dict[str, Any], dict[str, Layout]]:
-    """The records of every optional table in ``data`` (a parsed plan file) and their layouts."""
+def read_tables(data: Mapping[str, Any], *, text: str = "", file: str | None = None, strict: bool = False,
+                kept: list[str] | None = None) -> tuple[dict[str, Any], dict[str, Layout]]:
+    """The records of every optional table in ``data`` (a parsed plan file) and their layouts.
+
+    strict, kept : as for :func:`read_table`
+    """
     records, layouts = {}, {}
     for name in TABLES:
         if name in data:
-            records[name], layouts[name] = read_table(name, data[name], text=text, file=file)
+            records[name], layouts[name] = read_table(name, data[name], text=text, file=file, kept=kept,
+                                                      strict=strict)
     return records, layouts
 
 
@@ -435,6 +575,7 @@ def cell_reference_of(fit, date: str) -> CellReference:
         ci95=f"{ci[0]:.4g} to {ci[1]:.4g} MPa ({fit.ci_method})" if ci is not None else None)
 
 
-__all__ = ["TABLES", "Layout", "Provenance", "TargetRecord", "cell_reference_of", "cells_table", "level_table",
-           "line_of", "projection_table", "provenance_table", "read_table", "read_tables", "series_record_of",
-           "series_table", "target_record_of", "target_table", "write_table", "write_tables"]
+__all__ = ["TABLES", "Layout", "Provenance", "TargetRecord", "cell_reference_of", "cells_table", "dotted_key",
+           "dotted_key_error", "known_keys", "level_table", "line_of", "locate", "nearest", "projection_table",
+           "provenance_table", "read_table", "read_tables", "series_record_of", "series_table", "target_record_of",
+           "target_table", "unknown_name", "write_table", "write_tables"]

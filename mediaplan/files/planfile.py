@@ -52,7 +52,7 @@ try:  # advisory locks where the platform has them
 except ImportError:  # pragma: no cover - Windows
     fcntl = None
 
-from mediaplan.files import plan_tables
+from mediaplan.files import plan_tables, reading
 from mediaplan.files.plan_tables import Layout, Provenance, TargetRecord
 from mediaplan.medium.catalog import Catalog
 from mediaplan.medium.errors import AmountError, ConflictError, MediaplanError, PlanFileError
@@ -65,6 +65,10 @@ from mediaplan.tasks.projection import ProjectionRecord
 FORMAT = "mediaplan-plan"
 VERSION = "1.0"
 _KNOWN_TOP = {"mediaplan", "plan", "medium", "target", "cells", "projection", "series", "provenance"}
+#: the keys of the plan's own tables in the format versions this release writes (1.0; the optional tables'
+#: keys are in :mod:`mediaplan.files.plan_tables`)
+SCHEMA: dict[str, tuple[str, ...]] = {"mediaplan": ("format", "version"), "plan": ("title", "author", "notes"),
+                                      "medium": ("volume", "temperature", "base", "strength", "components")}
 
 
 @dataclass
@@ -76,6 +80,10 @@ class Plan:
     path : the file the plan was opened from or last saved to
     disk_digest : hash of the file's bytes when opened or last saved
     layout : how each optional table was written (key order...), so that it is written back the same way
+    version : the format version the file declares (``"1.0"``; a newer minor version, ``"1.3"``, when the
+        plan keeps tables or keys of that version)
+    extra_keys : unknown keys of a newer minor version in [mediaplan], [plan] and [medium], kept as they were
+    read_notes : what reading found worth saying (tables and keys of a newer minor version kept unread)
     """
 
     recipe: Recipe = field(default_factory=Recipe)
@@ -91,6 +99,9 @@ class Plan:
     path: Path | None = None
     disk_digest: str | None = None
     layout: dict[str, Layout] = field(default_factory=dict, compare=False, repr=False)
+    version: str = VERSION
+    extra_keys: dict[str, dict] = field(default_factory=dict)
+    read_notes: tuple[str, ...] = field(default=(), compare=False, repr=False)
 
     def with_recipe(self, recipe: Recipe) -> Plan:
         return replace(self, recipe=recipe)
@@ -125,14 +136,64 @@ def _toml_error_line(exc: tomllib.TOMLDecodeError) -> int | None:
 
 
 def loads(text: str, *, file: str | None = None, catalog: Catalog | None = None) -> Plan:
-    """Parse plan text. Raises PlanFileError (or AmountError...) naming file, line and field."""
+    """Parse plan text. Raises PlanFileError (or AmountError...) naming file, line and field.
+
+    Tables, arrays and dotted keys nested deeper than :data:`mediaplan.files.reading.TOML_MAX_DEPTH` are
+    refused before the TOML parser sees them (it would recurse once per bracket, and take time growing with
+    the square of a dotted key's parts).
+    """
+    deep = reading.toml_dotted_key_line(text)
+    if deep is not None:
+        raise reading.too_deep("plan", file, reading.TOML_MAX_DEPTH, deep)
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         msg = str(exc).split(" (at ")[0]
         raise PlanFileError(f"malformed TOML: {msg}", file=file, line=_toml_error_line(exc),
                             hint="check quotes, brackets and '=' on that line") from None
+    except RecursionError:
+        raise reading.too_deep("plan", file, reading.TOML_MAX_DEPTH, reading.toml_nesting(text)) from None
+    if reading.nesting_depth(data, reading.TOML_MAX_DEPTH) > reading.TOML_MAX_DEPTH:
+        raise reading.too_deep("plan", file, reading.TOML_MAX_DEPTH, reading.toml_nesting(text))
     return from_dict(data, text=text, file=file, catalog=catalog)
+
+
+def _schema(data: dict, *, newer: bool, text: str, file: str | None, kept: list[str]) -> dict[str, dict]:
+    """Check the plan's tables and the keys of [mediaplan], [plan] and [medium] against :data:`SCHEMA`.
+
+    Strict (``newer`` false): an unknown table or key is an error naming its line and the nearest known
+    name. For a newer minor version they are kept: unknown tables stay in ``data`` (the Plan's ``extra``),
+    unknown keys of the three tables are returned (table -> key -> value); ``kept`` gets their names.
+    """
+    extra_keys: dict[str, dict] = {}
+    for name, value in data.items():
+        if name not in _KNOWN_TOP:
+            if not newer:
+                raise plan_tables.unknown_name((name,), value, _KNOWN_TOP, text=text, file=file)
+            kept.append(f"[{name}]" if isinstance(value, dict) else name)
+    for table, known in SCHEMA.items():
+        raw = data.get(table)
+        if not isinstance(raw, dict):
+            continue
+        for key, value in raw.items():
+            if key in known:
+                continue
+            if not newer:
+                hint = None
+                if table == "medium" and isinstance(value, str) and plan_tables.nearest(key, known) is None:
+                    hint = f'amounts go under [medium.components]: {plan_tables._toml_key(key)} = "{value}"'
+                raise plan_tables.unknown_name((table, key), value, known, text=text, file=file, hint=hint)
+            extra_keys.setdefault(table, {})[key] = value
+            kept.append(f"{table}.{key}")
+    return extra_keys
+
+
+def _text_field(plan_t: dict, key: str, default: str, text: str, file: str | None) -> str:
+    value = plan_t.get(key, default)
+    if not isinstance(value, str):
+        raise PlanFileError(f"{key} must be text", file=file, line=plan_tables.locate(text, ("plan", key)),
+                            field=f"plan.{key}", hint=f'write it in quotes, like {key} = "..."')
+    return value
 
 
 def from_dict(data: dict, *, text: str = "", file: str | None = None, catalog: Catalog | None = None) -> Plan:
@@ -141,16 +202,21 @@ def from_dict(data: dict, *, text: str = "", file: str | None = None, catalog: C
         raise PlanFileError("not a mediaplan plan file (no [mediaplan] table with format = \"mediaplan-plan\")",
                             file=file, line=1, hint="start the file with [mediaplan] format/version lines")
     version = str(head.get("version", ""))
-    m = re.fullmatch(r"(\d+)\.(\d+)", version)
+    m = re.fullmatch(r"(\d{1,9})\.(\d{1,9})", version)
     if not m:
-        raise PlanFileError(f"unreadable format version {version!r}", file=file,
+        shown = version if len(version) <= 40 else version[:40] + "…"
+        raise PlanFileError(f"unreadable format version {shown!r}", file=file,
                             line=_line_of(text, "version", "mediaplan"), field="mediaplan.version",
-                            hint='write version = "1.0"')
-    major, _minor = int(m.group(1)), int(m.group(2))
+                            hint=f'write version = "{VERSION}"')
+    major, minor = int(m.group(1)), int(m.group(2))
     if major > 1:
         raise PlanFileError(f"plan format {version} is newer than this mediaplan understands (1.x)", file=file,
                             line=_line_of(text, "version", "mediaplan"), field="mediaplan.version",
                             hint="update mediaplan to open it")
+    ours = tuple(int(x) for x in VERSION.split("."))
+    newer = (major, minor) > ours
+    kept: list[str] = []
+    extra_keys = _schema(data, newer=newer, text=text, file=file, kept=kept)
     if major < 1:
         data = migrate(data, major)
 
@@ -160,6 +226,9 @@ def from_dict(data: dict, *, text: str = "", file: str | None = None, catalog: C
     plan_t = data.get("plan", {})
     if not isinstance(plan_t, dict):
         raise err("[plan] must be a table", "plan", None)
+    title = _text_field(plan_t, "title", "Untitled medium", text, file)
+    author = _text_field(plan_t, "author", "", text, file)
+    notes = _text_field(plan_t, "notes", "", text, file)
     med = data.get("medium")
     if not isinstance(med, dict):
         raise PlanFileError("missing [medium] table", file=file, hint="add [medium] with volume and temperature")
@@ -173,8 +242,12 @@ def from_dict(data: dict, *, text: str = "", file: str | None = None, catalog: C
     if not isinstance(comps, dict):
         raise err("[medium.components] must be a table of id = \"amount\"", "components", "medium")
     amounts = []
+    seen: dict[str, str] = {}  # id -> key as written (a set, so that 100 000 components take no time)
     for key, val in comps.items():
         if not isinstance(val, str):
+            dotted = plan_tables.dotted_key_error(key, val, "medium.components", text=text, file=file)
+            if dotted is not None:
+                raise dotted
             raise err(f"amount of {key} must be text with a unit, like \"30 g/L\"", key, "medium.components")
         try:
             amt = parse_amount(val, field=f"medium.components.{key}")
@@ -186,8 +259,9 @@ def from_dict(data: dict, *, text: str = "", file: str | None = None, catalog: C
                 cid = catalog.resolve(key, field=f"medium.components.{key}").component.id
             except MediaplanError as exc:
                 raise exc.located(file=file, line=_line_of(text, key, "medium.components")) from None
-        if any(c == cid for c, _ in amounts):
+        if cid in seen:
             raise err(f"{key} is listed twice (as {cid})", key, "medium.components", hint="keep one line")
+        seen[cid] = key
         amounts.append((cid, amt))
     try:
         recipe = Recipe(volume=med.get("volume", "1 L"), temperature=med.get("temperature", "25 degC"),
@@ -203,10 +277,14 @@ def from_dict(data: dict, *, text: str = "", file: str | None = None, catalog: C
     for name in ("target", "cells", "projection", "series", "provenance"):
         if name in data and not isinstance(data[name], dict):
             raise err(f"[{name}] must be a table", name, None)
-    tables, layout = plan_tables.read_tables(data, text=text, file=file)
+    tables, layout = plan_tables.read_tables(data, text=text, file=file, strict=not newer, kept=kept)
     extra = {k: v for k, v in data.items() if k not in _KNOWN_TOP}
-    return Plan(recipe=recipe, title=str(plan_t.get("title", "Untitled medium")), author=str(plan_t.get("author", "")),
-                notes=str(plan_t.get("notes", "")), **tables, extra=extra, layout=layout)
+    read_notes = ()
+    if kept:
+        read_notes = (f"plan format {version} is newer than this mediaplan writes ({VERSION}): "
+                      f"{', '.join(kept)} kept as written, not used",)
+    return Plan(recipe=recipe, title=title, author=author, notes=notes, **tables, extra=extra, layout=layout,
+                version=version if newer else VERSION, extra_keys=extra_keys, read_notes=read_notes)
 
 
 def migrate(data: dict, major: int) -> dict:
@@ -218,7 +296,8 @@ def migrate(data: dict, major: int) -> dict:
 
 def to_dict(plan: Plan) -> dict:
     r = plan.recipe
-    d: dict[str, Any] = {"mediaplan": {"format": FORMAT, "version": VERSION}}
+    # a plan that keeps tables or keys of a newer minor version keeps declaring that version
+    d: dict[str, Any] = {"mediaplan": {"format": FORMAT, "version": plan.version or VERSION}}
     pt: dict[str, Any] = {"title": plan.title}
     if plan.author:
         pt["author"] = plan.author
@@ -233,6 +312,8 @@ def to_dict(plan: Plan) -> dict:
         med["strength"] = r.strength
     med["components"] = {cid: a.text for cid, a in r.amounts}
     d["medium"] = med
+    for table, keys in plan.extra_keys.items():  # keys of a newer minor version, kept as read
+        d[table].update((k, v) for k, v in keys.items() if k not in d[table])
     d.update(plan_tables.write_tables(plan))
     for k, v in plan.extra.items():
         d[k] = v
@@ -244,22 +325,14 @@ def dumps(plan: Plan) -> str:
 
 
 def read(path: str | Path, *, catalog: Catalog | None = None) -> Plan:
-    """Open a plan file; remembers the content hash to detect later changes on disk."""
+    """Open a plan file; remembers the content hash to detect later changes on disk.
+
+    Only a regular UTF-8 file of at most 8 MiB is read (:mod:`mediaplan.files.reading`): a folder, a FIFO
+    or a device is refused in one line, never waited on.
+    """
     p = Path(path)
-    try:
-        raw = p.read_bytes()
-    except FileNotFoundError:
-        raise PlanFileError("no such plan file", file=str(p), hint="check the path") from None
-    except IsADirectoryError:
-        raise PlanFileError("is a folder, not a plan file", file=str(p)) from None
-    except OSError as exc:
-        raise PlanFileError(f"cannot read ({exc.strerror})", file=str(p)) from None
-    except ValueError:  # e.g. a NUL character in the name
-        raise PlanFileError("not a usable file name", file=repr(str(p)), hint="check the path") from None
-    try:
-        text = raw.decode("utf-8")
-    except UnicodeDecodeError:
-        raise PlanFileError("not UTF-8 text", file=str(p), hint="is this really a plan file?") from None
+    raw = reading.read_bytes(p, "plan")
+    text = reading.decode(raw, p, "plan")
     plan = loads(text, file=str(p), catalog=catalog)
     plan.path = p
     plan.disk_digest = _digest(raw)

@@ -72,7 +72,7 @@ def test_check_strict_fails_on_catalog_differences(plans, tmp_path, capsys):
 
 def test_diff_text_shows_components_settings_and_results(plans, capsys):
     a, b, *_ = plans
-    assert main(["diff", str(a), str(b)]) == 0
+    assert main(["diff", str(a), str(b)]) == 1  # the plans differ: diff exits 1 (0 when they are the same)
     out = capsys.readouterr().out
     assert "~ strength: 1.0 → 0.5" in out and "~ volume: 1 L → 2 L" in out
     assert "+ D-mannitol (mannitol): 0.2 mol/kg" in out
@@ -83,7 +83,7 @@ def test_diff_text_shows_components_settings_and_results(plans, capsys):
 
 def test_diff_json_changes_add_up(plans, capsys):
     a, b, *_ = plans
-    assert main(["diff", "--json", str(a), str(b)]) == 0
+    assert main(["diff", "--json", str(a), str(b)]) == 1  # the plans differ
     d = json.loads(capsys.readouterr().out)
     assert {c["id"]: c["change"] for c in d["components"]}["mannitol"] == "added"
     for r in d["results"]:

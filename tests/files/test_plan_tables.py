@@ -29,6 +29,8 @@ from mediaplan.tasks.projection import ProjectionRecord
 
 ROOT = Path(__file__).resolve().parents[2]
 HEAD = '[mediaplan]\nformat = "mediaplan-plan"\nversion = "1.0"\n[medium]\nvolume = "1 L"\n'  # lines 1-5
+#: a plan of a newer minor version: keys this version does not know are kept, not refused
+NEWER = HEAD.replace('version = "1.0"', 'version = "1.1"')
 
 
 # ---- reading: the shape of each table, located ----------------------------------------------------
@@ -158,7 +160,7 @@ def test_cell_reference_of_a_fit_is_its_cells_table():
 
 # ---- edits, written back in place --------------------------------------------------------------------
 def test_edited_counts_are_written_where_they_were(catalog):
-    text = (HEAD + '\n[series]\nosmoticum = "mannitol"\n\n[[series.levels]]\nplasmolysed = 3\n'
+    text = (NEWER + '\n[series]\nosmoticum = "mannitol"\n\n[[series.levels]]\nplasmolysed = 3\n'
             'water_potential_mpa = -1\ntotal = 40\n\n[[series.levels]]\nwater_potential_mpa = -1.2\nnote = "x"\n')
     plan = planfile.loads(text)
     assert plan.series.levels[0].plasmolysed == (3,) and plan.series.levels[1].plasmolysed is None
@@ -173,7 +175,7 @@ def test_edited_counts_are_written_where_they_were(catalog):
 
 def test_a_fit_stored_over_hand_written_cells_keeps_their_order():
     fit = fit_counts(read_counts_csv(ROOT / "plans" / "demo_plasmolysis_counts.csv"))
-    plan = planfile.loads(HEAD + '[cells]\ntolerance = 0.1\nosmolality = "500 mOsm/kg"\nnote = "ours"\n')
+    plan = planfile.loads(NEWER + '[cells]\ntolerance = 0.1\nosmolality = "500 mOsm/kg"\nnote = "ours"\n')
     fitted = cell_reference_of(fit, "2024-05-02")
     kept = replace(plan, cells=plan.cells.merged(fitted))
     table = planfile.to_dict(kept)["cells"]
