@@ -97,23 +97,65 @@ def main(argv: list[str] | None = None) -> int:
         return report_crash(exc)
 
 
-def report_crash(exc: BaseException) -> int:
-    """Log an unexpected error with its traceback; tell the user in one line where the log is."""
+#: the error log is rotated once it would grow past this size [bytes]; the previous log is kept as
+#: ``errors.log.1`` (one old copy), so the two never hold more than about 2 MiB
+LOG_MAX_BYTES = 1024 * 1024
+#: the most one entry writes [bytes]: its head and tail (the innermost frames and the error) are kept
+LOG_ENTRY_MAX = 64 * 1024
+
+
+def log_crash(exc: BaseException) -> str | None:
+    """Append an unexpected error with its traceback to the error log (rotated: :data:`LOG_MAX_BYTES`);
+    returns the log's path, or None when it could not be written. Never raises."""
     import datetime
+    import os
+    import stat
     import traceback
 
     from mediaplan.files.paths import log_file
 
-    path = log_file()
     try:
+        path = log_file()
+        args = repr(sys.argv)
+        if len(args) > 1000:
+            args = args[:1000] + "…"
+        entry = (f"\n--- {datetime.datetime.now().isoformat()} mediaplan {__version__} {args}\n"
+                 + "".join(traceback.format_exception(exc)))
+        data = entry.encode("utf-8", "backslashreplace")
+        if len(data) > LOG_ENTRY_MAX:
+            half = LOG_ENTRY_MAX // 2
+            data = data[:half] + b"\n[... cut ...]\n" + data[-half:]
         path.parent.mkdir(parents=True, exist_ok=True)
-        with path.open("a", encoding="utf-8") as fh:
-            fh.write(f"\n--- {datetime.datetime.now().isoformat()} mediaplan {__version__} {sys.argv!r}\n")
-            fh.write("".join(traceback.format_exception(exc)))
-        where = str(path)
-    except OSError:
-        where = "(the log could not be written)"
-    print(f"mediaplan: unexpected error {type(exc).__name__}: {exc}; details in {where}", file=sys.stderr)
+        try:
+            st = os.stat(path)
+        except FileNotFoundError:
+            st = None
+        if st is not None:
+            if not stat.S_ISREG(st.st_mode):
+                return None  # a FIFO or a folder where the log should be: never block on it, never replace it
+            if st.st_size + len(data) > LOG_MAX_BYTES:
+                os.replace(path, path.with_name(path.name + ".1"))
+        fd = os.open(path, os.O_WRONLY | os.O_APPEND | os.O_CREAT | getattr(os, "O_NONBLOCK", 0), 0o600)
+        try:
+            if not stat.S_ISREG(os.fstat(fd).st_mode):
+                return None
+            os.write(fd, data)
+        finally:
+            os.close(fd)
+        return str(path)
+    except Exception:  # noqa: BLE001 - the log must never add an error of its own
+        return None
+
+
+def report_crash(exc: BaseException) -> int:
+    """Log an unexpected error with its traceback; tell the user in one line where the log is."""
+    from mediaplan.views.safe_text import one_line
+
+    where = log_crash(exc) or "(the log could not be written)"
+    text = str(exc)
+    if len(text) > 300:
+        text = text[:300] + "…"
+    print(one_line(f"mediaplan: unexpected error {type(exc).__name__}: {text}; details in {where}"), file=sys.stderr)
     return 1
 
 

@@ -31,6 +31,48 @@ from mediaplan.thermo.params import NeutralParams
 _NUMBER_FIELDS = ("molar_mass", "solubility", "apparent_molar_volume", "density", "reflection_coefficient")
 _ID_RE = re.compile(r"^[a-z0-9][a-z0-9_]*$")
 
+#: plausible ranges of a component's numbers, in the units of the catalog files: field -> (lowest, highest,
+#: unit, why). A value outside is refused when the catalog loads (and so reported by ``catalog check``): a
+#: number in the wrong unit or with a slipped exponent would otherwise flow into every result.
+PLAUSIBLE: dict[str, tuple[float, float, str, str]] = {
+    # nothing is lighter than a hydrogen atom (1.008 g/mol, IUPAC 2021); proteins and polymers dissolved in
+    # media stay below 1e6 g/mol (common practice)
+    "molar_mass": (1.0, 1e6, "g/mol", "no substance is lighter than a hydrogen atom, 1.008 g/mol"),
+    # g of anhydrous substance per 100 g water: the most soluble solids of media dissolve a few hundred g
+    # (fructose about 400, ammonium nitrate about 210); 2000 leaves room for any salt (common practice)
+    "solubility": (1e-9, 2000.0, "g per 100 g water", "the most soluble solids dissolve a few hundred g"),
+    # infinite-dilution volumes of common salts lie a few tens of cm3/mol around zero (MgSO4 -7.2, May et al.
+    # 2011) and of sugars below 250 (sucrose 211.5); -200 is far below any of them. The upper limit is
+    # 2000 cm3/mol or 1.5 cm3 per g of solute, whichever is larger: organic solids and polymers are denser
+    # than 0.7 g/cm3 (common practice), so a polymer of 6000 g/mol stays below 9000 cm3/mol
+    "apparent_molar_volume": (-200.0, 2000.0, "cm3/mol", "solutes lie between a few tens below zero and a "
+                              "few hundred cm3/mol, polymers at most 1.5 cm3 per g"),
+    # liquids added to media (ethanol 0.79, glycerol 1.26, DMSO 1.10) and any salt (below 7) lie well inside
+    # 0.5 to 10 g/cm3 (common practice)
+    "density": (0.5, 10.0, "g/cm3", "liquids and salts used in media lie between 0.7 and 7 g/cm3"),
+    # the most hydrated salts in use carry 18 waters (aluminium sulfate octadecahydrate) (common practice)
+    "hydrate_water": (0.0, 20.0, "mol water per mol", "the most hydrated common salts carry up to 18 waters"),
+    # a dimensionless fraction by definition
+    "reflection_coefficient": (0.0, 1.0, "", "a reflection coefficient is a fraction"),
+}
+#: the most ions of one species a formula unit may dissolve into (EDTA salts and alums stay below 12)
+MAX_SPECIES_COUNT = 20
+#: polymers may take more volume per mole than small solutes: at most this many cm3 per gram
+_MAX_SPECIFIC_VOLUME = 1.5
+
+
+def plausible(key: str, value: float, *, molar_mass: float | None = None) -> tuple[str, str] | None:
+    """(what is wrong, why) when ``value`` of catalog field ``key`` is implausible (see :data:`PLAUSIBLE`),
+    else None."""
+    low, high, unit, why = PLAUSIBLE[key]
+    if key == "apparent_molar_volume" and molar_mass is not None:
+        high = max(high, _MAX_SPECIFIC_VOLUME * molar_mass)
+    if math.isfinite(value) and low <= value <= high:
+        return None
+    unit = f" {unit}" if unit else ""
+    return (f"{key} {value:g}{unit} is outside the plausible {low:g} to {high:g}{unit}",
+            f"{why}; check the number and its unit")
+
 
 def _digest(raw: Any) -> str:
     return hashlib.sha256(json.dumps(raw, sort_keys=True, default=str).encode()).hexdigest()[:16]
@@ -54,10 +96,22 @@ def _opt_number(entry: dict, key: str, file: str, *, positive: bool = True) -> f
         return None
     line = getattr(entry, "line", None)
     if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
-        raise CatalogError(f"field '{key}' must be a number, not {value!r}", file=file, line=line, field=key)
+        shown = repr(value) if len(repr(value)) <= 40 else repr(value)[:40] + "…"
+        raise CatalogError(f"field '{key}' must be a number, not {shown}", file=file, line=line, field=key)
     if positive and value <= 0 and key != "apparent_molar_volume":
         raise CatalogError(f"field '{key}' must be positive, not {value!r}", file=file, line=line, field=key)
     return float(value)
+
+
+def _opt_text(entry: dict, key: str, file: str, cid: str) -> str | None:
+    """A text field that may be left out (None); anything but text is an error naming the field."""
+    value = entry.get(key)
+    if value is None or value == "":
+        return None
+    if isinstance(value, bool) or not isinstance(value, (str, int, float)):
+        raise CatalogError(f"{cid}: {key} must be text, not a {type(value).__name__}", file=file,
+                           line=getattr(entry, "line", None), field=key, hint=f'write it in quotes, like {key}: "..."')
+    return str(value)
 
 
 def parse_component(entry: Any, file: str, file_sources: dict[str, str]) -> Component:
@@ -82,8 +136,12 @@ def parse_component(entry: Any, file: str, file_sources: dict[str, str]) -> Comp
             parse_species(str(sp))
         except ValueError as exc:
             raise CatalogError(f"{cid}: {exc}", **where, field="species") from None
-        if isinstance(n, bool) or not isinstance(n, (int, float)) or n <= 0:
+        if isinstance(n, bool) or not isinstance(n, (int, float)) or not math.isfinite(n) or n <= 0:
             raise CatalogError(f"{cid}: count of {sp} must be a positive number", **where, field="species")
+        if n > MAX_SPECIES_COUNT:
+            raise CatalogError(f"{cid}: count of {sp} is {n:g}, more than the {MAX_SPECIES_COUNT} ions of one kind "
+                               "a formula unit plausibly holds", **where, field="species",
+                               hint="counts are ions per formula unit, e.g. 2 for Na2SO4")
         species.append((str(sp), float(n)))
     if abs(charge_balance(dict(species))) > 1e-9:
         raise CatalogError(f"{cid}: species charges do not balance", **where, field="species",
@@ -106,16 +164,28 @@ def parse_component(entry: Any, file: str, file_sources: dict[str, str]) -> Comp
     refl = _opt_number(entry, "reflection_coefficient", file, positive=False)
     if refl is not None and not 0 <= refl <= 1:
         raise CatalogError(f"{cid}: reflection_coefficient must lie in 0..1", **where, field="reflection_coefficient")
-    formula = entry.get("formula")
+    formula = _opt_text(entry, "formula", file, cid)
+    substance = _opt_text(entry, "substance", file, cid)
+    cas = _opt_text(entry, "cas", file, cid)
+    hazard = _opt_text(entry, "hazard", file, cid)
+    default_form = entry.get("default_form", False)
+    if default_form is not None and not isinstance(default_form, bool):
+        raise CatalogError(f"{cid}: default_form must be true or false", **where, field="default_form")
+    numbers = {"molar_mass": molar_mass, "hydrate_water": float(hydrate),
+               "solubility": _opt_number(entry, "solubility", file),
+               "apparent_molar_volume": _opt_number(entry, "apparent_molar_volume", file, positive=False),
+               "density": _opt_number(entry, "density", file), "reflection_coefficient": refl}
+    for key, value in numbers.items():
+        wrong = None if value is None else plausible(key, value, molar_mass=molar_mass)
+        if wrong is not None:
+            raise CatalogError(f"{cid}: {wrong[0]}", **where, field=key, hint=wrong[1])
     return Component(
-        id=cid, name=name, formula=str(formula) if formula else None, aliases=tuple(aliases),
-        cas=str(entry["cas"]) if entry.get("cas") else None, group=group, molar_mass=molar_mass,
-        hydrate_water=float(hydrate), substance=entry.get("substance") or (str(formula) if formula else None),
-        default_form=bool(entry.get("default_form", False)), species=tuple(species),
-        solubility=_opt_number(entry, "solubility", file),
-        apparent_molar_volume=_opt_number(entry, "apparent_molar_volume", file, positive=False),
-        density=_opt_number(entry, "density", file), reflection_coefficient=refl,
-        hazard=entry.get("hazard") or None, sources=sources, file=file, line=line, digest=_digest(dict(entry)),
+        id=cid, name=name, formula=formula, aliases=tuple(aliases), cas=cas, group=group, molar_mass=molar_mass,
+        hydrate_water=float(hydrate), substance=substance or formula, default_form=bool(default_form),
+        species=tuple(species), solubility=numbers["solubility"],
+        apparent_molar_volume=numbers["apparent_molar_volume"], density=numbers["density"],
+        reflection_coefficient=refl, hazard=hazard, sources=sources, file=file, line=line,
+        digest=_digest(dict(entry)),
     )
 
 
@@ -137,7 +207,10 @@ def _medium_lines(raw: Any, file: str, key: str) -> tuple[MediumLine, ...]:
             raise
         except Exception as exc:  # AmountError
             raise CatalogError(str(exc), file=file, line=line, field=f"{key}.{comp}.amount") from None
-        out.append(MediumLine(comp, amount, str(item.get("confidence", "C")), item.get("note")))
+        note = item.get("note")
+        if note is not None and not isinstance(note, str):
+            raise CatalogError(f"the note of {comp} must be text", file=file, line=line, field=f"{key}.{comp}.note")
+        out.append(MediumLine(comp, amount, str(item.get("confidence", "C")), note))
     return tuple(out)
 
 
@@ -239,10 +312,10 @@ def load_catalog(folders: Sequence[Path | str] | None = None, *, extra: Iterable
                 shadowed.append(f"medium {med.id} ({f} replaces {media[med.id].file})")
             media[med.id] = med
         pf = folder / "pitzer.yaml"
-        if pf.is_file():
+        if os.path.lexists(pf):  # a FIFO or a folder of that name is refused by load_yaml, never skipped
             pitzer_raw = _merge_params(pitzer_raw, load_yaml(pf), pf)
         nf = folder / "neutral.yaml"
-        if nf.is_file():
+        if os.path.lexists(nf):
             neutral_raw = _merge_params(neutral_raw, load_yaml(nf), nf)
     for med in media.values():
         for ln in med.lines + med.optional:
@@ -255,7 +328,7 @@ def load_catalog(folders: Sequence[Path | str] | None = None, *, extra: Iterable
 
         try:
             pitzer = pitzer_params_from_dict(pitzer_raw)
-        except (ValueError, KeyError, TypeError) as exc:
+        except (ValueError, KeyError, TypeError, AttributeError, IndexError, OverflowError) as exc:
             raise CatalogError(f"bad Pitzer parameters: {exc}", file="pitzer.yaml") from None
     neutral: dict[str, NeutralParams] = {}
     if neutral_raw is not None:
@@ -263,7 +336,7 @@ def load_catalog(folders: Sequence[Path | str] | None = None, *, extra: Iterable
 
         try:
             neutral = neutral_params_from_dict(neutral_raw)
-        except (ValueError, KeyError, TypeError) as exc:
+        except (ValueError, KeyError, TypeError, AttributeError, IndexError, OverflowError) as exc:
             raise CatalogError(f"bad neutral-solute parameters: {exc}", file="neutral.yaml") from None
     return Catalog(components, media, pitzer, neutral, tuple(paths), shadowed)
 
@@ -285,6 +358,39 @@ def _merge_params(base: dict | None, new: Any, path: Path) -> dict:
     return merged
 
 
+def entry_problems(folders: Sequence[Path | str]) -> list[str]:
+    """Every problem of the component and medium entries in ``folders``, one line each, without stopping at
+    the first (what :func:`load_catalog` raises stops there; ``catalog check`` lists them all).
+
+    Each file is read and each entry checked on its own: a file that cannot be read at all is one line.
+    """
+    problems: list[str] = []
+    for folder in (Path(f) for f in folders):
+        for f in _component_files(folder):
+            try:
+                data = load_yaml(f)
+            except CatalogError as exc:
+                problems.append(str(exc))
+                continue
+            entries = data.get("components") if isinstance(data, dict) else None
+            if not isinstance(entries, list):
+                problems.append(str(CatalogError("expected a mapping with a 'components' list", file=str(f))))
+                continue
+            sources = data.get("sources") if isinstance(data.get("sources"), dict) else {}
+            file_sources = {str(k): str(v) for k, v in sources.items()}
+            for entry in entries:
+                try:
+                    parse_component(entry, str(f), file_sources)
+                except CatalogError as exc:
+                    problems.append(str(exc))
+        for f in _medium_files(folder):
+            try:
+                parse_medium(load_yaml(f), str(f))
+            except CatalogError as exc:
+                problems.append(str(exc))
+    return problems
+
+
 _CACHE: dict[tuple, Catalog] = {}
 
 
@@ -297,4 +403,5 @@ def get_catalog(extra: Iterable[Path | str] = ()) -> Catalog:
 
 
 
-__all__ = ["load_catalog", "get_catalog", "bundled_folder", "default_folders", "parse_component", "parse_medium"]
+__all__ = ["PLAUSIBLE", "load_catalog", "get_catalog", "bundled_folder", "default_folders", "entry_problems",
+           "parse_component", "parse_medium", "plausible"]

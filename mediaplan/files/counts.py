@@ -10,12 +10,13 @@ from __future__ import annotations
 import csv
 import math
 import re
-from collections.abc import Sequence
+from collections.abc import Iterator, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 
+from mediaplan.files import reading
 from mediaplan.medium.catalog import Catalog
 from mediaplan.medium.errors import AmountError, FitError, MediaplanError
 from mediaplan.medium.recipe import Recipe
@@ -28,6 +29,12 @@ from mediaplan.thermo.constants import T0
 _SUFFIX_UNITS = {"_mol_per_kg": "mol/kg", "_mmol_per_kg": "mmol/kg", "_mol_per_l": "mol/L", "_mmol_per_l": "mmol/L",
                  "_g_per_l": "g/L", "_mg_per_l": "mg/L", "_mm": "mM", "_m": "M"}
 _PAREN = re.compile(r"^\s*(?P<name>.*?)\s*[\(\[](?P<unit>[^\)\]]+)[\)\]]\s*$")
+#: the most columns a counts header may have (it needs three; a sheet with notes columns has a few more)
+MAX_COLUMNS = 64
+#: plausible water potentials of a level [MPa]: no solution is below -1000 MPa (saturated salts stay above
+#: -400 MPa), and a level closer to zero than 1e-6 MPa but not zero is a unit slip, not a solution that
+#: could be told from pure water (a series starts near -0.1 MPa) (common practice)
+POTENTIAL_RANGE_MPA = (-1000.0, -1e-6)
 
 
 @dataclass
@@ -87,33 +94,28 @@ def read_counts_csv(path: str | Path, *, osmoticum: str | None = None, backgroun
     amount (``mannitol_mol_per_kg``, ``concentration (mM)``): amounts are converted to water potential
     with the model, in ``background`` (water if None). Lines starting with ``#`` and blank lines are
     skipped; a level whose two count cells are both empty (not counted yet) is skipped too.
+
+    The file is read line by line, never whole: a regular UTF-8 file of at most 16 MiB, lines of at most
+    64 KiB, at most :data:`~mediaplan.files.reading.COUNTS_MAX_ROWS` rows of counts and
+    :data:`MAX_COLUMNS` columns (:mod:`mediaplan.files.reading`).
     """
     p = Path(path)
     file = str(p)
-    try:
-        text = p.read_text(encoding="utf-8-sig")
-    except FileNotFoundError:
-        raise FitError("no such counts file", file=file, hint="check the path") from None
-    except UnicodeDecodeError:
-        raise FitError("not UTF-8 text", file=file, hint="save the counts as CSV (UTF-8)") from None
-    except OSError as exc:
-        raise FitError(f"cannot read ({exc.strerror})", file=file) from None
-    except ValueError:
-        raise FitError("not a usable file name", file=repr(file), hint="check the path") from None
-    rows: list[tuple[int, list[str]]] = []
-    for lineno, raw in enumerate(text.splitlines(), start=1):
-        if not raw.strip() or raw.lstrip().startswith("#"):
-            continue
-        rows.append((lineno, next(csv.reader([raw]))))
-    if not rows:
+    rows = _rows(p, file)
+    first = next(rows, None)
+    if first is None:
         raise FitError("the file holds no header and no counts", file=file,
                        hint=f"first line: {POTENTIAL_COLUMN},plasmolysed,total")
-    head_line, header = rows[0]
+    head_line, header = first
+    if len(header) > MAX_COLUMNS:
+        raise FitError(f"the header has {len(header)} columns, more than the {MAX_COLUMNS} a counts file may have",
+                       file=file, line=head_line, hint=f"the header must be {POTENTIAL_COLUMN},plasmolysed,total")
     names = [h.strip().lower() for h in header]
     missing = [c for c in ("plasmolysed", "total") if c not in names]
     if missing:
+        found = ", ".join(h.strip()[:40] for h in header[:12]) + (", …" if len(header) > 12 else "")
         raise FitError(f"missing column{'s' if len(missing) > 1 else ''} {', '.join(missing)} (found: "
-                       f"{', '.join(h.strip() for h in header)})", file=file, line=head_line,
+                       f"{found})", file=file, line=head_line,
                        hint=f"the header must be {POTENTIAL_COLUMN},plasmolysed,total")
     i_pl, i_tot = names.index("plasmolysed"), names.index("total")
     cols = [c for c in (_classify_column(h, i, catalog or _lazy_catalog(header)) for i, h in enumerate(header))
@@ -130,7 +132,10 @@ def read_counts_csv(path: str | Path, *, osmoticum: str | None = None, backgroun
     lines: list[int] = []
     notes: list[str] = []
     skipped = 0
-    for lineno, cells in rows[1:]:
+    for n_rows, (lineno, cells) in enumerate(rows, start=1):
+        if n_rows > reading.COUNTS_MAX_ROWS:
+            raise FitError(f"more than {reading.COUNTS_MAX_ROWS} rows of counts", file=file, line=lineno,
+                           hint="a counts file holds one row per counted sample; is this really one?")
         if len(cells) != len(header):
             raise FitError(f"{len(cells)} cells where the header has {len(header)}", file=file, line=lineno,
                            hint="one value per column, separated by commas")
@@ -182,10 +187,38 @@ def read_counts_csv(path: str | Path, *, osmoticum: str | None = None, backgroun
             x = potential_of_amounts(bg, osmo, amounts, catalog=catalog) / 1e6
             notes.append(f"levels read from '{col.header}' ({osmo} in {describe_background(bg)}) and converted to "
                          f"water potential with the non-ideal model at {bg.temperature_k - T0:g} °C")
+    _plausible_levels(x, lines, file, col.header)
     counts = Counts(x, np.array(ys, dtype=float), np.array(ns, dtype=float), file,
                     background.temperature_k if background is not None else None, notes)
     check_counts(counts, file)
     return counts
+
+
+def _rows(path: Path, file: str) -> Iterator[tuple[int, list[str]]]:
+    """(line number, cells) of each line that is neither blank nor a ``#`` comment, read as it goes."""
+    for lineno, raw in reading.iter_lines(path, "counts"):
+        if not raw.strip() or raw.lstrip().startswith("#"):
+            continue
+        try:
+            cells = next(csv.reader([raw]), [])
+        except csv.Error as exc:
+            raise FitError(f"unreadable CSV ({exc})", file=file, line=lineno,
+                           hint="one value per column, separated by commas") from None
+        yield lineno, cells
+
+
+def _plausible_levels(x: np.ndarray, lines: list[int], file: str, column: str) -> None:
+    """Refuse a level whose water potential [MPa] no solution has (see :data:`POTENTIAL_RANGE_MPA`)."""
+    low, high = POTENTIAL_RANGE_MPA
+    for v, line in zip(np.asarray(x, dtype=float), lines, strict=True):
+        if v == 0.0 or low <= v <= high:
+            continue
+        if not np.isfinite(v) or v < low:
+            raise FitError(f"a water potential of {v:.4g} MPa is beyond any solution", file=file, line=line,
+                           field=column, hint=f"levels lie between {low:g} MPa and 0; check the number and its unit")
+        raise FitError(f"a water potential of {v:.4g} MPa is too close to zero to be told from pure water",
+                       file=file, line=line, field=column,
+                       hint="check the number and its unit; write 0 for pure water")
 
 
 def _lazy_catalog(header: Sequence[str]) -> Catalog | None:

@@ -243,16 +243,19 @@ def from_dict(data: dict, *, text: str = "", file: str | None = None, catalog: C
         raise err("[medium.components] must be a table of id = \"amount\"", "components", "medium")
     amounts = []
     seen: dict[str, str] = {}  # id -> key as written (a set, so that 100 000 components take no time)
+    parsed: dict[str, Any] = {}  # amount text -> Amount (the parser's own cache is keyed by field too)
     for key, val in comps.items():
         if not isinstance(val, str):
             dotted = plan_tables.dotted_key_error(key, val, "medium.components", text=text, file=file)
             if dotted is not None:
                 raise dotted
             raise err(f"amount of {key} must be text with a unit, like \"30 g/L\"", key, "medium.components")
-        try:
-            amt = parse_amount(val, field=f"medium.components.{key}")
-        except AmountError as exc:
-            raise exc.located(file=file, line=_line_of(text, key, "medium.components")) from None
+        amt = parsed.get(val)
+        if amt is None:
+            try:
+                amt = parsed[val] = parse_amount(val, field=f"medium.components.{key}")
+            except AmountError as exc:
+                raise exc.located(file=file, line=_line_of(text, key, "medium.components")) from None
         cid = key
         if catalog is not None:
             try:

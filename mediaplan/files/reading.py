@@ -20,7 +20,8 @@ kind       bytes       why
 plan       8 MiB       a plan with every catalog entry embedded is about 100 kB; 8 MiB still reads a plan of
                        100 000 components (about 2 MB), so that no honest plan meets the limit
 catalog    4 MiB       per YAML file; the largest bundled file is 43 kB
-counts     16 MiB      a counts CSV of :data:`COUNTS_MAX_ROWS` rows is about 2 MB
+counts     16 MiB      a counts CSV of :data:`COUNTS_MAX_ROWS` rows is about 200 kB; the limit leaves room for
+                       comment lines and notes columns
 =========  ==========  ======================================================================================
 
 Counts files are read line by line (:func:`iter_lines`), never whole, each line at most
@@ -44,8 +45,8 @@ from mediaplan.medium.errors import CatalogError, FitError, MediaplanError, Plan
 MiB = 1024 * 1024
 
 #: the largest counts file read, in data rows (a plasmolysis series has tens of levels, each counted a few
-#: times: 100 000 rows is far beyond any experiment, and still reads in about a second)
-COUNTS_MAX_ROWS = 100_000
+#: times: 10 000 rows is far beyond any experiment, and still reads and fits in about a second)
+COUNTS_MAX_ROWS = 10_000
 #: the longest line of a counts file [bytes] (a row of a few numbers is tens of bytes)
 MAX_LINE_BYTES = 64 * 1024
 #: the deepest nesting of tables and arrays in a plan (the deepest a plan writes is 6:

@@ -27,14 +27,21 @@ def _extra(args) -> list[str]:
 
 
 def check(extra) -> tuple[list[str], dict]:
-    """Problems of the catalog in force (load errors, numbers without a source); and counts."""
-    from mediaplan.files.catalog import load_catalog
+    """Problems of the catalog in force (load errors, numbers without a source); and counts.
+
+    A catalog that does not load is checked entry by entry, so that every bad entry is listed (an
+    implausible number, a missing field...), not only the first."""
+    from mediaplan.files.catalog import default_folders, entry_problems, load_catalog
     from mediaplan.medium.errors import CatalogError
 
     try:
         catalog = load_catalog(extra=extra)
     except CatalogError as exc:
-        return [str(exc)], {}
+        try:
+            every = entry_problems([*default_folders(), *extra])
+        except CatalogError:
+            every = []
+        return (every if str(exc) in every else [str(exc), *every]), {}
     problems = []
     unverified = 0
     for c in catalog.components.values():

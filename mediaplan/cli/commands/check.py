@@ -36,14 +36,14 @@ def check_one(path: str, catalog, *, strict: bool = False, trust: str | None = N
     out: dict = {"path": path, "status": "ok", "reason": None, "differences": [], "warnings": [], "notes": []}
     try:
         plan, cat, notes = read_plan(path, catalog, trust=trust)
-        out["notes"] = notes
+        out["notes"] = [*plan.read_notes, *notes]
         out["title"] = plan.title
         diffs = compare_provenance(plan, catalog)
         out["differences"] = [d.to_dict() for d in diffs]
         ev = evaluate(plan.recipe, cat)
         out["warnings"] = [w.to_dict() for w in ev.warnings]
-        out["osmolality_mosmol_per_kg"] = ev.osmolality_mosmol_per_kg
-        out["osmotic_potential_mpa"] = ev.osmotic_potential_mpa
+        out["osmolality_mosmol_per_kg"] = _finite(ev.osmolality_mosmol_per_kg)
+        out["osmotic_potential_mpa"] = _finite(ev.osmotic_potential_mpa)
         out["_plan"] = plan
         out["_catalog"] = cat
         blocking = [d for d in diffs if d.status == "missing" or (strict and d.status != "embedded-only")]
@@ -55,7 +55,42 @@ def check_one(path: str, catalog, *, strict: bool = False, trust: str | None = N
             exc.file = None  # the line already starts with the path
         out["status"] = "invalid"
         out["reason"] = str(exc)
+    except Exception as exc:  # noqa: BLE001 - one plan, whatever it holds, never costs the others a verdict
+        out.update(status="invalid", reason=_unexpected(exc))
+        out.pop("_plan", None)
+        out.pop("_catalog", None)
     return out
+
+
+def _finite(x):
+    """A number for JSON: None for NaN or infinity (JSON has neither)."""
+    import math
+
+    return x if isinstance(x, (int, float)) and math.isfinite(x) else None
+
+
+def _unexpected(exc: BaseException) -> str:
+    """The reason of a plan that raised what no check foresaw: the error, logged with its traceback."""
+    from mediaplan.cli.main import log_crash
+
+    where = log_crash(exc)
+    text = str(exc)
+    if len(text) > 200:
+        text = text[:200] + "…"
+    return f"unexpected error {type(exc).__name__}: {text}" + (f"; details in {where}" if where else "")
+
+
+def _json_ready(obj, depth: int = 0):
+    """``obj`` with every NaN or infinity replaced by None, so that ``--json`` always prints."""
+    if depth > 20:
+        return None
+    if isinstance(obj, float):
+        return _finite(obj)
+    if isinstance(obj, dict):
+        return {k: _json_ready(v, depth + 1) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [_json_ready(v, depth + 1) for v in obj]
+    return obj
 
 
 def run(args) -> int:
@@ -65,17 +100,25 @@ def run(args) -> int:
     catalog = catalog_from(args)
     for n in shadow_notes(catalog):
         note(n)
-    results = [check_one(p, catalog, strict=args.strict, trust=args.trust) for p in args.plans]
+    results = [check_one(p, catalog, strict=args.strict, trust=args.trust) for p in args.plans]  # one verdict each
     unstamped = 0
     if args.stamp or args.embed:
         for r in results:
             if r["status"] == "ok":
-                unstamped += not stamp_one(r, embed=args.embed)
+                try:
+                    unstamped += not stamp_one(r, embed=args.embed)
+                except Exception as exc:  # noqa: BLE001 - the other plans are still stamped and reported
+                    from mediaplan.views.safe_text import one_line
+
+                    reason = _unexpected(exc)
+                    print(one_line(f"mediaplan: {r['path']}: not stamped: {reason}"), file=sys.stderr)
+                    r["notes"].append(f"not stamped: {reason}")
+                    unstamped += 1
     for r in results:
         r.pop("_plan", None)
         r.pop("_catalog", None)
     if args.json:
-        print_json(results)
+        print_json(_json_ready(results))
     else:
         from mediaplan.files.output import write_output
         from mediaplan.views.check import check_text
