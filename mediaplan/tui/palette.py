@@ -44,7 +44,7 @@ class PlanCommands(Provider):
         if main is None or len(query.strip()) < 2:
             return
         session = self.app.session
-        ev = main.query_one("#relations").evaluation
+        ev = main.committed
         present = {c.id for c in ev.components} if ev else set()
         for comp in session.catalog.search(query, limit=6):
             if comp.id in present:

@@ -82,6 +82,31 @@ def series_app() -> MediaplanApp:
     return app
 
 
+async def fitted_series(pilot) -> None:
+    """The plasmolysis screen after a fit of the demo counts."""
+    await pilot.pause()
+    await pilot.press("p")
+    await _no_blink(pilot)
+    await pilot.press("f")
+    await settle(pilot.app, pilot)
+    await _no_blink(pilot)
+
+
+async def amount_preview(pilot) -> None:
+    """The amount dialog on sucrose with a new amount typed: the preview beside the plan as it stands."""
+    await pilot.pause()
+    pilot.app.get_screen("main").query_one("RecipeTable").select_id("sucrose")
+    await pilot.press("enter")
+    await _no_blink(pilot)
+    await pilot.press("ctrl+u", *"30 g/L")
+    await _no_blink(pilot)
+
+
+#: the scenarios the captures in docs/ are made from: name -> (app, what to do before the capture)
+SCENARIOS = {"main": (demo_app, _no_blink), "plasmolysis": (series_app, fitted_series),
+             "amount": (demo_app, amount_preview)}
+
+
 @pytest.mark.parametrize("size", SIZES, ids=SIZE_IDS)
 def test_main_screen_at(snap_compare, size):
     assert snap_compare(demo_app(), terminal_size=size, run_before=_no_blink)
@@ -89,12 +114,8 @@ def test_main_screen_at(snap_compare, size):
 
 @pytest.mark.parametrize("size", SIZES, ids=SIZE_IDS)
 def test_plasmolysis_screen_fitted_at(snap_compare, size):
-    async def run_before(pilot):
-        await pilot.pause()
-        await pilot.press("p")
-        await _no_blink(pilot)
-        await pilot.press("f")
-        await settle(pilot.app, pilot)
-        await _no_blink(pilot)
+    assert snap_compare(series_app(), terminal_size=size, run_before=fitted_series)
 
-    assert snap_compare(series_app(), terminal_size=size, run_before=run_before)
+
+def test_amount_preview_at_80x24(snap_compare):
+    assert snap_compare(demo_app(), terminal_size=SIZES[0], run_before=amount_preview)

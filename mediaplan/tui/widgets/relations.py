@@ -54,9 +54,9 @@ def comparison_text(was: Evaluation | None, now: Evaluation) -> str:
             return f"{f['tonicity']} {f['tonicity_ratio']}×" if "tonicity" in f else "–"
 
         rows.append(("tonicity", tone(a), tone(b), ""))
-    width = max(len(r[1]) for r in rows)
+    width = max(len(r[1]) for r in rows if r[3])  # the figures right-aligned, the words as they are
     lines = ["now → with this amount"]
-    lines += [f"{label:<10} {x:>{width}} → {y} {unit}".rstrip() for label, x, y, unit in rows]
+    lines += [f"{label:<10} {x:>{width if unit else 0}} → {y} {unit}".rstrip() for label, x, y, unit in rows]
     return "\n".join(lines)
 
 
