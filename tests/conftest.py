@@ -1,12 +1,30 @@
-"""Shared fixtures: every test runs isolated from the developer's own config, state and catalog."""
+"""Shared fixtures: every test runs isolated from the developer's own config, state and catalog.
+
+Cache folders are isolated per test process at import time, before any test imports the unit library
+or a reference library: each pytest-xdist worker (``PYTEST_XDIST_WORKER``: gw0, gw1...) and each run gets
+fresh folders of its own for ``XDG_CACHE_HOME`` (where reference libraries keep their parsed unit
+definitions) and ``MEDIAPLAN_CACHE_DIR``. Shared, two workers on a fresh machine would write the same
+cache file at once and one of them read it half-written (EOFError); the child processes a test starts
+inherit the folders of its worker.
+"""
 
 from __future__ import annotations
 
+import atexit
+import os
+import shutil
+import tempfile
 from pathlib import Path
 
 import pytest
 
 ROOT = Path(__file__).resolve().parent.parent
+
+WORKER = os.environ.get("PYTEST_XDIST_WORKER", "main")
+_CACHES = Path(tempfile.mkdtemp(prefix=f"mediaplan-test-caches-{WORKER}-"))
+os.environ["XDG_CACHE_HOME"] = str(_CACHES / "xdg")
+os.environ["MEDIAPLAN_CACHE_DIR"] = str(_CACHES / "mediaplan")
+atexit.register(shutil.rmtree, _CACHES, ignore_errors=True)
 
 
 @pytest.fixture(autouse=True)

@@ -80,9 +80,11 @@ LIMITS: dict[str, Kind] = {
 
 
 def size_text(n: int) -> str:
-    """A size in bytes in words (``"8 MiB"``, ``"43 kB"``)."""
+    """A size in bytes in words (``"8 MiB"``, ``"64 KiB"``, ``"43 kB"``)."""
     if n >= MiB:
         return f"{n / MiB:.3g} MiB"
+    if n % 1024 == 0 and n >= 1024:
+        return f"{n // 1024} KiB"
     if n >= 1000:
         return f"{n / 1000:.3g} kB"
     return f"{n} bytes"

@@ -221,3 +221,31 @@ def test_stamped_provenance_is_a_record(catalog, tmp_path):
     assert dict(plan.provenance) == provenance_of(plan.recipe, catalog)
     planfile.write(plan, tmp_path / "p.toml")
     assert planfile.read(tmp_path / "p.toml").provenance == plan.provenance
+
+
+# ---- the strict schema (issue 12) -----------------------------------------------------------------
+def test_a_key_far_from_every_known_name_is_refused_with_the_known_names():
+    with pytest.raises(PlanFileError) as exc:
+        planfile.loads(HEAD + '[cells]\nzzz = 1\n', file="bad.toml")
+    assert str(exc.value) == ("bad.toml:7: cells.zzz: unknown key zzz in [cells] (this format version knows ci95, "
+                              "osmolality, potential, source, tolerance)")
+
+
+def test_amounts_written_straight_into_medium_are_pointed_to_their_table():
+    with pytest.raises(PlanFileError) as exc:
+        planfile.loads(HEAD + 'sucrose = "30 g/L"\n', file="bad.toml")
+    assert str(exc.value) == ('bad.toml:6: medium.sucrose: unknown key sucrose in [medium] (amounts go under '
+                              '[medium.components]: sucrose = "30 g/L")')
+
+
+def test_a_plan_of_a_newer_minor_version_keeps_what_it_does_not_read_and_its_version():
+    text = (NEWER.replace('volume = "1 L"\n', 'volume = "1 L"\nshelf = "B"\n')
+            + '[plan]\nlab_code = "R-7"\n[cells]\nosmolality = "450 mOsm/kg"\nkept_by = "bench 4"\n[labels]\nx = 1\n')
+    plan = planfile.loads(text)
+    assert plan.version == "1.1"
+    assert plan.extra_keys == {"plan": {"lab_code": "R-7"}, "medium": {"shelf": "B"}}
+    assert plan.extra == {"labels": {"x": 1}} and dict(plan.cells.extra) == {"kept_by": "bench 4"}
+    assert plan.read_notes == ("plan format 1.1 is newer than this mediaplan writes (1.0): [labels], plan.lab_code, "
+                               "medium.shelf, cells.kept_by kept as written, not used",)
+    again = planfile.loads(planfile.dumps(plan))  # written whole, it still declares 1.1, so it reads back
+    assert again == plan and 'version = "1.1"' in planfile.dumps(plan)

@@ -161,3 +161,24 @@ def test_hand_written_tables_are_saved_as_before(written, saved, catalog):
     assert (again.target, again.cells, again.projection, again.series, again.provenance) == \
         (plan.target, plan.cells, plan.projection, plan.series, plan.provenance)
     assert planfile.dumps(again) == out
+
+
+#: the first key or table of each variant that format 1.0 does not know (variants not named have none)
+UNKNOWN_IN_VARIANT = {"cells-keys-out-of-order-unknown-key": "cells.lab_note", "target-hold-ratio-unknown": "target.who",
+                      "projection-unknown-key": "projection.speed", "series-hand-written": "series.note",
+                      "provenance-order-unknown-embedded": "provenance.note", "all-tables-reordered": "future"}
+
+
+@pytest.mark.parametrize("name, written", [v[:2] for v in TABLE_VARIANTS], ids=[v[0] for v in TABLE_VARIANTS])
+def test_unknown_keys_of_the_variants_are_refused_in_a_plan_of_this_version(name, written, catalog):
+    text = HEAD.replace('version = "1.1"', 'version = "1.0"') + "\n" + written
+    if name not in UNKNOWN_IN_VARIANT:
+        assert planfile.loads(text, catalog=catalog).read_notes == ()
+        return
+    with pytest.raises(MediaplanError) as exc:
+        planfile.loads(text, file="v.toml", catalog=catalog)
+    assert exc.value.field == UNKNOWN_IN_VARIANT[name]
+    assert "unknown " in exc.value.message and exc.value.line is not None
+    # the same plan declaring the newer minor version reads, and says what it kept unread
+    newer = planfile.loads(HEAD + "\n" + written, catalog=catalog)
+    assert newer.read_notes and newer.read_notes[0].startswith("plan format 1.1 is newer than this mediaplan")
