@@ -96,7 +96,7 @@ def read_counts_csv(path: str | Path, *, osmoticum: str | None = None, backgroun
     skipped; a level whose two count cells are both empty (not counted yet) is skipped too.
 
     The file is read line by line, never whole: a regular UTF-8 file of at most 16 MiB, lines of at most
-    64 KiB, at most :data:`~mediaplan.files.reading.COUNTS_MAX_ROWS` rows of counts and
+    1 MiB, at most :data:`~mediaplan.files.reading.COUNTS_MAX_ROWS` rows of counts and
     :data:`MAX_COLUMNS` columns (:mod:`mediaplan.files.reading`).
     """
     p = Path(path)

@@ -47,8 +47,10 @@ MiB = 1024 * 1024
 #: the largest counts file read, in data rows (a plasmolysis series has tens of levels, each counted a few
 #: times: 10 000 rows is far beyond any experiment, and still reads and fits in about a second)
 COUNTS_MAX_ROWS = 10_000
-#: the longest line of a counts file [bytes] (a row of a few numbers is tens of bytes)
-MAX_LINE_BYTES = 64 * 1024
+#: the longest line of a counts file [bytes] (a row of a few numbers is tens of bytes, a header a few
+#: hundred; 1 MiB bounds what one line may cost while a header of absurd unit text still reaches the unit
+#: grammar, which names what it could not read)
+MAX_LINE_BYTES = 1 * MiB
 #: the deepest nesting of tables and arrays in a plan (the deepest a plan writes is 6:
 #: provenance.embedded.components.ID.species.ION)
 TOML_MAX_DEPTH = 20

@@ -248,9 +248,9 @@ CASES = [
          fifo=True),
     Case("counts-dev-zero", lambda t: Path("/dev/zero"), fit_cmd,
          "mediaplan: {path}: is a device, not a counts file (" + BOUNDED.format(kind="counts file") + ")"),
-    Case("counts-long-line", lambda t: _plan(t, "water_potential_mpa,plasmolysed,total\n-1," + "1" * 70_000
+    Case("counts-long-line", lambda t: _plan(t, "water_potential_mpa,plasmolysed,total\n-1," + "1" * 1_100_000
                                              + ",10\n", "long.csv"),
-         fit_cmd, "mediaplan: {path}:2: line longer than 64 KiB (is this really a counts file?)"),
+         fit_cmd, "mediaplan: {path}:2: line longer than 1 MiB (is this really a counts file?)"),
     Case("counts-potentials-1e-301", lambda t: _plan(t, "water_potential_mpa,plasmolysed,total\n-1e-301,0,10\n"
                                                      "-2e-301,3,10\n-3e-301,7,10\n-4e-301,10,10\n", "tiny.csv"),
          fit_cmd, "mediaplan: {path}:2: water_potential_mpa: a water potential of -1e-301 MPa is too close to zero "
