@@ -128,6 +128,22 @@ async def test_main_screen_shows_names_figures_and_an_unsaved_mark_unclipped(cat
 
 @sizes
 @run_async
+async def test_the_panel_says_when_van_t_hoff_is_per_litre(catalog, size):
+    for plan, shown in ((half_ms_plan(), True), (shoot_plan(), False)):
+        ev = evaluate(plan.recipe, catalog)
+        # the van't Hoff osmolality is above the non-ideal one; its potential is above (less negative) too
+        # in the half-strength demo, below in the shoot demo
+        up = ev.vant_hoff_potential_mpa > ev.osmotic_potential_mpa
+        assert ev.osmolality_ideal_mosmol_per_kg > ev.osmolality_mosmol_per_kg and up is shown
+        app = app_for(Session(plan, catalog))
+        async with app.run_test(size=size) as pilot:
+            await pilot.pause()
+            words = " ".join(ln.split("│")[-2].strip() for ln in screen_lines(app)[1:14] if ln.count("│") >= 2)
+            assert ("van't Hoff ψs is per litre of medium" in words) is shown, words
+
+
+@sizes
+@run_async
 async def test_detail_line_shows_the_rows_own_amount(catalog, size):
     recipe = Recipe(base="ms1962").with_amount("agar", "8 g/L").with_amount("mannitol", "20 mM")
     app = app_for(Session(Plan(recipe=recipe), catalog))
@@ -501,6 +517,9 @@ async def test_series_fields_counts_and_plot_are_unclipped(catalog, size):
         ticks = [m.group(1) for ln in lines for m in re.finditer(r"(\S+)┤", ln)]
         assert set(ticks) <= {"0", "50%", "100%"} and "50%" in ticks
         axis = next(i for i, ln in enumerate(lines) if "└" in ln and "┬" in ln)
+        last_row = max(lines.index(row) for _, row in shown) if shown else -1
+        if size[0] < 120:  # narrow: the plot under the table, not beside it
+            assert axis > last_row and all("┤" not in row for _, row in shown)
         values = re.findall(r"-?\d+(?:\.\d+)?", lines[axis + 1])
         assert values and all(round(float(v) * 100) % 5 == 0 for v in values), values
         # the cursor brings the levels back into view

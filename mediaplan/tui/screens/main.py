@@ -75,8 +75,20 @@ class MainScreen(Screen):
         self._topbar()
         self._detail()
         self._refresh_bindings_if_changed()
+        self._relayout_if_reshaped()
         self.post_message(self.Evaluated(outcome))
         return outcome
+
+    _shape: tuple = ()
+
+    def _relayout_if_reshaped(self) -> None:
+        """When the medium gains or loses components (a base applied, a plan opened), lay the whole screen
+        out once more after this refresh, so no panel keeps the size of the previous plan."""
+        ev = self.committed
+        shape = (tuple(c.id for c in ev.components) if ev else (), self.query_one(NotesPanel).plain.count("\n"))
+        if shape != self._shape:
+            self._shape = shape
+            self.call_after_refresh(self.refresh, layout=True)
 
     def _topbar(self) -> None:
         """Name, file and title; the unsaved mark comes before the title so a narrow screen never cuts it."""

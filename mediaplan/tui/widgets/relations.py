@@ -41,6 +41,14 @@ def figures(ev: Evaluation) -> dict[str, str]:
     return out
 
 
+def vant_hoff_disagrees(ev: Evaluation) -> bool:
+    """The van't Hoff column points the other way in osmolality and in potential (its potential counts moles
+    per litre of medium, its osmolality per kg of water), so the panel says so."""
+    d_osm = ev.osmolality_ideal_mosmol_per_kg - ev.osmolality_mosmol_per_kg
+    d_psi = ev.vant_hoff_potential_mpa - ev.osmotic_potential_mpa
+    return d_osm * d_psi > 0  # more ideal osmoles yet a less negative ideal potential (or the reverse)
+
+
 def comparison_text(was: Evaluation | None, now: Evaluation) -> str:
     """The plan as it stands beside the candidate: osmolality, potential and tonicity, one line each."""
     b = figures(now)
@@ -118,6 +126,9 @@ class RelationsPanel(Static):
                  pair("ψs bar", f["potential_bar"], f["vant_hoff_bar"]),
                  single("water activity", f["water_activity"]),
                  single("freezes at °C", f["freezing_point"])]
+        if vant_hoff_disagrees(ev):
+            lines.insert(4, Content.styled("van't Hoff ψs is per litre of medium",
+                                           "dim italic"))
         if ev.tonicity:
             t = ev.tonicity
             ratio = f"  {f['tonicity_ratio']} × cells ({t['reference_mosmol_per_kg']:.0f} mOsm/kg)"
