@@ -7,6 +7,7 @@ to import) or for a medium model to be compiled. Plain Python; nothing here touc
 
 from __future__ import annotations
 
+import os
 import time
 from collections.abc import Callable
 
@@ -61,15 +62,36 @@ STEPS: tuple[tuple[str, Callable[[Recipe, Catalog], None]], ...] = (
 )
 
 
+#: while warming, the interpreter hands the GIL between threads this often [s] (default 0.005): the screen's
+#: thread then waits at most this long for its turn, so keys and paints stay quick during the imports
+SWITCH_INTERVAL = 0.0005
+
+
 def warm_up(recipe: Recipe, catalog: Catalog) -> dict[str, float]:
     """Run each step once; returns the seconds each took [s] (a step that fails is left out: the user's own
-    action will meet the same problem and report it in words)."""
+    action will meet the same problem and report it in words).
+
+    Meant for a worker thread: the thread asks the system for a low priority, and the GIL is handed over
+    more often until the steps are done.
+    """
+    import sys
+    import threading
+
+    try:  # this thread only (Linux gives each thread its own priority)
+        os.setpriority(os.PRIO_PROCESS, threading.get_native_id(), 19)
+    except (AttributeError, OSError):
+        pass
+    interval = sys.getswitchinterval()
+    sys.setswitchinterval(min(interval, SWITCH_INTERVAL))
     took: dict[str, float] = {}
-    for name, step in STEPS:
-        t0 = time.perf_counter()
-        try:
-            step(recipe, catalog)
-        except Exception:  # noqa: BLE001 - warming must never disturb the session
-            continue
-        took[name] = time.perf_counter() - t0
+    try:
+        for name, step in STEPS:
+            t0 = time.perf_counter()
+            try:
+                step(recipe, catalog)
+            except Exception:  # noqa: BLE001 - warming must never disturb the session
+                continue
+            took[name] = time.perf_counter() - t0
+    finally:
+        sys.setswitchinterval(interval)
     return took
