@@ -52,6 +52,8 @@ class MediaplanApp(App):
     TITLE = "mediaplan"
     COMMANDS = App.COMMANDS | {PlanCommands}
     BINDINGS = bindings("app")
+    #: warm the solver, series, fit and sheet after the first paint (tests of other things turn it off)
+    WARM_START = True
 
     @dataclass
     class Warmed(Message):
@@ -83,7 +85,8 @@ class MediaplanApp(App):
         if os.environ.get(EXIT_AFTER_PAINT) == "1":
             self.call_after_refresh(self.exit)
             return
-        self.call_after_refresh(self.warm_start)
+        if self.WARM_START:
+            self.call_after_refresh(self.warm_start)
         if self.offer_recovery:
             self.call_after_refresh(self._offer_recovery)
 
