@@ -22,12 +22,11 @@ Clegg SL, Seinfeld JH (2004) J Phys Chem A 108:1008 (ZSR with a mixed-electrolyt
 from __future__ import annotations
 
 import math
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
 import numpy as np
 
-from mediaplan.thermo import neutral as _neutral
 from mediaplan.thermo import peg as _peg
 from mediaplan.thermo.constants import M_WATER
 from mediaplan.thermo.params import NeutralParams
@@ -81,25 +80,186 @@ class MixtureResult:
     state: tuple | None = None
 
 
-def _ion_phi(pitzer, ion_m: np.ndarray, scale: np.ndarray, T: float) -> np.ndarray:
-    return np.asarray(pitzer.osmotic_coefficient(ion_m * scale[:, None], T), dtype=float)
-
-
 def zsr_osmolality(inp: MixtureInput, *, start: tuple | None = None) -> MixtureResult:
     """Solve the ZSR rule for the osmolality of the mixture (vectorised over B rows).
 
+    Parameters
+    ----------
+    inp : the amounts of every solute group (see :class:`MixtureInput`)
+    start : ``MixtureResult.state`` of the same single composition (at another temperature): a warm start
+
     Notes
     -----
-    Unknowns: the mixture osmolality y and, for each neutral solute and PEG grade j, the amount x_j
-    of its binary solution that has the same water activity. Equations: O_j(x_j) = y for every j
-    (O_j: binary osmolality), and Σ_j m_j/x_j + r_e(y) = 1, where the electrolytes, at scale s of
-    their own ion molalities, contribute r_e = 1/s with s·M_e·φ_e(s) = y (M_e = Σ m_ions).
-    One Newton step on the whole system reduces to a scalar equation in δy (δx_j = (δy − R_j)/O_j');
-    φ_e is refreshed by one Pitzer evaluation per step at s = y/(M_e φ_e). Each step costs one
-    evaluation of every binary model and of the Pitzer sum; five to seven steps reach 1e-12.
+    Unknowns: the mixture osmolality y and, for each group j of neutral solutes (solutes that share one
+    binary model: one Norrish constant, or the ideal solution) and each PEG grade, the amount x_j of its
+    binary solution that has the same water activity. Equations: O_j(x_j) = y for every j (O_j: binary
+    osmolality), and Σ_j m_j/x_j + r_e(y) = 1, where the electrolytes, at scale s of their own ion
+    molalities, contribute r_e = 1/s with s·M_e·φ_e(s) = y (M_e = Σ m_ions). One Newton step on the whole
+    system reduces to a scalar equation in δy (δx_j = (δy − R_j)/O_j'); φ_e follows a local power law
+    φ_e ∝ s^g refreshed by one Pitzer evaluation per step. Five to seven steps reach 1e-12.
+
+    One composition is solved on Python floats and a batch on numpy arrays (numpy's per-call cost
+    dominates a single small row), but both run the same function, :func:`_newton`, with the arithmetic
+    passed in (:data:`_FLOATS`, :data:`_ARRAYS`): they agree by construction. A row whose electrolyte
+    group leaves the range where Pitzer's φ is positive has no answer (NaN), on either path.
     """
-    if np.ndim(inp.T) == 0 and _single_row(inp):
-        return _zsr_one(inp, start)
+    if (isinstance(inp.T, float) or np.ndim(inp.T) == 0) and _single_row(inp):
+        return _newton(_FLOATS, _one_row(inp, start), start)
+    with np.errstate(divide="ignore", invalid="ignore"):  # 0/0 in rows of pure water: masked, exact
+        return _newton(_ARRAYS, _batch(inp), None)
+
+
+def _single_row(inp: MixtureInput) -> bool:
+    for a in (inp.ion_m, inp.neutral_m, inp.peg_c):
+        if a is not None:
+            shape = a.shape if isinstance(a, np.ndarray) else np.shape(a)
+            if len(shape) == 2 and shape[0] != 1:
+                return False
+    return True
+
+
+# ---- the arithmetic, for Python floats or for numpy arrays --------------------------------------
+def _log_float(v: float) -> float:
+    """ln v like numpy's: NaN below 0, -inf at 0 (``math.log`` would raise)."""
+    if v > 0:
+        return math.log(v)
+    return -math.inf if v == 0 else math.nan
+
+
+def _div_float(a: float, b: float, default: float) -> float:
+    return a / b if b != 0 else default
+
+
+def _div_array(a, b, default):
+    return np.where(b != 0, a / np.where(b != 0, b, 1.0), default)
+
+
+def _peg_float(c: float, T: float, grade: int) -> tuple[float, float]:
+    return float(_peg.peg_osmolality(c, T, grade)), float(_peg.peg_osmolality_dc(c, T, grade))
+
+
+def _peg_array(c, T, grade):
+    return _peg.peg_osmolality(c, T, grade), _peg.peg_osmolality_dc(c, T, grade)
+
+
+def _phi_float(pitzer, ion_m: np.ndarray, s: float, T: float) -> float:
+    return float(pitzer.osmotic_coefficient(ion_m * s, T))
+
+
+def _phi_array(pitzer, ion_m: np.ndarray, s: np.ndarray, T) -> np.ndarray:
+    return np.asarray(pitzer.osmotic_coefficient(ion_m * s[:, None], T), dtype=float)
+
+
+@dataclass(frozen=True)
+class _Ops:
+    """The operations :func:`_newton` needs, on one kind of number."""
+
+    where: Callable
+    maximum: Callable
+    clip: Callable
+    abs: Callable
+    log: Callable
+    log1p: Callable
+    div: Callable  # div(a, b, default): a / b, or default where b == 0
+    every: Callable  # all elements true
+    worst: Callable  # largest element [same unit]
+    peg: Callable  # (c [g/g], T [K], grade) -> (osmolality, its derivative in c)
+    phi: Callable  # (pitzer, ion molalities, scale, T) -> osmotic coefficient of the scaled ions
+
+
+_FLOATS = _Ops(where=lambda c, a, b: a if c else b, maximum=max, clip=lambda v, lo, hi: min(max(v, lo), hi),
+               abs=abs, log=_log_float, log1p=math.log1p, div=_div_float, every=bool, worst=float,
+               peg=_peg_float, phi=_phi_float)
+_ARRAYS = _Ops(where=np.where, maximum=np.maximum, clip=np.clip, abs=np.abs, log=np.log, log1p=np.log1p,
+               div=_div_array, every=lambda a: bool(np.all(a)),
+               worst=lambda a: float(np.max(a)) if np.size(a) else 0.0, peg=_peg_array, phi=_phi_array)
+
+
+# ---- the system ---------------------------------------------------------------------------------
+#: one row of no columns (a medium without neutral solutes or without PEG); read-only, so it can be shared
+_NO_COLUMNS = np.zeros((1, 0))
+_NO_COLUMNS.flags.writeable = False
+
+
+class _Group:
+    """One ZSR group other than the electrolytes: the neutral solutes that share one binary model
+    (Norrish constant ``key``; 0 for the ideal solution), or one PEG grade (``key`` [g/mol]).
+
+    Solutes with the same binary model have the same isopiestic molality, so Σ m_j / x_j = (Σ m_j) / x
+    exactly: many trace organics that follow Raoult's law cost one group, not one each.
+
+    kind : "n" (neutral) or "p" (PEG); members : columns of neutral_m or of peg_c; m : Σ molality
+    [mol/kg] or PEG concentration [g/g water]; on : rows where the group is present
+    """
+
+    __slots__ = ("kind", "key", "members", "m", "on")
+
+    def __init__(self, kind: str, key: float, members: list[int]) -> None:
+        self.kind, self.key, self.members = kind, key, members
+        self.m: float | np.ndarray = 0.0
+        self.on: bool | np.ndarray = True
+
+
+@dataclass
+class _System:
+    """A ZSR problem on one kind of number: floats (one row) or arrays of shape (B,)."""
+
+    T: float | np.ndarray
+    pitzer: object | None
+    ion_m: np.ndarray | None  # (n_ions,) or (B, n_ions)
+    M_e: float | np.ndarray  # Σ ion molalities [mol/kg]
+    has_e: bool | np.ndarray
+    phi_own: float | np.ndarray  # Pitzer φ at the medium's own ion molalities (NaN: not computed)
+    electrolytes: bool  # the Pitzer step runs at all
+    groups: list[_Group]
+    neutral_m: np.ndarray  # (B, k) [mol/kg]
+    peg_c: np.ndarray  # (B, p) [g/g water]
+    peg_grades: Sequence[int]
+    warm: bool  # restart from ``start``
+    neutral_list: list[float] | None  # one row: neutral_m[0] and peg_c[0] as Python floats
+    peg_list: list[float] | None
+
+
+def _grouped(neutral: Sequence[NeutralParams], peg_grades: Sequence[int], nm_used, pc_used) -> list[_Group]:
+    """Groups of the neutral columns in use (by binary model, in order of first appearance) and the PEG
+    columns in use; m and on are filled in by the caller."""
+    by_model: dict[float, list[int]] = {}
+    for j in nm_used:
+        p = neutral[j]
+        by_model.setdefault(0.0 if p.model == "ideal" else float(p.K), []).append(j)
+    groups = [_Group("n", K, js) for K, js in by_model.items()]
+    for j in pc_used:
+        groups.append(_Group("p", float(peg_grades[j]), [j]))
+    return groups
+
+
+def _one_row(inp: MixtureInput, start: tuple | None) -> _System:
+    T = float(inp.T)
+    im = None
+    if inp.pitzer is not None and inp.ion_m is not None:
+        im = np.asarray(inp.ion_m, dtype=float).reshape(-1)
+    M_e = float(im.sum()) if im is not None else 0.0
+    has_e = M_e > 0
+    nm = np.asarray(inp.neutral_m, dtype=float).reshape(1, -1) if len(inp.neutral) else _NO_COLUMNS
+    pc = np.asarray(inp.peg_c, dtype=float).reshape(1, -1) if len(inp.peg_grades) else _NO_COLUMNS
+    nml, pcl = nm[0].tolist(), pc[0].tolist()
+    groups = _grouped(inp.neutral, inp.peg_grades, [j for j, v in enumerate(nml) if v > 0],
+                      [j for j, v in enumerate(pcl) if v > 0])
+    for grp in groups:
+        src = nml if grp.kind == "n" else pcl
+        grp.m = sum(src[j] for j in grp.members)
+    warm = start is not None and start[0] > 0 and len(start[1]) == len(groups)
+    if im is None:
+        phi_own = 1.0
+    elif warm and has_e:
+        phi_own = math.nan  # not needed to restart from a solved state (see MixtureResult.electrolyte_phi_own)
+    else:
+        phi_own = float(inp.pitzer.osmotic_coefficient(im, T))
+    return _System(T, inp.pitzer, im, M_e, has_e, phi_own, has_e, groups, nm, pc, inp.peg_grades, warm,
+                   nml, pcl)
+
+
+def _batch(inp: MixtureInput) -> _System:
     nm = np.atleast_2d(np.asarray(inp.neutral_m, dtype=float)) if len(inp.neutral) else None
     pc = np.atleast_2d(np.asarray(inp.peg_c, dtype=float)) if len(inp.peg_grades) else None
     im = (np.atleast_2d(np.asarray(inp.ion_m, dtype=float))
@@ -107,221 +267,153 @@ def zsr_osmolality(inp: MixtureInput, *, start: tuple | None = None) -> MixtureR
     B = next(a.shape[0] for a in (im, nm, pc, np.zeros((1, 0))) if a is not None)
     nm = np.zeros((B, 0)) if nm is None else nm
     pc = np.zeros((B, 0)) if pc is None else pc
-    T = inp.T
     M_e = im.sum(axis=1) if im is not None else np.zeros(B)
-    has_e = M_e > 0
-    phi_own = _ion_phi(inp.pitzer, im, np.ones(B), T) if im is not None else np.ones(B)
-    # neutral solutes: only columns in use, all at once (stacked Norrish constants)
-    used_n = [j for j in range(nm.shape[1]) if np.any(nm[:, j] > 0)]
-    stacked = _neutral.stack([inp.neutral[j] for j in used_n]) if used_n else None
-    mN = nm[:, used_n]
-    used_p = [j for j in range(pc.shape[1]) if np.any(pc[:, j] > 0)]
-    cP = pc[:, used_p]
-    grades = [inp.peg_grades[j] for j in used_p]
-
-    def binaries(xN, xP):
-        """Binary osmolalities and their derivatives of every neutral and PEG group."""
-        if stacked is not None:
-            oN = _neutral.binary_osmolality(xN, stacked)
-            dN = _neutral.binary_osmolality_dm(xN, stacked)
-        else:
-            oN = dN = np.zeros((B, 0))
-        oP = np.empty_like(xP)
-        dP = np.empty_like(xP)
-        for k, g in enumerate(grades):
-            oP[:, k] = _peg.peg_osmolality(xP[:, k], T, g)
-            dP[:, k] = _peg.peg_osmolality_dc(xP[:, k], T, g)
-        return oN, dN, oP, dP
-
-    # additive first guess
-    oN0, _, oP0, _ = binaries(mN, cP)
-    y = M_e * phi_own + oN0.sum(axis=1) + oP0.sum(axis=1)
-    active = y > 0
-    y = np.where(active, y, 1.0)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        xN = np.where(mN > 0, mN * (y[:, None] / np.where(oN0 > 0, oN0, 1.0)), 1.0)
-        xP = np.where(cP > 0, cP * (y[:, None] / np.where(oP0 > 0, oP0, 1.0)), 1.0)
-    # electrolyte group: local power law phi_e(s) ≈ phi_c (s/s_c)^g around the last Pitzer point
-    s_c = np.ones(B)
-    phi_c = phi_own.copy()
-    g = np.zeros(B)
-    Me = np.where(has_e, M_e, 1.0)
-
-    def e_scale(y):
-        return np.where(has_e, (y * s_c**g / (Me * phi_c)) ** (1.0 / (1.0 + g)), 1.0)
-
-    maskN = mN > 0
-    maskP = cP > 0
-    for _ in range(_MAX_OUTER):
-        oN, dN, oP, dP = binaries(xN, xP)
-        RN = np.where(maskN, oN - y[:, None], 0.0)
-        RP = np.where(maskP, oP - y[:, None], 0.0)
-        re = np.where(has_e, 1.0 / e_scale(y), 0.0)
-        F = re + np.where(maskN, mN / xN, 0.0).sum(axis=1) + np.where(maskP, cP / xP, 0.0).sum(axis=1) - 1.0
-        # d(m/x)/dx = -m/x^2 ; δx = (δy - R)/O' ; d r_e/dy = -r_e / ((1+g) y)
-        aN = np.where(maskN, mN / xN**2 / dN, 0.0)
-        aP = np.where(maskP, cP / xP**2 / dP, 0.0)
-        denom = -re / ((1.0 + g) * y) - aN.sum(axis=1) - aP.sum(axis=1)
-        rhs = -F - (aN * RN).sum(axis=1) - (aP * RP).sum(axis=1)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            dy = np.where(active & (denom != 0), rhs / denom, 0.0)
-        y_new = np.clip(y + dy, 0.2 * y, 5.0 * y)
-        dy = y_new - y
-        xN = np.where(maskN, np.maximum(xN + (dy[:, None] - RN) / dN, 0.2 * xN), xN)
-        xP = np.where(maskP, np.maximum(xP + (dy[:, None] - RP) / dP, 0.2 * xP), xP)
-        y = y_new
-        dphi = 0.0
-        if im is not None:
-            s_new = e_scale(y)
-            phi_pred = phi_c * (s_new / s_c) ** g
-            phi_new = np.where(has_e, _ion_phi(inp.pitzer, im, s_new, T), 1.0)
-            dphi = float(np.max(np.abs(phi_new - phi_pred))) if B else 0.0
-            with np.errstate(divide="ignore", invalid="ignore"):
-                ls = np.log(s_new / s_c)
-                g = np.where(has_e & (np.abs(ls) > 1e-9), np.log(phi_new / phi_c) / np.where(ls != 0, ls, 1.0), g)
-            g = np.clip(g, -0.5, 2.0)
-            s_c, phi_c = s_new, phi_new
-        if (np.all(np.abs(dy) <= _TOL * y) and dphi <= _PHI_TOL
-                and np.all(np.abs(RN) <= 1e-10 * y[:, None]) and np.all(np.abs(RP) <= 1e-10 * y[:, None])):
-            break
-    phi_hat = phi_c
-    y = np.where(active, y, 0.0)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        fe = np.where(active & has_e, 1.0 / e_scale(np.where(active, y, 1.0)), 0.0)
-    fn = np.zeros((B, nm.shape[1]))
-    fn[:, used_n] = np.where(maskN & active[:, None], mN / xN, 0.0)
-    fp = np.zeros((B, pc.shape[1]))
-    fp[:, used_p] = np.where(maskP & active[:, None], cP / xP, 0.0)
-    peg_mol = np.zeros(B)
-    for j, g in enumerate(inp.peg_grades):
-        peg_mol = peg_mol + pc[:, j] * 1000.0 / g
-    ideal = M_e + nm.sum(axis=1) + peg_mol
-    return MixtureResult(y, ideal, phi_hat, phi_own, fe, fn, fp)
+    phi_own = _phi_array(inp.pitzer, im, np.ones(B), inp.T) if im is not None else np.ones(B)
+    groups = _grouped(inp.neutral, inp.peg_grades, [j for j in range(nm.shape[1]) if np.any(nm[:, j] > 0)],
+                      [j for j in range(pc.shape[1]) if np.any(pc[:, j] > 0)])
+    for grp in groups:
+        src = nm if grp.kind == "n" else pc
+        grp.m = src[:, grp.members].sum(axis=1)
+        grp.on = grp.m > 0
+    return _System(inp.T, inp.pitzer, im, M_e, M_e > 0, phi_own, im is not None, groups, nm, pc,
+                   inp.peg_grades, False, None, None)
 
 
-def _single_row(inp: MixtureInput) -> bool:
-    for a in (inp.ion_m, inp.neutral_m, inp.peg_c):
-        if a is not None and np.ndim(a) == 2 and np.shape(a)[0] != 1:
-            return False
-    return True
+def _binary(ops: _Ops, neutral: bool, key: float, x, T):
+    """Osmolality [osmol/kg] of a group's binary solution at amount x, and its derivative in x.
 
-
-def _zsr_one(inp: MixtureInput, start: tuple | None = None) -> MixtureResult:
-    """The same Newton system as :func:`zsr_osmolality` for one composition, in Python floats.
-
-    Numpy's per-call overhead dominates a single small row; this path is several times faster and is
-    checked against the vectorised one in the tests.
+    Neutral groups (``key``: Norrish constant K): Norrish (1966), Osm = [ln(1 + u) + K (u/(1+u))^2] / M_w
+    with u = M_w x, the equations of :func:`mediaplan.thermo.neutral.binary_osmolality` and ``_dm`` written
+    once for both kinds of number (the tests hold them to those functions); PEG (``key``: grade [g/mol]):
+    the Michel equations of :mod:`mediaplan.thermo.peg`.
     """
-    T = float(inp.T)
-    im = None
-    if inp.pitzer is not None and inp.ion_m is not None:
-        im = np.asarray(inp.ion_m, dtype=float).reshape(-1)
-    M_e = float(im.sum()) if im is not None else 0.0
-    has_e = M_e > 0
-    warm = start is not None and start[0] > 0
-    if im is None:
-        phi_own = 1.0
-    elif warm and has_e:
-        phi_own = math.nan  # not needed to restart from a solved state (see MixtureResult.electrolyte_phi_own)
-    else:
-        phi_own = float(inp.pitzer.osmotic_coefficient(im, T))
-    nm = np.asarray(inp.neutral_m, dtype=float).reshape(-1) if len(inp.neutral) else np.zeros(0)
-    pc = np.asarray(inp.peg_c, dtype=float).reshape(-1) if len(inp.peg_grades) else np.zeros(0)
-    Mw = M_WATER
-    # neutral groups: (index, m, K); Norrish O(x) = (ln(1+u) + K (u/(1+u))^2)/Mw, u = Mw x
-    # solutes with the same binary model form one ZSR group (sum m / x(y) is then exact), so the many
-    # trace organics that follow Raoult's law cost one group, not one each
-    by_model: dict[tuple, list[int]] = {}
-    for j, p in enumerate(inp.neutral):
-        if nm[j] > 0:
-            by_model.setdefault(("n", 0.0 if p.model == "ideal" else float(p.K)), []).append(j)
-    groups = []
-    members: list[list[int]] = []
-    for (kind, K), js in by_model.items():
-        groups.append((kind, js[0], float(sum(nm[j] for j in js)), K))
-        members.append(js)
-    for j, g in enumerate(inp.peg_grades):
-        if pc[j] > 0:
-            groups.append(("p", j, float(pc[j]), g))
-            members.append([j])
+    if neutral:
+        u = M_WATER * x
+        d = 1.0 + u
+        xs = u / d
+        return (ops.log1p(u) + key * xs * xs) / M_WATER, 1.0 / d + 2.0 * key * xs / (d * d)
+    return ops.peg(x, T, int(key))
 
-    def binary(kind, x, K):
-        if kind == "n":
-            u = Mw * x
-            d = 1.0 + u
-            xs = u / d
-            return (math.log1p(u) + K * xs * xs) / Mw, 1.0 / d + 2.0 * K * xs / (d * d)
-        return float(_peg.peg_osmolality(x, T, K)), float(_peg.peg_osmolality_dc(x, T, K))
 
-    y = M_e * (1.0 if math.isnan(phi_own) else phi_own)
-    x = []
-    for kind, _j, m, K in groups:
-        o, _ = binary(kind, m, K)
-        y += o
-        x.append(m)
-    fe = 0.0
-    if y <= 0:
-        ideal = M_e + float(nm.sum()) + sum(float(pc[j]) * 1000.0 / g for j, g in enumerate(inp.peg_grades))
-        return MixtureResult(np.zeros(1), np.array([ideal]), np.ones(1), np.array([phi_own]), np.zeros(1),
-                             np.zeros((1, len(inp.neutral))), np.zeros((1, len(inp.peg_grades))))
-    x = [m * y / binary(kind, m, K)[0] for (kind, _j, m, K) in groups]
-    s_c, phi_c, g_exp = 1.0, phi_own, 0.0
-    if warm and len(start[1]) == len(x):
+def _newton(ops: _Ops, s: _System, start: tuple | None) -> MixtureResult:
+    """Solve the ZSR system ``s`` (see :func:`zsr_osmolality`) with the arithmetic ``ops``."""
+    where, div, every, absolute = ops.where, ops.div, ops.every, ops.abs
+    floats = ops is _FLOATS
+    T, has_e = s.T, s.has_e
+    groups = [(grp.kind == "n", grp.key, grp.m, grp.on) for grp in s.groups]
+    # additive first guess: each group's own binary osmolality, the electrolytes at their own φ
+    y = s.M_e * (1.0 if floats and math.isnan(s.phi_own) else s.phi_own)
+    o0 = []
+    for neutral, key, m, on in groups:
+        o, _ = _binary(ops, neutral, key, m, T)
+        o0.append(o)
+        y = y + where(on, o, 0.0)
+    active = y > 0
+    if floats and not active:  # pure water
+        return _result(ops, s, 0.0, [1.0] * len(groups), 0.0, 1.0, None, False, False)
+    y = where(active, y, 1.0)
+    x = [where(on, m * div(y, o, 1.0), 1.0) for (_, _, m, on), o in zip(groups, o0, strict=True)]
+    # electrolyte group: local power law phi_e(s) ≈ phi_c (s/s_c)^g around the last Pitzer point
+    s_c, phi_c, g = y * 0.0 + 1.0, s.phi_own, y * 0.0
+    if s.warm:
         # the same composition solved at another temperature: restart at its state, with phi at this T
-        y, x, g_exp, s_c = start[0], list(start[1]), start[2], start[3]
+        y, x, g, s_c = start[0], list(start[1]), start[2], start[3]
         if has_e:
-            phi_c = float(inp.pitzer.osmotic_coefficient(im * s_c, T))
-    Me = M_e if has_e else 1.0
+            phi_c = ops.phi(s.pitzer, s.ion_m, s_c, T)
+    Me = where(has_e, s.M_e, 1.0)
+    bad = active & False  # rows whose electrolytes left Pitzer's range (φ <= 0): no answer
 
     def e_scale(yv):
-        return (yv * s_c**g_exp / (Me * phi_c)) ** (1.0 / (1.0 + g_exp)) if has_e else 1.0
+        """Scale s of the medium's own ion molalities whose binary solution has osmolality yv (rows
+        without ions: any positive number; they have φ = 1 and g = 0 throughout)."""
+        return (yv * s_c**g / (Me * phi_c)) ** (1.0 / (1.0 + g))
 
-    last_dphi = float("inf") if has_e else 0.0
+    last_dphi = math.inf if s.electrolytes else 0.0
     for _ in range(_MAX_OUTER):
-        re = 1.0 / e_scale(y) if has_e else 0.0
+        re = where(has_e, 1.0 / e_scale(y), 0.0) if s.electrolytes else 0.0
         F = re - 1.0
-        denom = -re / ((1.0 + g_exp) * y)
-        rhs_extra = 0.0
-        parts = []
-        maxR = 0.0
-        for (kind, _j, m, K), xi in zip(groups, x, strict=True):
-            o, d = binary(kind, xi, K)
+        denom = -re / ((1.0 + g) * y)
+        rhs = 0.0
+        steps = []
+        settled = True
+        for (neutral, key, m, on), xg in zip(groups, x, strict=True):
+            o, d = _binary(ops, neutral, key, xg, T)
             R = o - y
-            a = m / (xi * xi) / d
-            F += m / xi
-            denom -= a
-            rhs_extra += a * R
-            parts.append((R, d))
-            maxR = max(maxR, abs(R))
-        dy = (-F - rhs_extra) / denom if denom != 0 else 0.0
-        y_new = min(max(y + dy, 0.2 * y), 5.0 * y)
+            a = m / (xg * xg) / d
+            f = m / xg
+            if not floats:  # rows without this group, or without an answer, take no part
+                on = on & active
+                R, a, f = where(on, R, 0.0), where(on, a, 0.0), where(on, f, 0.0)
+            F = F + f
+            denom = denom - a
+            rhs = rhs + a * R
+            steps.append((R, d))
+            settled = settled and every(absolute(R) <= 1e-10 * y)
+        dy = div(-F - rhs, denom, 0.0)
+        if not floats:
+            dy = where(active, dy, 0.0)
+        y_new = ops.clip(y + dy, 0.2 * y, 5.0 * y)
         dy = y_new - y
-        x = [max(xi + (dy - R) / d, 0.2 * xi) for xi, (R, d) in zip(x, parts, strict=True)]
+        x = [where(on, ops.maximum(xg + (dy - R) / d, 0.2 * xg), xg)
+             for (_, _, _, on), xg, (R, d) in zip(groups, x, steps, strict=True)]
         y = y_new
-        if abs(dy) <= _TOL * y and last_dphi <= _PHI_TOL and maxR <= 1e-10 * y:
+        done = settled and every(absolute(dy) <= _TOL * y)
+        if done and last_dphi <= _PHI_TOL:
             break  # the electrolyte group had already settled: no further Pitzer evaluation needed
         dphi = 0.0
-        if has_e:
+        if s.electrolytes:
             s_new = e_scale(y)
-            phi_pred = phi_c * (s_new / s_c) ** g_exp
-            phi_new = float(inp.pitzer.osmotic_coefficient(im * s_new, T))
-            dphi = abs(phi_new - phi_pred)
-            ls = math.log(s_new / s_c)
-            if abs(ls) > 1e-9:
-                g_exp = min(max(math.log(phi_new / phi_c) / ls, -0.5), 2.0)
+            phi_pred = phi_c * (s_new / s_c) ** g
+            phi_new = ops.phi(s.pitzer, s.ion_m, s_new, T)  # 1 in rows without ions
+            if floats:
+                if not phi_new > 0:
+                    return _result(ops, s, math.nan, x, math.nan, math.nan, None, True, True)
+            else:
+                bad = bad | (has_e & ~(phi_new > 0))
+                active = active & ~bad
+                phi_new = where(bad, phi_c, phi_new)
+            dphi = ops.worst(where(active, absolute(phi_new - phi_pred), 0.0))
+            ls = ops.log(s_new / s_c)
+            g_new = ops.clip(div(ops.log(phi_new / phi_c), ls, 0.0), -0.5, 2.0)
+            g = where(absolute(ls) > 1e-9, g_new, g)
             s_c, phi_c = s_new, phi_new
         last_dphi = dphi
-        if abs(dy) <= _TOL * y and dphi <= _PHI_TOL and maxR <= 1e-10 * y:
+        if done and dphi <= _PHI_TOL:
             break
-    fe = 1.0 / e_scale(y) if has_e else 0.0
-    fn = np.zeros((1, len(inp.neutral)))
-    fp = np.zeros((1, len(inp.peg_grades)))
-    for (kind, _j, _m, _K), xi, js in zip(groups, x, members, strict=True):
-        for j in js:
-            if kind == "n":
-                fn[0, j] = nm[j] / xi
-            else:
-                fp[0, j] = pc[j] / xi
-    ideal = M_e + float(nm.sum()) + sum(float(pc[j]) * 1000.0 / g for j, g in enumerate(inp.peg_grades))
-    return MixtureResult(np.array([y]), np.array([ideal]), np.array([phi_c]), np.array([phi_own]),
-                         np.array([fe]), fn, fp, state=(y, tuple(x), g_exp, s_c))
+    fe = where(active & has_e, 1.0 / e_scale(y), 0.0)
+    return _result(ops, s, y, x, fe, phi_c, (y, tuple(x), g, s_c), active, bad)
+
+
+def _result(ops: _Ops, s: _System, y, x, fe, phi_c, state, active, bad) -> MixtureResult:
+    """MixtureResult of a solved system: y (0 where inactive), each solute's share m_j / x_group, the van't
+    Hoff sum; NaN in every field of the rows in ``bad``."""
+    nm, pc = s.neutral_m, s.peg_c
+    if ops is _FLOATS:
+        nml, pcl = s.neutral_list, s.peg_list
+        fill = math.nan if bad else 0.0
+        fnl, fpl = [fill] * len(nml), [fill] * len(pcl)
+        if active and not bad:
+            for grp, xg in zip(s.groups, x, strict=True):
+                src, dst = (nml, fnl) if grp.kind == "n" else (pcl, fpl)
+                for j in grp.members:
+                    dst[j] = src[j] / xg
+        ideal = (s.M_e + (float(nm.sum()) if nml else 0.0)
+                 + sum(pcl[j] * 1000.0 / g for j, g in enumerate(s.peg_grades)))
+        one = np.array([y if active else 0.0, ideal, phi_c, s.phi_own, fe])
+        return MixtureResult(one[0:1], one[1:2], one[2:3], one[3:4], one[4:5],
+                             np.array([fnl]) if fnl else _NO_COLUMNS, np.array([fpl]) if fpl else _NO_COLUMNS,
+                             state=None if bad else state)
+    fn = np.zeros(nm.shape)
+    fp = np.zeros(pc.shape)
+    for grp, xg in zip(s.groups, x, strict=True):
+        src, dst = (nm, fn) if grp.kind == "n" else (pc, fp)
+        for j in grp.members:
+            dst[:, j] = np.where(grp.on & active, src[:, j] / xg, 0.0)
+    peg_mol = np.zeros(nm.shape[0])
+    for j, g in enumerate(s.peg_grades):
+        peg_mol = peg_mol + pc[:, j] * 1000.0 / g
+    out = MixtureResult(np.where(active, y, 0.0), s.M_e + nm.sum(axis=1) + peg_mol, phi_c, s.phi_own, fe, fn, fp)
+    if np.any(bad):
+        for name in ("osmolality", "electrolyte_phi", "fraction_electrolyte", "fraction_neutral", "fraction_peg"):
+            getattr(out, name)[bad] = np.nan
+    return out
