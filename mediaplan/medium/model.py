@@ -1,25 +1,41 @@
 """A recipe's components compiled for fast, vectorised evaluation.
 
 ``MediumModel`` fixes a list of components (and so the species, stoichiometry, molar masses and
-apparent molar volumes) and the temperature; ``solve`` then takes arrays of amounts (batches of
-variants) and returns molalities and the ZSR solution. ``evaluate()`` uses it for one recipe; the
-solver and the plasmolysis designer use it for many.
+apparent molar volumes) and the temperature. Everything else asks it, never its arrays:
+
+- :meth:`MediumModel.water` — the one volume balance (water per m^3 of medium), and the one limit
+  where the model refuses (:data:`MIN_FREE_VOLUME`);
+- :meth:`MediumModel.solve` — molalities and the ZSR solution for batches of amounts;
+- :meth:`MediumModel.shares`, :meth:`MediumModel.ionic_strength` — per-component osmolal shares and the
+  ionic strength of a solved state;
+- :meth:`MediumModel.along` — a :class:`Sweep`: the medium plus a varying amount of one or more
+  osmotica, with its osmolality and potential for a batch of amounts, the ZSR residual at a known
+  osmolality, and how far the amount may go (:meth:`Sweep.limit`);
+- the species by kind for the validity checks (:meth:`MediumModel.neutral_solutes`,
+  :meth:`MediumModel.peg_solutes`, :meth:`MediumModel.ion_molalities`, :meth:`MediumModel.ion_pairs`...).
+
+``evaluate()`` uses it for one recipe; the solver and the plasmolysis designer use it for many.
 """
 
 from __future__ import annotations
 
+import math
 from collections import OrderedDict
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
 import numpy as np
 
+from mediaplan.medium import roots
 from mediaplan.medium.catalog import Catalog, Component
 from mediaplan.medium.errors import MediaplanError
+from mediaplan.thermo import neutral as _neutral
+from mediaplan.thermo import peg as _peg
 from mediaplan.thermo import water
 from mediaplan.thermo.ions import parse_species
 from mediaplan.thermo.mixing import MixtureInput, MixtureResult, zsr_osmolality
 from mediaplan.thermo.params import NeutralParams
+from mediaplan.thermo.potential import potential_from_osmolality
 
 #: volume-based amount kinds (per m^3 of medium) and water-based ones (per kg of water)
 VOLUME_KINDS = ("mass_conc", "molar", "vol_frac")
@@ -30,6 +46,16 @@ WATER_KINDS = ("molal", "mass_per_water")
 DEFAULT_SOLUTE_DENSITY = 1.5e3  # kg/m^3
 #: partial specific volume of PEG in water [m^3/kg] (about 0.83 cm^3/g; from memory)
 PEG_SPECIFIC_VOLUME = 0.83e-3
+
+#: the fraction of the medium's volume [-] that the solutes given per volume of medium must leave free;
+#: below it the model refuses ("no water left"). By then the medium is 95 % solute by volume: the volume
+#: balance rests on apparent molar volumes measured in solutions of moderate strength, and every activity
+#: model here is far past its range, so such an input is a slip of amount or unit, not a medium. The
+#: solver and the series designer search up to this same limit (:meth:`Sweep.limit`). (common practice)
+MIN_FREE_VOLUME = 0.05
+#: the largest molality [mol/kg] a search gives an amount stated per kg of water: nothing in the catalog
+#: dissolves that far (sucrose saturates near 6 mol/kg). (common practice)
+MAX_MOLALITY = 50.0
 
 _PEG_GRADES = {"peg6000": 6000, "peg8000": 8000}
 
@@ -46,7 +72,16 @@ class ModelState:
 
 
 class MediumModel:
-    """Compiled components of a medium at one temperature [K]."""
+    """Compiled components of a medium at one temperature [K].
+
+    Public data: ``components``, ``species`` (ids), ``T`` [K], ``rho_w`` (water density at T [kg/m^3]),
+    per component ``M`` (molar mass as sold [kg/mol]), ``M_anh`` (anhydrous [kg/mol]), ``v`` (apparent
+    molar volume [m^3/mol]), ``particles`` (dissolved particles per formula unit, the van't Hoff count
+    [osmol/mol]); ``default_volume`` (ids whose volume is estimated), ``ideal_neutral`` (neutral species
+    without a published model), ``ideal_components`` (indices of the components that bring one),
+    ``neutral_models`` (species -> its binary model) and ``ion_charges`` (ion -> charge). The stoichiometry
+    and the split of the species among the ZSR groups are private: ask the methods.
+    """
 
     def __init__(self, catalog: Catalog, components: Sequence[Component], T: float) -> None:
         self.catalog = catalog
@@ -105,6 +140,18 @@ class MediumModel:
 
             self.pitzer = PitzerSystem([species[k] for k in self.ion_idx], catalog.pitzer)
         self.rho_w = float(water.density(self.T))
+        self.particles = S.sum(axis=1)
+        # stoichiometry of each ZSR group's species, per component (for the osmolal shares)
+        self._S_ion = S[:, self.ion_idx]
+        self._S_neutral = [S[:, k] for k in self.neutral_idx]
+        self._S_peg = [S[:, k] for k in self.peg_idx]
+        self.neutral_models = {species[k]: p for k, p in zip(self.neutral_idx, nparams, strict=True)}
+        #: charge of each ion of the model
+        self.ion_charges = {species[k]: parse_species(species[k]).charge for k in self.ion_idx}
+        self._charge2 = np.array([z * z for z in self.ion_charges.values()], dtype=float)
+        #: indices of the components that bring a neutral solute without a published model
+        self.ideal_components = [i for i, c in enumerate(self.components)
+                                 if any(sp in self.ideal_neutral for sp, _ in c.species)]
 
     # ---- amounts -> moles -------------------------------------------------------------------
     def amounts_to_arrays(self, amounts: Sequence) -> tuple[np.ndarray, np.ndarray]:
@@ -132,22 +179,45 @@ class MediumModel:
                 b[i] = a.value / M
         return n, b
 
+    # ---- the volume balance -----------------------------------------------------------------
+    def free_volume(self, n: np.ndarray) -> np.ndarray:
+        """Fraction of the medium's volume not taken by the solutes given per volume [-] (n: mol per m^3
+        of medium, (n_comp,) or (B, n_comp))."""
+        return 1.0 - np.asarray(n, dtype=float) @ self.v
+
+    def water(self, n: np.ndarray, b: np.ndarray, *, T: float | None = None) -> np.ndarray:
+        """Water [kg per m^3 of medium] for amounts n [mol per m^3 of medium] and b [mol per kg water],
+        each (n_comp,) or (B, n_comp), at temperature T [K] (the model's own by default).
+
+        The volume balance V = W/ρ_w + Σ n_i v_i + W Σ b_j v_j (apparent molar volumes v) per m^3 gives
+        W = (1 − Σ n_i v_i) / (1/ρ_w + Σ b_j v_j).
+
+        Raises MediaplanError when the solutes leave less than :data:`MIN_FREE_VOLUME` of the volume.
+        """
+        n, b = np.asarray(n, dtype=float), np.asarray(b, dtype=float)
+        free = 1.0 - n @ self.v
+        if np.any(free < MIN_FREE_VOLUME):
+            raise MediaplanError("the solutes would fill the whole volume: no water left",
+                                 hint="check the amounts and their units")
+        rho_w = self.rho_w if T is None or float(T) == self.T else float(water.density(float(T)))
+        return free / (1.0 / rho_w + b @ self.v)
+
+    def molality(self, n: np.ndarray, b: np.ndarray) -> np.ndarray:
+        """Molality of each component [mol/kg water], same shape as n (see :meth:`water`)."""
+        W = self.water(n, b)
+        return n / (W[:, None] if np.ndim(W) else W) + b
+
+    # ---- the ZSR solution --------------------------------------------------------------------
     def solve(self, n: np.ndarray, b: np.ndarray, *, T: float | None = None) -> ModelState:
         """Molalities and the ZSR solution for batches of amounts.
 
-        n : (B, n_comp) [mol per m^3 of medium]; b : (B, n_comp) [mol per kg water].
-        Water per m^3: W = (1 - Σ n_i v_i) / (1/ρ_w + Σ b_j v_j), from the volume balance
-        V = W/ρ_w + Σ n_i v_i + W Σ b_j v_j with apparent molar volumes v.
+        n : (B, n_comp) [mol per m^3 of medium]; b : (B, n_comp) [mol per kg water]; T [K], the model's
+        own by default. Water per m^3 from :meth:`water`.
         """
         n = np.atleast_2d(np.asarray(n, dtype=float))
         b = np.atleast_2d(np.asarray(b, dtype=float))
         T = self.T if T is None else float(T)
-        rho_w = self.rho_w if T == self.T else float(water.density(T))
-        free = 1.0 - n @ self.v
-        if np.any(free <= 0.05):
-            raise MediaplanError("the solutes would fill the whole volume: no water left",
-                                 hint="check the amounts and their units")
-        W = free / (1.0 / rho_w + b @ self.v)
+        W = self.water(n, b, T=T)
         molality = n / W[:, None] + b
         n_all = molality * W[:, None]
         species_m = molality @ self.S
@@ -166,6 +236,272 @@ class MediumModel:
             peg_c[:, j] = species_m[:, k] * self.peg_grades[j] / 1000.0
         return zsr_osmolality(MixtureInput(self.pitzer, ion_m, self.neutral_params, neutral_m,
                                            self.peg_grades, peg_c, T), start=start)
+
+    # ---- what a solved state means per component ---------------------------------------------
+    def shares(self, state: ModelState) -> np.ndarray:
+        """Each component's share of the non-ideal osmolality [osmol/kg], (B, n_comp); the shares of a
+        row add up to its osmolality.
+
+        Each ZSR group's share of the osmolality (``MixtureResult.fraction_*``) is split among the
+        components in proportion to the molality of the group's species they bring (the electrolytes
+        as one group: by their moles of ions).
+        """
+        mix = state.mix
+        rows = [self._shares_row(state.molality[r], mix.osmolality[r], mix.fraction_electrolyte[r],
+                                 mix.fraction_neutral[r], mix.fraction_peg[r]) for r in range(state.molality.shape[0])]
+        return rows[0][None, :] if len(rows) == 1 else np.array(rows).reshape(state.molality.shape)
+
+    def _shares_row(self, molality: np.ndarray, y: float, fe: float, fn: np.ndarray, fp: np.ndarray) -> np.ndarray:
+        share = np.zeros(molality.shape[0])
+        if self.ion_idx:
+            ion_c = (molality[:, None] * self._S_ion).sum(axis=1)
+            tot = ion_c.sum()
+            if tot > 0:
+                share += float(fe) * y * ion_c / tot
+        for fractions, columns in ((fn, self._S_neutral), (fp, self._S_peg)):
+            for j, col in enumerate(columns):
+                part = molality * col
+                tot = part.sum()
+                if tot > 0:
+                    share += float(fractions[j]) * y * part / tot
+        return share
+
+    def ionic_strength(self, state: ModelState) -> np.ndarray:
+        """Ionic strength I = ½ Σ m_i z_i² [mol/kg] of each row, (B,)."""
+        if not self.ion_idx:
+            return np.zeros(state.species_m.shape[0])
+        return 0.5 * (state.species_m[:, self.ion_idx] @ self._charge2)
+
+    # ---- the species by kind (for the validity checks) ---------------------------------------
+    @property
+    def has_electrolytes(self) -> bool:
+        """Some component dissolves into ions."""
+        return bool(self.ion_idx)
+
+    @property
+    def has_neutral(self) -> bool:
+        """Some component dissolves into neutral solutes other than PEG."""
+        return bool(self.neutral_idx)
+
+    @property
+    def has_peg(self) -> bool:
+        """Some component is PEG."""
+        return bool(self.peg_idx)
+
+    def species_present(self, state: ModelState, row: int = 0) -> dict[str, float]:
+        """{species: molality [mol/kg]} of every species above zero in one row, in model order."""
+        return {sp: m for sp, m in zip(self.species, state.species_m[row].tolist(), strict=True) if m > 0}
+
+    def neutral_solutes(self, state: ModelState, row: int = 0) -> list[tuple[str, float, NeutralParams]]:
+        """(species, molality [mol/kg], its binary model) of each neutral solute of the model (PEG apart)."""
+        if not self.neutral_idx:
+            return []
+        sm = state.species_m[row]
+        return [(self.species[k], float(sm[k]), p) for k, p in zip(self.neutral_idx, self.neutral_params,
+                                                                     strict=True)]
+
+    def peg_solutes(self, state: ModelState, row: int = 0) -> list[tuple[int, float]]:
+        """(grade [g/mol], concentration [g PEG / g water]) of each PEG grade of the model."""
+        if not self.peg_idx:
+            return []
+        sm = state.species_m[row]
+        return [(g, float(sm[k] * g / 1000.0)) for k, g in zip(self.peg_idx, self.peg_grades, strict=True)]
+
+    def ion_molalities(self, state: ModelState, row: int = 0) -> dict[str, float]:
+        """{ion: molality [mol/kg]} of every ion of the model (zero ones included), in model order."""
+        sm = state.species_m[row].tolist()
+        return {self.species[k]: sm[k] for k in self.ion_idx}
+
+    def ion_pairs(self, state: ModelState, row: int = 0) -> list[tuple[str, str, object]]:
+        """(cation, anion, its Pitzer binary parameters) of each pair with parameters whose ions are both
+        present in the row."""
+        if self.pitzer is None:
+            return []
+        present = [sp for sp, m in self.ion_molalities(state, row).items() if m > 0]
+        cats = [i for i in present if self.ion_charges[i] > 0]
+        ans = [i for i in present if self.ion_charges[i] < 0]
+        binary = self.catalog.pitzer.binary
+        return [(c, a, binary[(c, a)]) for c in cats for a in ans if (c, a) in binary]
+
+    @property
+    def ion_pairs_without_parameters(self) -> tuple[tuple[str, str], ...]:
+        """(cation, anion) of every pair of the model's ions without Pitzer parameters (their interaction
+        falls back to the Debye–Hückel term alone)."""
+        return tuple(getattr(self.pitzer, "missing_pairs", ())) if self.pitzer is not None else ()
+
+    def ion_pairs_beyond_data(self, state: ModelState, row: int = 0) -> list[tuple[str, str]]:
+        """(cation, anion) of each present pair whose Pitzer parameters are used past their fitted range
+        (ionic strength of the row above that of the pair's binary solution at its ``max_m``)."""
+        if self.pitzer is None:
+            return []
+        return self.pitzer.max_molality_exceeded(state.species_m[row, self.ion_idx])
+
+    # ---- a medium along a line of amounts ----------------------------------------------------
+    def along(self, n0: np.ndarray, b0: np.ndarray, dn: np.ndarray, db: np.ndarray, *,
+              x_max: float = math.inf) -> Sweep:
+        """The medium with amounts n0 + x·dn [mol per m^3 of medium] and b0 + x·db [mol per kg water]
+        for 0 <= x <= x_max (see :class:`Sweep`)."""
+        return Sweep(self, n0, b0, dn, db, x_max)
+
+    def at_osmolality(self, y: float) -> ZSRResidual:
+        """The ZSR residual of this model's media at a known osmolality y [osmol/kg] (see
+        :class:`ZSRResidual`)."""
+        return ZSRResidual(self, y)
+
+
+@dataclass(frozen=True)
+class Limit:
+    """How far a :class:`Sweep` may go: x [unit of the sweep], and the component whose solubility stops
+    it (None: the water left, or the largest molality a search gives, :data:`MAX_MOLALITY`)."""
+
+    x: float
+    component: Component | None = None
+
+
+class Sweep:
+    """A medium whose amounts move along a line: n0 + x·dn [mol per m^3 of medium], b0 + x·db [mol per kg
+    water], for 0 <= x <= x_max (x in the caller's unit: mol/m^3 of an osmoticum, a dilution fraction,
+    a base strength...).
+
+    The question of the solver (one osmoticum, or two in a ratio; a dilution; a base strength) and of
+    the plasmolysis designer (a background plus one osmoticum): the medium's osmolality, potential or
+    ZSR residual as a function of x, and how far x may go.
+    """
+
+    def __init__(self, model: MediumModel, n0: np.ndarray, b0: np.ndarray, dn: np.ndarray, db: np.ndarray,
+                 x_max: float = math.inf) -> None:
+        self.model = model
+        self.n0, self.b0 = np.asarray(n0, dtype=float), np.asarray(b0, dtype=float)
+        self.dn, self.db = np.asarray(dn, dtype=float), np.asarray(db, dtype=float)
+        self.x_max = float(x_max)
+
+    @property
+    def T(self) -> float:
+        """Temperature [K]."""
+        return self.model.T
+
+    def arrays(self, x) -> tuple[np.ndarray, np.ndarray]:
+        """(n [mol/m^3 of medium], b [mol/kg water]) at x: (n_comp,) for a number, (B, n_comp) for (B,)."""
+        if np.ndim(x) == 0:
+            return self.n0 + x * self.dn, self.b0 + x * self.db
+        x = np.asarray(x, dtype=float)[:, None]
+        return self.n0 + x * self.dn, self.b0 + x * self.db
+
+    def molality(self, x) -> np.ndarray:
+        """Molality of each component [mol/kg] at x, without the ZSR solution."""
+        return self.model.molality(*self.arrays(x))
+
+    def state(self, x) -> ModelState:
+        """The solved medium at each x of a batch (a number counts as a batch of one)."""
+        n, b = self.arrays(np.atleast_1d(np.asarray(x, dtype=float)))
+        return self.model.solve(n, b)
+
+    def osmolality(self, x) -> np.ndarray:
+        """Osmolality [osmol/kg] at each x, (B,)."""
+        return self.state(x).mix.osmolality
+
+    def potential(self, x) -> np.ndarray:
+        """Water potential [Pa] at each x, (B,)."""
+        return potential_from_osmolality(self.osmolality(x), self.T)
+
+    def residual_at(self, y: float) -> Callable[[float], float]:
+        """f(x) = Σ_g m_g(x) / m_g°(y) − 1 (see :class:`ZSRResidual`): zero where the medium's osmolality is
+        y [osmol/kg], increasing in x when x adds solutes."""
+        eq = self.model.at_osmolality(y)
+        return lambda x: eq(*self.arrays(x))
+
+    def limit(self, saturating: Sequence[Component] = ()) -> Limit:
+        """The largest x the search may reach, and what sets it.
+
+        The model's own limits first: x_max, the free volume (:data:`MIN_FREE_VOLUME`) and, for amounts
+        per kg of water, :data:`MAX_MOLALITY`. Then, for each component in ``saturating``, the x where its
+        substance (every component of the model that is the same substance) reaches saturation
+        (:attr:`Component.saturation_molality`), when that comes first.
+        """
+        v = self.model.v
+        caps = [self.x_max]
+        grow = float(self.dn @ v)
+        if grow > 0:
+            caps.append(((1.0 - MIN_FREE_VOLUME) - float(self.n0 @ v)) / grow)
+        for b0, db in zip(self.b0, self.db, strict=True):
+            if db > 0:
+                caps.append((MAX_MOLALITY - b0) / db)
+        x = max(min(caps), 0.0)
+        if grow > 0:
+            while x > 0 and float(self.model.free_volume(self.arrays(x)[0])) < MIN_FREE_VOLUME:
+                x = float(np.nextafter(x, 0.0))  # rounding left the solutes a hair past the limit
+        out = Limit(x)
+        comps = self.model.components
+        for c in saturating:
+            m_sat = c.saturation_molality
+            if m_sat is None:
+                continue
+            idx = [i for i, cc in enumerate(comps) if (cc.substance == c.substance if c.substance else cc is c)]
+
+            def sub_m(x, idx=idx):
+                return float(self.molality(x)[idx].sum())
+
+            if sub_m(out.x) > m_sat:
+                x_sat = 0.0 if sub_m(0.0) >= m_sat else roots.increasing_root(
+                    lambda x, m_sat=m_sat: sub_m(x) - m_sat, 0.0, out.x)
+                if x_sat < out.x:
+                    out = Limit(x_sat, c)
+        return out
+
+
+class ZSRResidual:
+    """The ZSR sum Σ_g m_g / m_g°(y) − 1 at a known mixture osmolality y [osmol/kg], as a function of the
+    amounts (n [mol/m^3 of medium], b [mol/kg water]) of a compiled model.
+
+    At a known water activity the Zdanovskii–Stokes–Robinson rule (Stokes & Robinson 1966, J Phys Chem
+    70:2126) is one equation in the amounts: m_g°(y), the molality of the binary solution of group g
+    with osmolality y, is computed once (Norrish inverse for neutral solutes, Michel equations for PEG,
+    Pitzer for the electrolytes at their proportions in the medium), and the residual is zero where the
+    medium's own osmolality is y.
+    """
+
+    def __init__(self, model: MediumModel, y: float) -> None:
+        self.model = model
+        self.y = float(y)
+        self.x_neutral = np.array([float(_neutral.molality_at_osmolality(y, p)) for p in model.neutral_params])
+        self.c_peg = np.array([float(_peg.peg_concentration_at_osmolality(y, model.T, g))
+                               for g in model.peg_grades])
+        self.peg_factor = np.array(model.peg_grades, dtype=float) / 1000.0  # mol/kg -> g/g
+        self._q: np.ndarray | None = None
+        self._phi = 1.0
+
+    def _phi_star(self, ions: np.ndarray) -> float:
+        """Pitzer φ of the electrolyte group alone at the target osmolality, at these ion proportions."""
+        q = ions / ions.sum()
+        if self._q is not None and np.allclose(q, self._q, rtol=1e-12, atol=1e-15):
+            return self._phi
+        pitzer, T, y = self.model.pitzer, self.model.T, self.y
+        total = y
+        for _ in range(80):
+            phi = float(pitzer.osmotic_coefficient(total * q, T))
+            new = y / phi
+            if abs(new - total) <= 1e-14 * total:
+                total = new
+                break
+            total = new
+        self._q, self._phi = q, y / total
+        return self._phi
+
+    def __call__(self, n: np.ndarray, b: np.ndarray) -> float:
+        """The residual [-] for one composition, n and b (n_comp,)."""
+        m = self.model
+        sp = m.molality(n, b) @ m.S
+        r = 0.0
+        if m.neutral_idx:
+            r += float(sp[m.neutral_idx] @ (1.0 / self.x_neutral))
+        if m.peg_idx:
+            r += float((sp[m.peg_idx] * self.peg_factor) @ (1.0 / self.c_peg))
+        if m.ion_idx:
+            ions = sp[m.ion_idx]
+            tot = float(ions.sum())
+            if tot > 0:
+                r += tot * self._phi_star(ions) / self.y
+        return r - 1.0
 
 
 _MODEL_CACHE: OrderedDict[tuple, MediumModel] = OrderedDict()

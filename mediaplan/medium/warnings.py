@@ -1,0 +1,275 @@
+"""What a user should know about an evaluation: one function per check.
+
+Each check reads a :class:`Context` (the recipe, its lines, the compiled model, the solved state and
+the evaluation's figures) and returns its warnings; :data:`CHECKS` runs them in a fixed order, which is
+the order a user sees (scripts and the screens rely on it, so a new check goes at a deliberate place).
+A check states what it tests and where its threshold comes from.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+from typing import TYPE_CHECKING
+
+from mediaplan.medium.catalog import Catalog
+from mediaplan.medium.model import MediumModel, ModelState
+from mediaplan.medium.recipe import Line, Recipe
+from mediaplan.thermo.constants import T0
+from mediaplan.thermo.peg import PEG_VALIDITY
+from mediaplan.thermo.precipitation import calcium_saturation
+
+if TYPE_CHECKING:
+    from mediaplan.medium.evaluate import Evaluation
+
+
+@dataclass
+class Warning_:
+    """A condition the user should know about. ``code`` is stable for scripts."""
+
+    code: str
+    message: str
+    component: str | None = None
+
+    def to_dict(self) -> dict:
+        return {"code": self.code, "message": self.message, "component": self.component}
+
+
+@dataclass
+class Context:
+    """Everything a check may read about one evaluated recipe (row 0 of ``state``); T [K]."""
+
+    recipe: Recipe
+    catalog: Catalog
+    lines: list[Line]
+    model: MediumModel
+    state: ModelState
+    evaluation: Evaluation
+    T: float
+
+
+#: share of the osmolality [fraction] from solutes without a published model above which the ideal
+#: fallback is worth a warning: below it the ideal assumption moves the total by less than the
+#: published models' own error (about 1-2 %, Norrish fits). (common practice)
+IDEAL_SHARE_NOTED = 0.005
+#: PEG equation limits when PEG_VALIDITY has no entry for a grade: c [g/g water], T [K] (Michel 1983)
+PEG_C_MAX_DEFAULT = 0.8
+PEG_T_RANGE_DEFAULT = (278.15, 313.15)
+#: distance from 25 °C [K] within which 25 °C Pitzer parameters serve without a note (common practice:
+#: the temperature derivatives of the binary parameters change φ by well under 1 % over ±10 K)
+PITZER_T_SPAN = 10.5
+#: ion activity product / solubility product above which a calcium salt "approaches" saturation (common
+#: practice: a screen, not a speciation model; see mediaplan.thermo.precipitation)
+PRECIPITATION_RATIO = 0.5
+#: fraction of the solubility above which a solute may crystallise in the cold (common practice:
+#: solubilities of the catalog are 25 °C values and fall on cooling)
+SOLUBILITY_MARGIN = 0.8
+#: share of the osmolality [fraction] above which a component without a reflection coefficient is named
+REFLECTION_SHARE_NOTED = 0.01
+#: grams per litre above which an estimated apparent molar volume is worth a note (common practice: below
+#: it the estimate moves the water content by well under 1 %)
+DENSITY_ESTIMATE_G_PER_L = 10.0
+
+
+def neutral_validity(ctx: Context) -> list[Warning_]:
+    """A neutral solute above the molality its binary model was fitted to (``m_max`` of the catalog's
+    neutral.yaml, per solute, with its source there): the figure is extrapolated."""
+    out = []
+    for sp, m, p in ctx.model.neutral_solutes(ctx.state):
+        if m > p.m_max:
+            out.append(Warning_("validity", f"{sp} at {m:.3g} mol/kg is beyond its model's "
+                                f"range (≤ {p.m_max:g} mol/kg): extrapolated", sp))
+    return out
+
+
+def ideal_fallback(ctx: Context) -> list[Warning_]:
+    """Solutes without a published model, treated as ideal, that carry more than
+    :data:`IDEAL_SHARE_NOTED` of the osmolality."""
+    model, ev = ctx.model, ctx.evaluation
+    if not model.ideal_neutral:
+        return []
+    share = sum(ev.components[i].osmolality_mosmol_per_kg for i in model.ideal_components)
+    frac = share / ev.osmolality_mosmol_per_kg if ev.osmolality_mosmol_per_kg > 0 else 0
+    if frac > IDEAL_SHARE_NOTED:
+        return [Warning_("ideal_fallback", f"no published model for {', '.join(model.ideal_neutral)}: treated "
+                         f"as ideal ({100 * frac:.2g} % of the osmolality)")]
+    return []
+
+
+def peg_validity(ctx: Context) -> list[Warning_]:
+    """PEG beyond the concentration, or outside the temperatures, of its published equation
+    (``PEG_VALIDITY`` of mediaplan.thermo.peg: Michel & Kaufmann 1973, Michel 1983), grade by grade."""
+    out = []
+    T = ctx.T
+    for g, c in ctx.model.peg_solutes(ctx.state):
+        if c <= 0:
+            continue
+        val = PEG_VALIDITY.get(g, {})
+        cmax = val.get("c_max", PEG_C_MAX_DEFAULT)
+        tmin, tmax = val.get("T_min", PEG_T_RANGE_DEFAULT[0]), val.get("T_max", PEG_T_RANGE_DEFAULT[1])
+        if c > cmax:
+            out.append(Warning_("validity", f"PEG {g} at {c:.2f} g/g water is beyond the published equation "
+                                f"(≤ {cmax} g/g)", f"peg{g}"))
+        if not tmin <= T <= tmax:
+            out.append(Warning_("validity", f"PEG {g} equation holds for {tmin - T0:.0f}–{tmax - T0:.0f} °C",
+                                f"peg{g}"))
+    return out
+
+
+def peg_mixture(ctx: Context) -> list[Warning_]:
+    """PEG in a medium with other solutes: the additive ZSR figure understates the effect (Michel 1983,
+    Plant Physiol 72:66)."""
+    model = ctx.model
+    if model.has_peg and (model.has_electrolytes or model.has_neutral):
+        return [Warning_("peg_mixture", "PEG mixed with other solutes lowers the water potential more than "
+                         "additivity predicts (Michel 1983, Plant Physiol 72:66): the figure is an upper bound; "
+                         "measure it (psychrometer or vapour-pressure osmometer)")]
+    return []
+
+
+def pitzer_default(ctx: Context) -> list[Warning_]:
+    """Ion pairs present without Pitzer parameters (catalog pitzer.yaml), with the weight of the
+    cation–anion interaction terms they carry (product of molalities, heaviest named first)."""
+    missing = ctx.model.ion_pairs_without_parameters
+    if not missing:
+        return []
+    m_of = ctx.model.ion_molalities(ctx.state)
+    miss = [(c, a) for c, a in missing if m_of[c] > 0 and m_of[a] > 0]
+    if not miss:
+        return []
+    z = ctx.model.ion_charges
+    total_w = sum(v for sp, v in m_of.items() if z[sp] > 0) * sum(v for sp, v in m_of.items() if z[sp] < 0)
+    weights = sorted(((m_of[c] * m_of[a], c, a) for c, a in miss), reverse=True)  # weightiest first
+    frac = sum(w for w, _, _ in weights) / total_w if total_w > 0 else 0.0
+    named = ", ".join(f"{c.split('[')[0]}–{a.split('[')[0]}" for _, c, a in weights[:3]) + (
+        " …" if len(weights) > 3 else "")
+    return [Warning_("pitzer_default", f"{len(miss)} ion pair{'s' if len(miss) > 1 else ''} without Pitzer "
+                     f"parameters ({named}): Debye–Hückel term only, {100 * frac:.2g} % of the "
+                     "cation–anion interactions")]
+
+
+def pitzer_range(ctx: Context) -> list[Warning_]:
+    """Ion pairs whose Pitzer parameters are used beyond the ionic strength of their data (``max_m`` of
+    each pair in catalog pitzer.yaml, with its source)."""
+    try:
+        over = ctx.model.ion_pairs_beyond_data(ctx.state)
+    except Exception:  # noqa: BLE001 - a validity screen must never break an evaluation
+        over = []
+    return [Warning_("validity", f"{c}–{a}: ionic strength beyond the Pitzer parameters' data range")
+            for c, a in over]
+
+
+def pitzer_temperature(ctx: Context) -> list[Warning_]:
+    """Pairs with 25 °C Pitzer parameters only (no temperature terms), used more than
+    :data:`PITZER_T_SPAN` from 25 °C."""
+    T = ctx.T
+    if abs(T - 298.15) <= PITZER_T_SPAN:
+        return []
+    fixed = [f"{c}–{a}" for c, a, p in ctx.model.ion_pairs(ctx.state) if not p.temperature_terms]
+    if not fixed:
+        return []
+    return [Warning_("temperature", "Pitzer parameters of " + ", ".join(fixed[:5]) +
+                     (" …" if len(fixed) > 5 else "") + f" are 25 °C values, used at {T - T0:.0f} °C")]
+
+
+def precipitation(ctx: Context) -> list[Warning_]:
+    """Calcium with sulfate or phosphate near or past the solubility product of the salt
+    (mediaplan.thermo.precipitation, Davies activity coefficients): above :data:`PRECIPITATION_RATIO`
+    it "approaches", above 1 it "exceeds"."""
+    if not ctx.model.has_electrolytes:
+        return []
+    out = []
+    present = ctx.model.species_present(ctx.state)
+    for an, name, ratio in calcium_saturation(present, ctx.evaluation.ionic_strength_mol_per_kg):
+        if ratio > PRECIPITATION_RATIO:
+            word = "exceeds" if ratio > 1 else "approaches"
+            out.append(Warning_("precipitation", f"Ca²⁺ with {an.split('[')[0]}: ion activity product {word} the "
+                                f"solubility product of {name}; keep them in separate stocks and watch for "
+                                "cloudiness after autoclaving"))
+    return out
+
+
+def solubility(ctx: Context) -> list[Warning_]:
+    """Each substance (all its forms together) above its solubility at 25 °C
+    (:attr:`Component.saturation_molality`, from the catalog's sourced solubility), or above
+    :data:`SOLUBILITY_MARGIN` of it."""
+    by_sub: dict[str, float] = {}
+    sub_comp: dict[str, object] = {}
+    molality = ctx.state.molality[0].tolist()
+    for i, ln in enumerate(ctx.lines):
+        c = ln.component
+        if c.solubility is None or not c.substance:
+            continue
+        by_sub[c.substance] = by_sub.get(c.substance, 0.0) + molality[i]
+        sub_comp.setdefault(c.substance, c)
+    out = []
+    for sub, m in by_sub.items():
+        c = sub_comp[sub]
+        m_sat = c.saturation_molality
+        if m_sat is None:
+            continue
+        if m > m_sat:
+            out.append(Warning_("solubility", f"{sub} at {m:.3g} mol/kg is above its solubility "
+                                f"({c.solubility:g} g/100 g water at 25 °C): it will not all dissolve", c.id))
+        elif m > SOLUBILITY_MARGIN * m_sat:
+            out.append(Warning_("solubility", f"{sub} is at {100 * m / m_sat:.0f} % of its solubility at 25 °C: "
+                                "it may crystallise in the cold", c.id))
+    return out
+
+
+def unverified_amounts(ctx: Context) -> list[Warning_]:
+    """Amounts of the base formulation the catalog marks as from memory (confidence C)."""
+    recipe = ctx.recipe
+    if not recipe.base:
+        return []
+    med = ctx.catalog.medium(recipe.base)
+    unverified = [ln.component.id for ln in ctx.lines if ln.origin == "base" and ln.confidence == "C"]
+    if unverified:
+        return [Warning_("unverified", f"{len(unverified)} amounts of {med.id} are from memory and unverified "
+                         "(confidence C): check them against the original paper before use")]
+    return []
+
+
+def reflection_unknown(ctx: Context) -> list[Warning_]:
+    """With a cell reference: components above :data:`REFLECTION_SHARE_NOTED` of the osmolality that have
+    no reflection coefficient, counted as impermeant."""
+    ev = ctx.evaluation
+    if ev.tonicity is None:
+        return []
+    unknown = [c for c in ev.components if c.reflection_coefficient is None and c.share > REFLECTION_SHARE_NOTED]
+    if not unknown:
+        return []
+    frac = sum(c.share for c in unknown)
+    return [Warning_("reflection_unknown", "no reflection coefficient for " +
+                     ", ".join(c.id for c in unknown[:4]) + (" …" if len(unknown) > 4 else "") +
+                     f" ({100 * frac:.3g} % of the osmolality): counted as impermeant (σ = 1); solutes "
+                     "that enter the cells make the medium less hypertonic than shown")]
+
+
+def density_estimate(ctx: Context) -> list[Warning_]:
+    """Components above :data:`DENSITY_ESTIMATE_G_PER_L` whose apparent molar volume is estimated from a
+    solid density (``DEFAULT_SOLUTE_DENSITY`` of mediaplan.medium.model)."""
+    model = ctx.model
+    if not model.default_volume:
+        return []
+    by_id = {c.id: c for c in ctx.evaluation.components}
+    big = [cid for cid in model.default_volume if cid in by_id and by_id[cid].grams_per_litre > DENSITY_ESTIMATE_G_PER_L]
+    if big:
+        return [Warning_("density_estimate", "no apparent molar volume for " + ", ".join(big) +
+                         ": estimated from a solid density of 1.5 g/cm³")]
+    return []
+
+
+#: the checks, in the order their warnings are shown
+CHECKS: tuple[Callable[[Context], list[Warning_]], ...] = (
+    neutral_validity, ideal_fallback, peg_validity, peg_mixture, pitzer_default, pitzer_range,
+    pitzer_temperature, precipitation, solubility, unverified_amounts, reflection_unknown, density_estimate,
+)
+
+
+def warnings_for(ctx: Context) -> list[Warning_]:
+    """Every check's warnings, in the order of :data:`CHECKS`."""
+    out: list[Warning_] = []
+    for check in CHECKS:
+        out.extend(check(ctx))
+    return out
