@@ -21,8 +21,10 @@ the water activity of the answer is known in advance, so the Zdanovskii–Stokes
 where m_g°(a_w*) is the molality of the binary solution of solute group g that has the target water
 activity (computed once: Norrish inverse for neutral solutes, Michel equations for PEG, Pitzer for
 the electrolytes), and m_g(x) the group's molality in the medium after the addition (water content
-from the apparent molar volumes, as in :class:`mediaplan.medium.model.MediumModel`). The left side grows
-monotonically with x, so Brent's method brackets and finds the root. The answer is then
+from the apparent molar volumes: :meth:`mediaplan.medium.model.MediumModel.water`), the residual of
+:meth:`mediaplan.medium.model.Sweep.residual_at`. The left side grows monotonically with x, so Brent's
+method (:mod:`mediaplan.medium.roots`) finds the root below the upper bound of
+:meth:`mediaplan.medium.model.Sweep.limit` (the osmoticum's solubility, or the water left). The answer is then
 re-evaluated from scratch with :func:`mediaplan.medium.evaluate.evaluate`. A tonicity target with
 permeating solutes (reflection coefficient below 1) has no such shortcut and is solved on the full
 evaluation directly (slower, still exact).
@@ -42,22 +44,14 @@ from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Literal
 
-import numpy as np
-
+from mediaplan.medium import roots
 from mediaplan.medium.catalog import Catalog, Component
 from mediaplan.medium.errors import AmountError, InfeasibleError, UnknownComponentError
 from mediaplan.medium.evaluate import ISOTONIC_TOLERANCE, Evaluation, evaluate
-from mediaplan.medium.model import MediumModel, compiled
+from mediaplan.medium.model import Sweep, compiled
 from mediaplan.medium.recipe import Recipe
 from mediaplan.medium.units import Amount, parse_amount, parse_target
-from mediaplan.thermo import neutral as _neutral
-from mediaplan.thermo import peg as _peg
 from mediaplan.thermo.potential import osmolality_from_potential, potential_from_osmolality
-
-#: the free volume (fraction of the medium not taken by solutes) the solver never goes below
-_MIN_FREE_VOLUME = 0.1
-#: molality cap [mol/kg] of an amount given per kg water (nothing dissolves that far)
-_MAX_MOLAL = 50.0
 
 TARGET_HELP = ('water potential ("-0.8 MPa", "-8 bar"), osmolality ("450 mOsm/kg"), or tonicity toward '
                'the cells: "isotonic", "isotonic+10%%", "isotonic-50 mOsm/kg" (offsets act on the osmolality; '
@@ -272,87 +266,22 @@ class Solution:
         })
 
 
-# ---- the fast equation at a known water activity ---------------------------------------------
-class _AtTarget:
-    """ZSR sum Σ_g m_g / m_g°(y) − 1 for a fixed mixture osmolality y [osmol/kg], as a function of the
-    amounts (n [mol/m^3 medium], b [mol/kg water]) of a compiled model."""
-
-    def __init__(self, model: MediumModel, y: float) -> None:
-        self.model = model
-        self.y = float(y)
-        self.x_neutral = np.array([float(_neutral.molality_at_osmolality(y, p)) for p in model.neutral_params])
-        self.c_peg = np.array([float(_peg.peg_concentration_at_osmolality(y, model.T, g))
-                               for g in model.peg_grades])
-        self.peg_factor = np.array(model.peg_grades, dtype=float) / 1000.0  # mol/kg -> g/g
-        self._q: np.ndarray | None = None
-        self._phi = 1.0
-
-    def _phi_star(self, ions: np.ndarray) -> float:
-        """Pitzer φ of the electrolyte group alone at the target osmolality, at these ion proportions."""
-        q = ions / ions.sum()
-        if self._q is not None and np.allclose(q, self._q, rtol=1e-12, atol=1e-15):
-            return self._phi
-        pitzer, T, y = self.model.pitzer, self.model.T, self.y
-        total = y
-        for _ in range(80):
-            phi = float(pitzer.osmotic_coefficient(total * q, T))
-            new = y / phi
-            if abs(new - total) <= 1e-14 * total:
-                total = new
-                break
-            total = new
-        self._q, self._phi = q, y / total
-        return self._phi
-
-    def molality(self, n: np.ndarray, b: np.ndarray) -> np.ndarray:
-        """Molality of each component [mol/kg]."""
-        return n / _water(self.model, n, b) + b
-
-    def __call__(self, n: np.ndarray, b: np.ndarray) -> float:
-        m = self.model
-        sp = self.molality(n, b) @ m.S
-        r = 0.0
-        if m.neutral_idx:
-            r += float(sp[m.neutral_idx] @ (1.0 / self.x_neutral))
-        if m.peg_idx:
-            r += float((sp[m.peg_idx] * self.peg_factor) @ (1.0 / self.c_peg))
-        if m.ion_idx:
-            ions = sp[m.ion_idx]
-            tot = float(ions.sum())
-            if tot > 0:
-                r += tot * self._phi_star(ions) / self.y
-        return r - 1.0
-
-
-def _water(model: MediumModel, n: np.ndarray, b: np.ndarray) -> float:
-    """Water [kg per m^3 of medium]: the volume balance of :meth:`MediumModel.solve`."""
-    return float((1.0 - n @ model.v) / (1.0 / model.rho_w + b @ model.v))
-
-
 def _molarities(recipe: Recipe, catalog: Catalog) -> dict[str, tuple[float, float]]:
     """Per component id: (mol per m^3 of medium, g of the form as sold per litre), without the ZSR solve."""
     lines = recipe.lines(catalog)
     model = compiled(catalog, [ln.component for ln in lines], recipe.temperature_k)
     n, b = model.amounts_to_arrays([ln.amount for ln in lines])
-    n_all = n + b * _water(model, n, b)
+    n_all = n + b * model.water(n, b)
     return {ln.component.id: (float(n_all[i]), float(n_all[i] * model.M[i])) for i, ln in enumerate(lines)}
 
 
 @dataclass
 class _Path:
-    """A straight line through composition space: amounts n0 + x dn, b0 + x db of a compiled model,
-    and the recipe at any x (``build(x, text)``, precise amount text only when asked)."""
+    """A medium along a line of amounts (the compiled model's :class:`Sweep`, x from 0 up to its
+    ``x_max``) and the recipe at any x (``build(x, text)``, precise amount text only when asked)."""
 
-    model: MediumModel
-    n0: np.ndarray
-    b0: np.ndarray
-    dn: np.ndarray
-    db: np.ndarray
+    sweep: Sweep
     build: Callable[[float, bool], Recipe]
-    x_hi: float
-
-    def arrays(self, x: float) -> tuple[np.ndarray, np.ndarray]:
-        return self.n0 + x * self.dn, self.b0 + x * self.db
 
 
 def _line_path(catalog: Catalog, recipe: Recipe, comps: Sequence[Component],
@@ -360,27 +289,7 @@ def _line_path(catalog: Catalog, recipe: Recipe, comps: Sequence[Component],
     model = compiled(catalog, comps, recipe.temperature_k)
     n0, b0 = model.amounts_to_arrays(amount_at(0.0))
     n1, b1 = model.amounts_to_arrays(amount_at(1.0))
-    return _Path(model, n0, b0, n1 - n0, b1 - b0, build, x_hi)
-
-
-def _root(f: Callable[[float], float], lo: float, hi: float) -> float:
-    from scipy.optimize import brentq
-
-    return float(brentq(f, lo, hi, xtol=1e-13 * max(hi, 1e-300), rtol=4e-15, maxiter=200))
-
-
-def _volume_cap(path: _Path) -> float:
-    """Largest x that leaves the solutes less than 1 - _MIN_FREE_VOLUME of the volume and no molal
-    amount above _MAX_MOLAL."""
-    v = path.model.v
-    caps = [path.x_hi]
-    grow = float(path.dn @ v)
-    if grow > 0:
-        caps.append(((1.0 - _MIN_FREE_VOLUME) - float(path.n0 @ v)) / grow)
-    for b0, db in zip(path.b0, path.db, strict=True):
-        if db > 0:
-            caps.append((_MAX_MOLAL - b0) / db)
-    return max(min(caps), 0.0)
+    return _Path(model.along(n0, b0, n1 - n0, b1 - b0, x_max=x_hi), build)
 
 
 # ---- amounts in the user's own units ---------------------------------------------------------
@@ -452,13 +361,6 @@ def _check_ratio(ratio: Sequence[float] | None, n: int) -> list[float] | None:
     if sum(r) <= 0:
         raise AmountError("ratio parts are all zero", field="ratio", hint="e.g. 1:1")
     return r
-
-
-def _substance_molality_cap(comp: Component) -> float | None:
-    """Solubility [mol/kg water] of the substance (catalog value at 25 °C), or None."""
-    if comp.solubility is None or not comp.anhydrous_molar_mass:
-        return None
-    return comp.solubility * 10.0 / comp.anhydrous_molar_mass
 
 
 @dataclass
@@ -549,8 +451,7 @@ def _needs_full_evaluation(comps: Sequence[Component], matched: str) -> bool:
 def _residual(path: _Path, catalog: Catalog, y: float, full: bool) -> Callable[[float], float]:
     """f(x) = (what the medium has at x) − (target), increasing in x; scaled to about 1."""
     if not full:
-        eq = _AtTarget(path.model, y)
-        return lambda x: eq(*path.arrays(x))
+        return path.sweep.residual_at(y)
 
     def f(x: float) -> float:
         ev = evaluate(path.build(x, False), catalog)
@@ -561,10 +462,8 @@ def _residual(path: _Path, catalog: Catalog, y: float, full: bool) -> Callable[[
 
 def _reachable(path: _Path, x: float) -> tuple[float, float]:
     """(osmolality [osmol/kg], potential [Pa]) of the medium at x, from the compiled model."""
-    n, b = path.arrays(x)
-    st = path.model.solve(n[None, :], b[None, :])
-    y = float(st.mix.osmolality[0])
-    return y, float(potential_from_osmolality(y, path.model.T))
+    y = float(path.sweep.osmolality(x)[0])
+    return y, float(potential_from_osmolality(y, path.sweep.T))
 
 
 def solve_target(recipe: Recipe, catalog: Catalog, target: TargetSpec | str, osmotica: list[str], *,
@@ -641,23 +540,10 @@ def solve_target(recipe: Recipe, catalog: Catalog, target: TargetSpec | str, osm
                         reduction=red, message=msg, _start=start_ev, **common)
     # ---- bracket: solubility and volume ---------------------------------------------------
     path = s.path
-    x_cap = _volume_cap(path)
-    limit_note = "the space left for water"
-    for c in s.free:
-        m_sat = _substance_molality_cap(c)
-        if m_sat is None:
-            continue
-        eq = _AtTarget(path.model, 1.0)
-        idx = [i for i, cc in enumerate(s.comps) if cc.substance == c.substance]
-
-        def sub_m(x, idx=idx, eq=eq):
-            return float(eq.molality(*path.arrays(x))[idx].sum())
-
-        if sub_m(x_cap) > m_sat:
-            x_sat = 0.0 if sub_m(0.0) >= m_sat else _root(lambda x, m_sat=m_sat: sub_m(x) - m_sat, 0.0, x_cap)
-            if x_sat < x_cap:
-                x_cap = x_sat
-                limit_note = f"the solubility of {c.id} ({c.solubility:g} g/100 g water at 25 °C)"
+    limit = path.sweep.limit(s.free)
+    x_cap = limit.x
+    limit_note = ("the space left for water" if limit.component is None else
+                  f"the solubility of {limit.component.id} ({limit.component.solubility:g} g/100 g water at 25 °C)")
     f_hi = f(x_cap) if x_cap > 0 else f0
     if f_hi < 0:
         y_hi, psi_hi = _reachable(path, x_cap)
@@ -672,7 +558,7 @@ def solve_target(recipe: Recipe, catalog: Catalog, target: TargetSpec | str, osm
         err.reachable_osmolality_mosmol_per_kg = y_hi * 1000.0  # type: ignore[attr-defined]
         err.limit_amount = amounts  # type: ignore[attr-defined]
         raise err
-    x = _root(f, 0.0, x_cap)
+    x = roots.increasing_root(f, 0.0, x_cap, f_lo=f0, f_hi=f_hi)
     new = path.build(x, True)
     ev = ev_of(new)
     adds = _additions(recipe, new, s, ev, held, catalog)
@@ -727,7 +613,7 @@ def reduction(recipe: Recipe, catalog: Catalog, y: float, *, full: bool = False,
     amounts = [ln.amount for ln in lines]
     dil = _line_path(catalog, recipe, comps, lambda x: [Amount(a.value * x, a.kind, "") for a in amounts],
                      lambda x, text=True: _scaled_recipe(recipe, x), 1.0)
-    f = _root(_residual(dil, catalog, y, full), 0.0, 1.0)
+    f = roots.increasing_root(_residual(dil, catalog, y, full), 0.0, 1.0)
     dil_recipe = _scaled_recipe(recipe, f)
     notes = []
     strength = strength_recipe = strength_ev = None
@@ -746,7 +632,7 @@ def reduction(recipe: Recipe, catalog: Catalog, y: float, *, full: bool = False,
             notes.append("the components added to the base already pass the target on their own: "
                          "lowering the base strength cannot reach it")
         else:
-            strength = round(_root(fs, 0.0, recipe.strength), 4)
+            strength = round(roots.increasing_root(fs, 0.0, recipe.strength), 4)
             strength_recipe = recipe.with_settings(strength=strength)
             strength_ev = evaluate(strength_recipe, catalog, **ev_kw)
     elif not recipe.base:

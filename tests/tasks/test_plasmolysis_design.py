@@ -154,6 +154,39 @@ def test_solubility_warning_for_a_level_past_saturation(catalog):
     assert any("solubility" in w for w in d.warnings)
 
 
+@pytest.mark.parametrize("stock", [None, "300 g/L"])
+def test_peg_series_in_a_salt_background(catalog, stock):
+    """PEG 8000 in a KCl buffer: the first guess of the upper bound lies where the water runs out, and there
+    the electrolytes are past Pitzer's range (no answer). The designer draws back from it instead of failing
+    (it used to stop on "math domain error"); every level re-evaluated from scratch lands on its potential."""
+    bg = BACKGROUNDS["buffer_20C"]
+    psi = potentials_between(-0.5 * MPA, -1.5 * MPA, 6)
+    d = design_series(bg, "peg8000", psi, catalog=catalog, stock=stock)
+    for lv, target in zip(d.levels, psi, strict=True):
+        ev = evaluate(bg.with_amount("peg8000", f"{lv.grams_per_litre:.9g} g/L"), catalog)
+        assert ev.osmotic_potential_mpa == pytest.approx(target / MPA, rel=2e-3)
+    if stock:
+        assert all(lv.stock_ml > 0 and lv.diluent_ml >= 0 for lv in d.levels)
+
+
+def test_stock_past_the_models_range_is_refused_in_words(catalog):
+    # 1.2 mol/kg PEG 8000 is 9.6 g PEG per g water: past every model beside KCl
+    with pytest.raises(InfeasibleError, match="past the range of the models"):
+        design_series(BACKGROUNDS["buffer_20C"], "peg8000", potentials_between(-0.4 * MPA, -1.4 * MPA, 5),
+                      catalog=catalog, stock="1.2 mol/kg")
+
+
+def test_designer_and_solver_give_the_same_amount(catalog):
+    """One question, one engine: the level of a series at -1.0 MPa and the solver's answer for -1.0 MPa
+    hold the same osmoticum (the solver writes its amount with 5 significant digits: 1e-4)."""
+    from mediaplan.tasks.solve import solve_target
+
+    bg = Recipe(volume="1 L", base="ms1962", strength=0.5)
+    d = design_series(bg, "mannitol", [-0.6 * MPA, -1.0 * MPA], catalog=catalog)
+    sol = solve_target(bg, catalog, "-1.0 MPa", ["mannitol"])
+    assert sol.additions[0].added_g_per_l == pytest.approx(d.levels[1].grams_per_litre, rel=1e-4)
+
+
 # ---- command line ------------------------------------------------------------------------------
 
 def test_series_json_contract(capsys):

@@ -180,6 +180,7 @@ def test_beyond_solubility_names_the_highest_reachable(catalog):
     m_sat = 21.6 * 10 / catalog.components["mannitol"].anhydrous_molar_mass
     assert ev.component("mannitol").molality_mmol_per_kg / 1000 == pytest.approx(m_sat, rel=1e-3)
     assert ev.osmotic_potential_mpa == pytest.approx(err.reachable_potential_mpa, rel=1e-3)
+    assert catalog.components["mannitol"].saturation_molality == pytest.approx(m_sat, rel=1e-12)
 
 
 def test_isotonic_targets(catalog):

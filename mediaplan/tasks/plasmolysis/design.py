@@ -2,7 +2,8 @@
 
 Levels evenly spaced in water potential (not in concentration). For each level the osmoticum
 amount that brings the background (water, a buffer or a medium) to that potential is found with
-the full non-ideal model (:class:`~mediaplan.medium.model.MediumModel`, ZSR mixing) and ``brentq``.
+the full non-ideal model (the background plus the osmoticum as a :class:`~mediaplan.medium.model.Sweep`,
+ZSR mixing) and the root finder the solver uses too (:mod:`mediaplan.medium.roots`).
 Preparation is given by weight (osmoticum per litre of finished solution, everything made up
 to volume) and, when a stock is named, as volumes of stock and diluent. The stock is the
 osmoticum dissolved in the background; the diluent is the background. The mixture's composition
@@ -20,21 +21,21 @@ from dataclasses import asdict, dataclass, field
 
 import numpy as np
 
+from mediaplan.medium import roots
 from mediaplan.medium.catalog import Catalog, Component
 from mediaplan.medium.errors import AmountError, InfeasibleError, MediaplanError
 from mediaplan.medium.evaluate import finite  # no NaN or infinity in any output (shared rule)
-from mediaplan.medium.model import compiled
+from mediaplan.medium.model import ModelState, compiled
 from mediaplan.medium.recipe import Recipe
 from mediaplan.medium.units import Amount, parse_amount
 from mediaplan.thermo import potential
 from mediaplan.thermo.constants import T0
 
-#: grid used to bracket each level before brentq refines it (one batched model call)
-_GRID = 48
-#: solution volume that solutes may occupy before the model refuses (model.solve stops at 95 %)
-_MAX_SOLUTE_VOLUME = 0.9
-#: relative tolerance of brentq on the amount [-]
+#: tolerances of the root finder on the amount: relative to the bracket's end [-], and on brentq's scale
 _XTOL = 1e-10
+_RTOL = 4 * np.finfo(float).eps
+#: error hint when a level lies beyond what the model reaches
+_HINT_LEVEL = "choose a less negative level"
 
 
 def potentials_between(start: float, stop: float, steps: int) -> np.ndarray:
@@ -151,8 +152,9 @@ def _sig(x: float, digits: int) -> float:
     return float(f"{x:.{digits}g}")
 
 
-class _Mixer:
-    """The background plus one osmoticum, compiled once; osmolality for batches of osmoticum amounts."""
+class _Background:
+    """The background compiled with one osmoticum: ``sweep`` is the background plus x mol of osmoticum
+    per m^3 of solution (component ``k`` of the model)."""
 
     def __init__(self, background: Recipe, osmoticum: Component, catalog: Catalog) -> None:
         lines = background.lines(catalog)
@@ -165,77 +167,15 @@ class _Mixer:
         self.T = background.temperature_k
         self.model = compiled(catalog, [ln.component for ln in lines] + [osmoticum], self.T)
         n, b = self.model.amounts_to_arrays([ln.amount for ln in lines] + [Amount(0.0, "molar", "0 mM")])
-        self.n0, self.b0 = n, b
         self.k = len(lines)
+        dn = np.zeros_like(n)
+        dn[self.k] = 1.0
+        self.sweep = self.model.along(n, b, dn, np.zeros_like(b))
         self.osmoticum = osmoticum
-        v = self.model.v[self.k]
-        free = 1.0 - float(n @ self.model.v)
-        self.n_max = max(free - (1 - _MAX_SOLUTE_VOLUME), 0.0) / v if v > 0 else 2e4  # mol/m^3
 
-    def state(self, n_x: np.ndarray):
-        n_x = np.atleast_1d(np.asarray(n_x, dtype=float))
-        n = np.tile(self.n0, (n_x.size, 1))
-        b = np.tile(self.b0, (n_x.size, 1))
-        n[:, self.k] = n_x
-        return _solve(self.model, n, b)
-
-    def osmolality(self, n_x) -> np.ndarray:
-        return self.state(n_x).mix.osmolality
-
-    def water_and_solutes(self, st) -> tuple[np.ndarray, np.ndarray]:
+    def water_and_solutes(self, st: ModelState) -> tuple[np.ndarray, np.ndarray]:
         """kg water per m^3 and kg anhydrous solutes per m^3 of each state in the batch."""
         return st.water_kg_per_m3, st.n_per_m3 @ self.model.M_anh
-
-
-def _solve(model, n: np.ndarray, b: np.ndarray):
-    """model.solve, quiet about the 0/0 that the ZSR step meets on a row of pure water (result is exact)."""
-    with np.errstate(divide="ignore", invalid="ignore"):
-        return model.solve(n, b)
-
-
-def _bracket_and_solve(f_batch, targets: np.ndarray, lo: float, hi: float, what: str) -> np.ndarray:
-    """x in [lo, hi] with f(x) = target for each target; f increasing.
-
-    One batched call on a grid brackets every target; a second batched call evaluates the linear
-    interpolation of each bracket, which tightens it; ``brentq`` then refines each root. Values already
-    computed are served from a cache, so brentq's first two calls cost nothing (a model call costs the
-    same for one row as for fifty).
-    """
-    from scipy.optimize import brentq
-
-    grid = lo + (hi - lo) * np.linspace(0.0, 1.0, _GRID) ** 1.5
-    vals = f_batch(grid)
-    ok = np.isfinite(vals)
-    grid, vals = grid[ok], vals[ok]
-    j = np.searchsorted(vals, targets)
-    if np.any(j >= len(vals)) or np.any(np.diff(vals) <= 0):
-        i = int(np.argmax(j >= len(vals))) if np.any(j >= len(vals)) else 0
-        raise InfeasibleError(f"{what} {i + 1} cannot be reached: the model does not go that far",
-                              hint="choose a less negative level")
-    j = np.maximum(j, 1)
-    a, c = grid[j - 1], grid[j]
-    fa, fc = vals[j - 1], vals[j]
-    guess = a + (targets - fa) * (c - a) / (fc - fa)
-    fg = f_batch(guess)
-    cache: dict[float, float] = {}
-    out = np.empty(targets.size)
-    for i, t in enumerate(targets):
-        if fg[i] == t:
-            out[i] = guess[i]
-            continue
-        lo_i, hi_i = (guess[i], c[i]) if fg[i] < t else (a[i], guess[i])
-        flo, fhi = (fg[i], fc[i]) if fg[i] < t else (fa[i], fg[i])
-        cache.clear()
-        cache.update({lo_i: flo - t, hi_i: fhi - t})
-
-        def f(x, t=t):
-            if x not in cache:
-                cache[x] = float(f_batch(np.array([x]))[0]) - t
-            return cache[x]
-
-        out[i] = brentq(f, lo_i, hi_i, xtol=_XTOL * max(abs(hi_i), 1e-9), rtol=4 * np.finfo(float).eps,
-                        maxiter=200)
-    return out
 
 
 def design_series(background: Recipe, osmoticum: str, potentials_pa: Sequence[float], *,
@@ -257,11 +197,11 @@ def design_series(background: Recipe, osmoticum: str, potentials_pa: Sequence[fl
     InfeasibleError when a level is less negative than the background or beyond what dissolves.
     """
     comp = catalog.resolve(osmoticum, field="osmoticum").component
-    mixer = _Mixer(background, comp, catalog)
+    mixer = _Background(background, comp, catalog)
     T = mixer.T
     psi = np.asarray(potentials_pa, dtype=float)
     y_target = potential.osmolality_from_potential(psi, T)
-    y_bg = float(mixer.osmolality(np.array([0.0]))[0])
+    y_bg = float(mixer.sweep.osmolality(0.0)[0])
     psi_bg = float(potential.potential_from_osmolality(y_bg, T))
     above = np.nonzero(y_target <= y_bg)[0]
     if above.size:
@@ -269,9 +209,10 @@ def design_series(background: Recipe, osmoticum: str, potentials_pa: Sequence[fl
         raise InfeasibleError(f"level {i + 1} ({psi[i] / 1e6:.4g} MPa) is not more negative than the background "
                               f"itself ({psi_bg / 1e6:.4g} MPa)", field="series.first",
                               hint="start the series below the background's potential, or dilute the background")
-    hi = _upper_bound(mixer, float(y_target.max()), psi, T, comp)
-    n_x = _bracket_and_solve(mixer.osmolality, y_target, 0.0, hi, "level")
-    st = mixer.state(n_x)
+    hi = _upper_bound(mixer, float(y_target.max()), psi, comp)
+    n_x = roots.increasing_roots(mixer.sweep.osmolality, y_target, 0.0, hi, what="level", hint=_HINT_LEVEL,
+                                 xtol=_XTOL, rtol=_RTOL, x_floor=1e-9)
+    st = mixer.sweep.state(n_x)
     W, solutes = mixer.water_and_solutes(st)
     M = mixer.model.M[mixer.k]
     vol_l = background.volume_m3 * 1000.0
@@ -294,31 +235,34 @@ def design_series(background: Recipe, osmoticum: str, potentials_pa: Sequence[fl
     return design
 
 
-def _upper_bound(mixer: _Mixer, y_max: float, psi: np.ndarray, T: float, comp: Component) -> float:
-    """An amount [mol/m^3] beyond the most concentrated level (the model must reach it)."""
-    hi = min(2.5 * y_max * 1000.0 + 10.0, mixer.n_max)
-    while True:
-        y_hi = float(mixer.osmolality(np.array([hi]))[0])
-        if math.isfinite(y_hi) and y_hi > y_max:
-            return hi
-        if hi >= mixer.n_max:
-            raise InfeasibleError(f"{comp.id} cannot bring the background down to {psi.min() / 1e6:.4g} MPa: "
-                                  "the solution would be mostly solute", field="series.last",
-                                  hint="choose a less negative last level or another osmoticum")
-        hi = min(hi * 2.0, mixer.n_max)
+def _upper_bound(mixer: _Background, y_max: float, psi: np.ndarray, comp: Component) -> float:
+    """An amount [mol/m^3] beyond the most concentrated level (the model must reach it), below the
+    sweep's limit (the water left: :meth:`~mediaplan.medium.model.Sweep.limit`)."""
+    hi = roots.bracket_above(lambda x: float(mixer.sweep.osmolality(x)[0]), y_max, 2.5 * y_max * 1000.0 + 10.0,
+                             mixer.sweep.limit().x)
+    if hi is None:
+        raise InfeasibleError(f"{comp.id} cannot bring the background down to {psi.min() / 1e6:.4g} MPa: "
+                              "the solution would be mostly solute", field="series.last",
+                              hint="choose a less negative last level or another osmoticum")
+    return hi
 
 
-def _add_stock(design: SeriesDesign, mixer: _Mixer, stock_text: str, y_target: np.ndarray, vol_l: float) -> None:
+def _add_stock(design: SeriesDesign, mixer: _Background, stock_text: str, y_target: np.ndarray,
+               vol_l: float) -> None:
     """Volumes of stock and diluent per level, from the water content of each (not C1V1 = C2V2)."""
     amt = parse_amount(stock_text, field="series.stock")
     model, k = mixer.model, mixer.k
     n_s, b_s = model.amounts_to_arrays([Amount(0.0, "molar", "0 mM")] * k + [amt])
-    n_stock, b_stock = mixer.n0.copy(), mixer.b0.copy()
+    n_stock, b_stock = mixer.sweep.n0.copy(), mixer.sweep.b0.copy()
     n_stock[k], b_stock[k] = n_s[k], b_s[k]
-    st_s = _solve(model, n_stock[None, :], b_stock[None, :])
-    st_d = _solve(model, mixer.n0[None, :], mixer.b0[None, :])
+    st_s = model.solve(n_stock[None, :], b_stock[None, :])
+    st_d = mixer.sweep.state(0.0)
     y_s = float(st_s.mix.osmolality[0])
-    if not math.isfinite(y_s) or y_s < float(y_target.max()) * (1 - 1e-9):
+    if not math.isfinite(y_s):  # e.g. an electrolyte background pushed past Pitzer's range by the stock
+        raise InfeasibleError(f"the stock ({stock_text}) is past the range of the models: its water potential "
+                              "cannot be computed", field="series.stock",
+                              hint="make the stock less concentrated: it need only pass the most negative level")
+    if y_s < float(y_target.max()) * (1 - 1e-9):
         psi_s = float(potential.potential_from_osmolality(y_s, mixer.T)) / 1e6
         raise InfeasibleError(f"the stock ({stock_text}, {psi_s:.4g} MPa) is weaker than the last level "
                               f"({design.levels[-1].water_potential_mpa:.4g} MPa)", field="series.stock",
@@ -333,9 +277,10 @@ def _add_stock(design: SeriesDesign, mixer: _Mixer, stock_text: str, y_target: n
         f = np.atleast_1d(f)[:, None]
         water = f * W_s + (1 - f) * W_d
         b = (f * c_s + (1 - f) * c_d) / water
-        return _solve(model, np.zeros_like(b), b), water[:, 0]
+        return model.solve(np.zeros_like(b), b), water[:, 0]
 
-    fr = _bracket_and_solve(lambda f: mix_state(f)[0].mix.osmolality, y_target, 0.0, 1.0, "level")
+    fr = roots.increasing_roots(lambda f: mix_state(f)[0].mix.osmolality, y_target, 0.0, 1.0, what="level",
+                                hint=_HINT_LEVEL, xtol=_XTOL, rtol=_RTOL, x_floor=1e-9)
     st_m, water = mix_state(fr)
     # the mixture's own volume per m^3 of (stock + diluent) volumes: water / (water per m^3 of mixture)
     shrink = water / st_m.water_kg_per_m3
@@ -352,15 +297,15 @@ def _add_stock(design: SeriesDesign, mixer: _Mixer, stock_text: str, y_target: n
         diluent_total_ml=float(sum(lv.diluent_ml for lv in design.levels)))
 
 
-def _design_warnings(design: SeriesDesign, comp: Component, mixer: _Mixer) -> list[str]:
+def _design_warnings(design: SeriesDesign, comp: Component, mixer: _Background) -> list[str]:
     out = []
     if comp.reflection_coefficient is not None and comp.reflection_coefficient < 0.9:
         out.append(f"{comp.id} enters cells (reflection coefficient {comp.reflection_coefficient:g}): the cells "
                    "recover from plasmolysis and the 50 % point drifts; count quickly or use mannitol or sorbitol")
     elif comp.reflection_coefficient is None and any(":" not in sp and "[" in sp for sp, _ in comp.species):
         out.append(f"{comp.id} is an electrolyte whose ions may enter the cells: plasmolysis can reverse with time")
-    if comp.solubility and comp.anhydrous_molar_mass:
-        m_sat = comp.solubility * 10.0 / comp.anhydrous_molar_mass
+    m_sat = comp.saturation_molality
+    if m_sat:
         top = max(lv.molality_mol_per_kg for lv in design.levels)
         if top > m_sat:
             out.append(f"the most concentrated level ({top:.3g} mol/kg) is above the solubility of {comp.id} "
@@ -375,11 +320,10 @@ def _design_warnings(design: SeriesDesign, comp: Component, mixer: _Mixer) -> li
             out.append(f"the stock is at {100 * design.stock.molality_mol_per_kg / m_sat:.0f} % of the solubility of "
                        f"{comp.id}: keep it warm and check for crystals before use")
     model = mixer.model
-    for j, kk in enumerate(model.neutral_idx):
-        p = model.neutral_params[j]
-        top = max(lv.molality_mol_per_kg for lv in design.levels) if model.species[kk] in dict(comp.species) else 0
+    for sp, p in model.neutral_models.items():
+        top = max(lv.molality_mol_per_kg for lv in design.levels) if sp in dict(comp.species) else 0
         if top > p.m_max:
-            out.append(f"{model.species[kk]} above {p.m_max:g} mol/kg is beyond its model's range: extrapolated")
+            out.append(f"{sp} above {p.m_max:g} mol/kg is beyond its model's range: extrapolated")
     if model.species and comp.species and all(sp in model.ideal_neutral for sp, _ in comp.species):
         out.append(f"no published model for {comp.id}: treated as an ideal solution")
     if mixer.already is not None:
@@ -403,11 +347,11 @@ def potential_of_amounts(background: Recipe, osmoticum: str, amounts: Sequence[A
                          catalog: Catalog) -> np.ndarray:
     """Water potential [Pa] of the background with each amount of the osmoticum (one batched model call)."""
     comp = catalog.resolve(osmoticum, field="osmoticum").component
-    mixer = _Mixer(background, comp, catalog)
-    n = np.tile(mixer.n0, (len(amounts), 1))
-    b = np.tile(mixer.b0, (len(amounts), 1))
+    mixer = _Background(background, comp, catalog)
+    model, k = mixer.model, mixer.k
+    n = np.tile(mixer.sweep.n0, (len(amounts), 1))
+    b = np.tile(mixer.sweep.b0, (len(amounts), 1))
     for i, a in enumerate(amounts):
-        ni, bi = mixer.model.amounts_to_arrays([Amount(0.0, "molar", "0 mM")] * mixer.k + [a])
-        n[i, mixer.k], b[i, mixer.k] = ni[mixer.k], bi[mixer.k]
-    y = _solve(mixer.model, n, b).mix.osmolality
-    return potential.potential_from_osmolality(y, mixer.T)
+        ni, bi = model.amounts_to_arrays([Amount(0.0, "molar", "0 mM")] * k + [a])
+        n[i, k], b[i, k] = ni[k], bi[k]
+    return potential.potential_from_osmolality(model.solve(n, b).mix.osmolality, mixer.T)
