@@ -37,6 +37,12 @@ def main() -> None:
     t_eval = median_time(lambda: evaluate(recipe, cat), number=200)
     print(f"full evaluate(), MS 1962 + 30 g/L sucrose, {n_comp} components: median {t_eval * 1e3:.3f} ms "
           f"(goal <= 0.3 ms; ratio to goal {t_eval / 0.3e-3:.2f})")
+    # small media: the fixed cost of an evaluation (no salts; one salt alone)
+    for label, small in (("mannitol 0.3 mol/kg + sucrose 20 g/L", Recipe().with_amount("mannitol", "0.3 mol/kg")
+                          .with_amount("sucrose", "20 g/L")), ("KNO3 20 mM alone", Recipe().with_amount("KNO3", "20 mM"))):
+        evaluate(small, cat)
+        t_small = median_time(lambda small=small: evaluate(small, cat), number=200)
+        print(f"full evaluate(), {label}: median {t_small * 1e3:.3f} ms")
 
     # the numerical core alone (compiled model, one row)
     lines = recipe.lines(cat)

@@ -12,8 +12,8 @@ import numpy as np
 
 from mediaplan.files.catalog import get_catalog
 from mediaplan.medium.evaluate import evaluate
-from mediaplan.tasks.plasmolysis import Counts, design_series, fit_counts, inverse_link, potentials_between
 from mediaplan.medium.recipe import Recipe
+from mediaplan.tasks.plasmolysis import Counts, design_series, fit_counts, inverse_link, potentials_between
 
 
 def median_ms(fn, repeat: int = 7) -> float:
@@ -36,6 +36,10 @@ def main() -> None:
         one_eval = median_ms(lambda bg=bg: evaluate(bg.with_amount("mannitol", "50 g/L"), cat))
         print(f"design 8 levels in {name:12s}: by weight {by_weight:7.1f} ms, with stock {with_stock:7.1f} ms; "
               f"one evaluate() {one_eval:5.1f} ms (design = {by_weight / one_eval:.1f} evaluations)")
+    # PEG in an electrolyte buffer: the first upper bound lies past Pitzer's range and is drawn back
+    buffer = Recipe(volume="100 mL", temperature="20 degC").with_amount("KCl", "10 mM")
+    peg = median_ms(lambda: design_series(buffer, "peg8000", psi, catalog=cat))
+    print(f"design 8 levels of PEG 8000 in 10 mM KCl: by weight {peg:7.1f} ms")
     rng = np.random.default_rng(1)
     x = np.repeat(np.linspace(-0.4, -1.6, 8), 3)
     n = np.full(x.size, 50.0)
