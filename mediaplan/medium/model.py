@@ -98,7 +98,7 @@ class MediumModel:
         for i, c in enumerate(self.components):
             for sp, n in c.species:
                 S[i, species.index(sp)] += n
-        self.S = S
+        self._S = S
         self.M = np.array([(c.molar_mass or 0.0) / 1000.0 for c in self.components])  # kg/mol as sold
         self.M_anh = np.array([(c.anhydrous_molar_mass or 0.0) / 1000.0 for c in self.components])
         self.hydrate = np.array([c.hydrate_water for c in self.components])
@@ -116,38 +116,38 @@ class MediumModel:
             else:
                 v.append(0.0)
         self.v = np.array(v)
-        self.ion_idx = [k for k, sp in enumerate(species) if parse_species(sp).is_ion]
-        self.peg_idx = [k for k, sp in enumerate(species) if sp in _PEG_GRADES]
-        self.neutral_idx = [k for k, sp in enumerate(species)
+        self._ion_idx = [k for k, sp in enumerate(species) if parse_species(sp).is_ion]
+        self._peg_idx = [k for k, sp in enumerate(species) if sp in _PEG_GRADES]
+        self._neutral_idx = [k for k, sp in enumerate(species)
                             if not parse_species(sp).is_ion and sp not in _PEG_GRADES]
-        self.peg_grades = [_PEG_GRADES[species[k]] for k in self.peg_idx]
+        self._peg_grades = [_PEG_GRADES[species[k]] for k in self._peg_idx]
         self.ideal_neutral: list[str] = []
         nparams: list[NeutralParams] = []
-        for k in self.neutral_idx:
+        for k in self._neutral_idx:
             sp = species[k]
             p = catalog.neutral.get(sp)
             if p is None:
                 p = NeutralParams(sp, "ideal", 0.0, float("inf"), "no published model: ideal solution assumed")
                 self.ideal_neutral.append(sp)
             nparams.append(p)
-        self.neutral_params = nparams
-        self.pitzer = None
-        if self.ion_idx:
+        self._neutral_params = nparams
+        self._pitzer = None
+        if self._ion_idx:
             if catalog.pitzer is None:
                 raise MediaplanError("the catalog has no Pitzer parameters (catalog/pitzer.yaml)",
                                      hint="reinstall mediaplan or restore catalog/pitzer.yaml")
             from mediaplan.thermo.pitzer import PitzerSystem
 
-            self.pitzer = PitzerSystem([species[k] for k in self.ion_idx], catalog.pitzer)
+            self._pitzer = PitzerSystem([species[k] for k in self._ion_idx], catalog.pitzer)
         self.rho_w = float(water.density(self.T))
         self.particles = S.sum(axis=1)
         # stoichiometry of each ZSR group's species, per component (for the osmolal shares)
-        self._S_ion = S[:, self.ion_idx]
-        self._S_neutral = [S[:, k] for k in self.neutral_idx]
-        self._S_peg = [S[:, k] for k in self.peg_idx]
-        self.neutral_models = {species[k]: p for k, p in zip(self.neutral_idx, nparams, strict=True)}
+        self._S_ion = S[:, self._ion_idx]
+        self._S_neutral = [S[:, k] for k in self._neutral_idx]
+        self._S_peg = [S[:, k] for k in self._peg_idx]
+        self.neutral_models = {species[k]: p for k, p in zip(self._neutral_idx, nparams, strict=True)}
         #: charge of each ion of the model
-        self.ion_charges = {species[k]: parse_species(species[k]).charge for k in self.ion_idx}
+        self.ion_charges = {species[k]: parse_species(species[k]).charge for k in self._ion_idx}
         self._charge2 = np.array([z * z for z in self.ion_charges.values()], dtype=float)
         #: indices of the components that bring a neutral solute without a published model
         self.ideal_components = [i for i, c in enumerate(self.components)
@@ -220,7 +220,7 @@ class MediumModel:
         W = self.water(n, b, T=T)
         molality = n / W[:, None] + b
         n_all = molality * W[:, None]
-        species_m = molality @ self.S
+        species_m = molality @ self._S
         mix = self.mixture(species_m, T)
         return ModelState(W, n_all, molality, species_m, mix)
 
@@ -228,14 +228,14 @@ class MediumModel:
         """ZSR solution for species molalities (B, n_species) [mol/kg] at temperature T [K];
         ``start``: ``MixtureResult.state`` of the same composition (warm start)."""
         species_m = np.atleast_2d(species_m)
-        ion_m = species_m[:, self.ion_idx] if self.ion_idx else None
-        neutral_m = species_m[:, self.neutral_idx]
+        ion_m = species_m[:, self._ion_idx] if self._ion_idx else None
+        neutral_m = species_m[:, self._neutral_idx]
         # PEG: g PEG per g water = molality [mol/kg] * molar mass [g/mol] / 1000
-        peg_c = np.zeros((species_m.shape[0], len(self.peg_idx)))
-        for j, k in enumerate(self.peg_idx):
-            peg_c[:, j] = species_m[:, k] * self.peg_grades[j] / 1000.0
-        return zsr_osmolality(MixtureInput(self.pitzer, ion_m, self.neutral_params, neutral_m,
-                                           self.peg_grades, peg_c, T), start=start)
+        peg_c = np.zeros((species_m.shape[0], len(self._peg_idx)))
+        for j, k in enumerate(self._peg_idx):
+            peg_c[:, j] = species_m[:, k] * self._peg_grades[j] / 1000.0
+        return zsr_osmolality(MixtureInput(self._pitzer, ion_m, self._neutral_params, neutral_m,
+                                           self._peg_grades, peg_c, T), start=start)
 
     # ---- what a solved state means per component ---------------------------------------------
     def shares(self, state: ModelState) -> np.ndarray:
@@ -253,7 +253,7 @@ class MediumModel:
 
     def _shares_row(self, molality: np.ndarray, y: float, fe: float, fn: np.ndarray, fp: np.ndarray) -> np.ndarray:
         share = np.zeros(molality.shape[0])
-        if self.ion_idx:
+        if self._ion_idx:
             ion_c = (molality[:, None] * self._S_ion).sum(axis=1)
             tot = ion_c.sum()
             if tot > 0:
@@ -268,25 +268,25 @@ class MediumModel:
 
     def ionic_strength(self, state: ModelState) -> np.ndarray:
         """Ionic strength I = ½ Σ m_i z_i² [mol/kg] of each row, (B,)."""
-        if not self.ion_idx:
+        if not self._ion_idx:
             return np.zeros(state.species_m.shape[0])
-        return 0.5 * (state.species_m[:, self.ion_idx] @ self._charge2)
+        return 0.5 * (state.species_m[:, self._ion_idx] @ self._charge2)
 
     # ---- the species by kind (for the validity checks) ---------------------------------------
     @property
     def has_electrolytes(self) -> bool:
         """Some component dissolves into ions."""
-        return bool(self.ion_idx)
+        return bool(self._ion_idx)
 
     @property
     def has_neutral(self) -> bool:
         """Some component dissolves into neutral solutes other than PEG."""
-        return bool(self.neutral_idx)
+        return bool(self._neutral_idx)
 
     @property
     def has_peg(self) -> bool:
         """Some component is PEG."""
-        return bool(self.peg_idx)
+        return bool(self._peg_idx)
 
     def species_present(self, state: ModelState, row: int = 0) -> dict[str, float]:
         """{species: molality [mol/kg]} of every species above zero in one row, in model order."""
@@ -294,28 +294,28 @@ class MediumModel:
 
     def neutral_solutes(self, state: ModelState, row: int = 0) -> list[tuple[str, float, NeutralParams]]:
         """(species, molality [mol/kg], its binary model) of each neutral solute of the model (PEG apart)."""
-        if not self.neutral_idx:
+        if not self._neutral_idx:
             return []
         sm = state.species_m[row]
-        return [(self.species[k], float(sm[k]), p) for k, p in zip(self.neutral_idx, self.neutral_params,
+        return [(self.species[k], float(sm[k]), p) for k, p in zip(self._neutral_idx, self._neutral_params,
                                                                      strict=True)]
 
     def peg_solutes(self, state: ModelState, row: int = 0) -> list[tuple[int, float]]:
         """(grade [g/mol], concentration [g PEG / g water]) of each PEG grade of the model."""
-        if not self.peg_idx:
+        if not self._peg_idx:
             return []
         sm = state.species_m[row]
-        return [(g, float(sm[k] * g / 1000.0)) for k, g in zip(self.peg_idx, self.peg_grades, strict=True)]
+        return [(g, float(sm[k] * g / 1000.0)) for k, g in zip(self._peg_idx, self._peg_grades, strict=True)]
 
     def ion_molalities(self, state: ModelState, row: int = 0) -> dict[str, float]:
         """{ion: molality [mol/kg]} of every ion of the model (zero ones included), in model order."""
         sm = state.species_m[row].tolist()
-        return {self.species[k]: sm[k] for k in self.ion_idx}
+        return {self.species[k]: sm[k] for k in self._ion_idx}
 
     def ion_pairs(self, state: ModelState, row: int = 0) -> list[tuple[str, str, object]]:
         """(cation, anion, its Pitzer binary parameters) of each pair with parameters whose ions are both
         present in the row."""
-        if self.pitzer is None:
+        if self._pitzer is None:
             return []
         present = [sp for sp, m in self.ion_molalities(state, row).items() if m > 0]
         cats = [i for i in present if self.ion_charges[i] > 0]
@@ -327,14 +327,14 @@ class MediumModel:
     def ion_pairs_without_parameters(self) -> tuple[tuple[str, str], ...]:
         """(cation, anion) of every pair of the model's ions without Pitzer parameters (their interaction
         falls back to the Debye–Hückel term alone)."""
-        return tuple(getattr(self.pitzer, "missing_pairs", ())) if self.pitzer is not None else ()
+        return tuple(getattr(self._pitzer, "missing_pairs", ())) if self._pitzer is not None else ()
 
     def ion_pairs_beyond_data(self, state: ModelState, row: int = 0) -> list[tuple[str, str]]:
         """(cation, anion) of each present pair whose Pitzer parameters are used past their fitted range
         (ionic strength of the row above that of the pair's binary solution at its ``max_m``)."""
-        if self.pitzer is None:
+        if self._pitzer is None:
             return []
-        return self.pitzer.max_molality_exceeded(state.species_m[row, self.ion_idx])
+        return self._pitzer.max_molality_exceeded(state.species_m[row, self._ion_idx])
 
     # ---- a medium along a line of amounts ----------------------------------------------------
     def along(self, n0: np.ndarray, b0: np.ndarray, dn: np.ndarray, db: np.ndarray, *,
@@ -463,10 +463,10 @@ class ZSRResidual:
     def __init__(self, model: MediumModel, y: float) -> None:
         self.model = model
         self.y = float(y)
-        self.x_neutral = np.array([float(_neutral.molality_at_osmolality(y, p)) for p in model.neutral_params])
+        self.x_neutral = np.array([float(_neutral.molality_at_osmolality(y, p)) for p in model._neutral_params])
         self.c_peg = np.array([float(_peg.peg_concentration_at_osmolality(y, model.T, g))
-                               for g in model.peg_grades])
-        self.peg_factor = np.array(model.peg_grades, dtype=float) / 1000.0  # mol/kg -> g/g
+                               for g in model._peg_grades])
+        self.peg_factor = np.array(model._peg_grades, dtype=float) / 1000.0  # mol/kg -> g/g
         self._q: np.ndarray | None = None
         self._phi = 1.0
 
@@ -475,7 +475,7 @@ class ZSRResidual:
         q = ions / ions.sum()
         if self._q is not None and np.allclose(q, self._q, rtol=1e-12, atol=1e-15):
             return self._phi
-        pitzer, T, y = self.model.pitzer, self.model.T, self.y
+        pitzer, T, y = self.model._pitzer, self.model.T, self.y
         total = y
         for _ in range(80):
             phi = float(pitzer.osmotic_coefficient(total * q, T))
@@ -490,14 +490,14 @@ class ZSRResidual:
     def __call__(self, n: np.ndarray, b: np.ndarray) -> float:
         """The residual [-] for one composition, n and b (n_comp,)."""
         m = self.model
-        sp = m.molality(n, b) @ m.S
+        sp = m.molality(n, b) @ m._S
         r = 0.0
-        if m.neutral_idx:
-            r += float(sp[m.neutral_idx] @ (1.0 / self.x_neutral))
-        if m.peg_idx:
-            r += float((sp[m.peg_idx] * self.peg_factor) @ (1.0 / self.c_peg))
-        if m.ion_idx:
-            ions = sp[m.ion_idx]
+        if m._neutral_idx:
+            r += float(sp[m._neutral_idx] @ (1.0 / self.x_neutral))
+        if m._peg_idx:
+            r += float((sp[m._peg_idx] * self.peg_factor) @ (1.0 / self.c_peg))
+        if m._ion_idx:
+            ions = sp[m._ion_idx]
             tot = float(ions.sum())
             if tot > 0:
                 r += tot * self._phi_star(ions) / self.y

@@ -134,3 +134,20 @@ def test_at_osmolality_matches_the_full_solution(catalog):
     y = float(model.solve(n[None], b[None]).mix.osmolality[0])
     assert abs(model.at_osmolality(y)(n, b)) < 1e-10
     assert model.at_osmolality(1.05 * y)(n, b) < 0 < model.at_osmolality(0.95 * y)(n, b)
+
+
+def test_nothing_outside_the_model_reads_its_arrays(catalog):
+    """The stoichiometry and the ZSR grouping are the model's own: other modules ask its methods."""
+    import re
+    from pathlib import Path
+
+    import mediaplan
+
+    model, _, _ = _model(catalog, MS_SUCROSE)
+    private = ("S", "ion_idx", "neutral_idx", "peg_idx", "pitzer", "peg_grades", "neutral_params")
+    assert not any(hasattr(model, name) for name in private)
+    pattern = re.compile(r"\._(" + "|".join(private) + r")\b")
+    root = Path(mediaplan.__file__).parent
+    readers = [str(p.relative_to(root)) for p in root.rglob("*.py")
+               if p.name != "model.py" and pattern.search(p.read_text(encoding="utf-8"))]
+    assert readers == []
