@@ -318,6 +318,10 @@ def _newton(ops: _Ops, s: _System, start: tuple | None) -> MixtureResult:
     if s.warm:
         # the same composition solved at another temperature: restart at its state, with phi at this T
         y, x, g, s_c = start[0], list(start[1]), start[2], start[3]
+        if not s.electrolytes and all(grp.kind == "n" for grp in s.groups):
+            # neutral solutes alone: their binary models have no temperature term (mediaplan.thermo.neutral),
+            # so the state solved at the other temperature is the solution at this one
+            return _result(ops, s, y, x, 0.0, phi_c, (y, tuple(x), g, s_c), True, False)
         if has_e:
             phi_c = ops.phi(s.pitzer, s.ion_m, s_c, T)
     Me = where(has_e, s.M_e, 1.0)

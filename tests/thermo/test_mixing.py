@@ -112,7 +112,8 @@ def test_pure_water_on_both_paths(catalog):
         assert res.ideal[0] == 0.0
 
 
-@pytest.mark.parametrize("comp", ["ms_macro_salts", "ms_with_sucrose", "peg_in_salt", "everything"])
+@pytest.mark.parametrize("comp", ["ms_macro_salts", "ms_with_sucrose", "peg_in_salt", "everything",
+                                  "sucrose_mannitol", "trace_organics_ideal", "peg8000"])
 def test_warm_start_at_another_temperature_is_the_cold_solve(catalog, comp):
     """evaluate() solves the medium at 0 °C (the freezing-point osmometer) from its 25 °C state."""
     warm_from = zsr_osmolality(_input(catalog, comp, 298.15))
