@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import re
 from collections import Counter
-from functools import lru_cache
+from functools import cache
 from pathlib import Path
 
 import periodictable  # a test extra: a missing one fails here, never skips
@@ -36,7 +36,7 @@ OPTIONAL_LEFT_OUT = {
 }
 
 
-@lru_cache(maxsize=None)
+@cache
 def _atoms(formula: str) -> Counter:
     """Atoms of one formula unit: 'CaCl2·2H2O' -> Ca 1, Cl 2, H 4, O 2. 'Na2EDTA' is disodium dihydrogen
     ethylenediaminetetraacetate, Na2H2(C10H12N2O8) (common practice); a name in brackets is dropped."""
