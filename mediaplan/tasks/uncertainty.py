@@ -1,0 +1,451 @@
+"""The uncertainty budget: a 95 % interval around every figure mediaplan states about a medium.
+
+Sources (each one a :class:`Contribution`)
+------------------------------------------
+1. **Model error per solute class**: the relative standard uncertainty of each class's share of the
+   osmolality, from :data:`MODEL_ERROR` (electrolytes by Pitzer, neutral solutes by Norrish, neutral
+   solutes without a model of their own, PEG by the Michel equations); solutes of one class act
+   together (electrolytes are one Pitzer mixture) or each on its own (every neutral solute and PEG grade
+   has its own constant). Pitzer pairs without temperature terms add :data:`NO_TEMPERATURE_TERMS` per
+   25 K away from 25 °C (the osmometer figure is computed at 0 °C).
+2. **ZSR mixing**: with PEG and other solutes, half the interval reaches the answer of adding the
+   groups' own osmolalities (no published check of the ZSR synergy here); without PEG,
+   :data:`ZSR_MIXING` of the mixed part of the osmolality.
+3. **Preparation**: balance readability (each component weighed, small amounts through a stock) and
+   the volumetric tolerance of making up to volume (:class:`Tolerances`, common-practice defaults).
+4. **Temperature**: the medium's temperature known to ``temperature_sd_k``.
+5. **Confidence C lines** of a base medium (amounts recalled from memory, unverified): each such line's
+   amount is uncertain by ``confidence_c_relative``; the lines are named.
+
+Propagation
+-----------
+Linearised (first order). The derivatives of the osmolality (at the recipe's temperature and at 0 °C,
+the freezing-point figures) with respect to each component's amount and the made-up volume are finite
+differences, evaluated in ONE batched call of the compiled model (one row per component plus the volume
+row), plus one row at T + 1 K; the model-error terms scale each class's osmolal share. Every other figure
+follows from the osmolality by its exact derivative (water activity, potential, freezing-point depression,
+osmometer reading). The sources are combined as independent (root sum of squares). Each interval is the
+central value ± 1.96 standard uncertainties (normal; GUM, JCGM 100:2008, 6.3).
+
+The intervals describe how far the stated figure may be from the medium actually made in a lab that
+works to these tolerances; they do not widen for warnings the evaluation already gives (a model used
+beyond its range).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field, replace
+
+import numpy as np
+
+from mediaplan.medium.catalog import Catalog
+from mediaplan.medium.evaluate import Evaluation, evaluate, finite
+from mediaplan.medium.model import compiled
+from mediaplan.medium.recipe import Recipe
+from mediaplan.thermo import potential
+from mediaplan.thermo.constants import K_F_OSMOMETER, M_WATER, T0
+
+#: two-sided 95 % quantile of the normal distribution
+Z95 = 1.959963984540054
+
+#: Model error of each solute class: relative standard uncertainty [-] of the class's share of the
+#: osmolality, u = a + b·y, with y the medium's osmolality [osmol/kg].
+#: Method: the whole engine (recipe -> evaluate -> freezing-point depression) against the freezing
+#: points of binary solutions in the CRC Handbook of Chemistry and Physics, 102nd ed. (2021),
+#: "Concentrative properties of aqueous solutions" (tests/data/crc_concentrative_subset.tsv,
+#: tests/data/crc_salts_subset.tsv): rows up to 2.5 osmol/kg, the table's 0.005 K rounding allowed for.
+#: Neither the Pitzer parameters (fitted to isopiestic osmotic coefficients at 25 °C) nor the Norrish
+#: constants (fitted to water activities near 25 °C) were fitted to these freezing points. Observed:
+#: NaCl and KCl within 0.6 % up to 1 osmol/kg and 2 % at 3.5 osmol/kg, CaCl2 up to 2.5 % near
+#: 1 osmol/kg; sucrose, glucose, fructose and mannitol within 1.3 % below 1.5 osmol/kg, 2-3 % near
+#: 2.4 osmol/kg, glycerol 2-3.6 % at 1-1.9 osmol/kg. a and b were set so that 1.96 u covers about 95 %
+#: of these rows (tests/tasks/test_uncertainty.py checks the coverage and that u is not inflated).
+MODEL_ERROR: dict[str, tuple[float, float, str]] = {
+    "electrolyte": (0.006, 0.006, "model: electrolytes (Pitzer)"),
+    "norrish": (0.005, 0.008, "model: sugars and polyols (Norrish)"),
+    # Norrish constant borrowed from another solute (maltose takes sucrose's): the CRC maltose rows
+    # differ by up to 2.4 % at 2.3 mol/kg, the other direction from sucrose's (judgement: twice the
+    # class's own error)
+    "norrish_borrowed": (0.010, 0.010, "model: sugars with a borrowed Norrish constant"),
+    # no published model: Raoult's law (judgement: real sugars depart 5-10 % by 1 osmol/kg)
+    "ideal": (0.03, 0.05, "model: solutes without a published model (ideal)"),
+    # Michel (1983) equations, as published: their fit to the measured PEG potentials is stated
+    # within about 5 % (from memory, unverified)
+    "peg": (0.03, 0.0, "model: PEG (Michel equations)"),
+}
+#: extra relative standard uncertainty [-] of the electrolyte share brought by Pitzer pairs without
+#: temperature terms, per 25 K away from 25 °C: KNO3 freezing points are 2.3 % high at 0.1 mol/kg and
+#: 6 % at 0.52 mol/kg against the CRC Handbook (102nd ed., 2021), about half of it from the missing terms
+#: (project issue notes); 0.03 per 25 K covers that at 95 % together with the class's own error.
+NO_TEMPERATURE_TERMS = 0.03
+#: ZSR mixing without PEG: relative standard uncertainty [-] of the mixed part of the osmolality,
+#: y·(1 − Σ f_g²) (zero for one solute group). Stokes & Robinson (1966, J Phys Chem 70:2126) found the rule
+#: within about 1 % for mixtures of non-electrolytes (from memory, unverified).
+ZSR_MIXING = 0.01
+#: relative step of the finite differences [-]
+_H = 1e-4
+#: temperature step of the finite difference [K]
+_DT = 1.0
+
+
+@dataclass(frozen=True)
+class Interval:
+    """A 95 % interval around a central value, in the same unit as the value."""
+
+    value: float
+    low: float
+    high: float
+
+    @classmethod
+    def around(cls, value: float, sd: float, *, lower: float | None = None,
+               upper: float | None = None) -> Interval:
+        """value ± 1.96 sd, clipped to [lower, upper] where a quantity cannot go."""
+        lo, hi = value - Z95 * sd, value + Z95 * sd
+        if lower is not None:
+            lo = max(lo, lower)
+        if upper is not None:
+            hi = min(hi, upper)
+        return cls(float(value), float(lo), float(hi))
+
+    def half_width(self) -> float:
+        """Half the width of the interval [unit of the value]."""
+        return (self.high - self.low) / 2.0
+
+    def to_list(self) -> list[float]:
+        """[low, high]."""
+        return [self.low, self.high]
+
+    def contains(self, x: float) -> bool:
+        return self.low <= x <= self.high
+
+
+@dataclass(frozen=True)
+class Contribution:
+    """One source's share of the budget: its standard uncertainty of each figure (1 sd, not 95 %).
+
+    source : what it is ("model: electrolytes (Pitzer)", "balance", "volume", "temperature", ...)
+    sd_osmolality_mosmol_per_kg : of the osmolality at the recipe's temperature [mOsm/kg]
+    note : how it was estimated, and the components it concerns
+    sd_potential_mpa : of the osmotic potential [MPa]
+    sd_osmometer_mosmol_per_kg : of the freezing-point osmometer reading [mOsm/kg]
+    components : ids of the components it concerns (empty: the whole medium)
+    """
+
+    source: str
+    sd_osmolality_mosmol_per_kg: float
+    note: str
+    sd_potential_mpa: float = 0.0
+    sd_osmometer_mosmol_per_kg: float = 0.0
+    components: tuple[str, ...] = ()
+
+    def to_dict(self) -> dict:
+        return {"source": self.source, "sd_osmolality_mosmol_per_kg": self.sd_osmolality_mosmol_per_kg,
+                "sd_potential_mpa": self.sd_potential_mpa,
+                "sd_osmometer_mosmol_per_kg": self.sd_osmometer_mosmol_per_kg,
+                "components": list(self.components), "note": self.note}
+
+
+@dataclass(frozen=True)
+class Tolerances:
+    """How well a lab makes a medium (common-practice defaults; a lab can set its own).
+
+    balance_readability_g : the balance's readability [g]; one reading step is taken as the standard
+        uncertainty of a weighing (tare and gross together) (common practice: a two-decimal balance)
+    min_weighing_steps : amounts below this many readability steps are taken as made through a stock
+        that is weighed at this many steps [-] (common practice: weigh at least 100 steps)
+    volume_relative : tolerance of making up to volume [fraction], read as the half-width of a
+        rectangular distribution (JCGM 100:2008, 4.3.7) (common practice: ±1 % for a graduated cylinder)
+    temperature_sd_k : standard uncertainty of the medium's temperature [K] (common practice: a culture
+        room held to ±1-2 °C)
+    confidence_c_relative : standard relative uncertainty of a base line of confidence C [fraction]
+        (judgement: an amount recalled from memory may be off by a quarter)
+    """
+
+    balance_readability_g: float = 0.01
+    min_weighing_steps: float = 100.0
+    volume_relative: float = 0.01
+    temperature_sd_k: float = 1.0
+    confidence_c_relative: float = 0.25
+
+    @classmethod
+    def exact(cls) -> Tolerances:
+        """No preparation, temperature or recalled-amount error: the model's own error alone."""
+        return cls(balance_readability_g=0.0, volume_relative=0.0, temperature_sd_k=0.0,
+                   confidence_c_relative=0.0)
+
+
+@dataclass
+class Budget:
+    """The 95 % intervals of one medium's figures and the sources behind them (units in the names)."""
+
+    osmolality: Interval  # mOsm/kg at the recipe temperature
+    water_activity: Interval
+    osmotic_potential: Interval  # MPa
+    freezing_point_depression: Interval  # K
+    osmometer: Interval  # mOsm/kg, what a freezing-point osmometer reads
+    contributions: list[Contribution] = field(default_factory=list)
+    tolerances: Tolerances = field(default_factory=Tolerances)
+
+    @property
+    def relative_osmolality(self) -> tuple[float, float]:
+        """(low/value, high/value) of the osmolality [-]."""
+        v = self.osmolality.value
+        return (self.osmolality.low / v, self.osmolality.high / v) if v > 0 else (1.0, 1.0)
+
+    def to_dict(self) -> dict:
+        """The interval keys of the JSON contract and an ``uncertainty`` breakdown."""
+        return finite({
+            "osmolality_interval_mosmol_per_kg": self.osmolality.to_list(),
+            "water_activity_interval": self.water_activity.to_list(),
+            "osmotic_potential_interval_mpa": self.osmotic_potential.to_list(),
+            "freezing_point_depression_interval_k": self.freezing_point_depression.to_list(),
+            "osmometer_interval_mosmol_per_kg": self.osmometer.to_list(),
+            "uncertainty": {
+                "level": 0.95,
+                "method": "linearised (first order), sources independent (root sum of squares), "
+                          "interval = value ± 1.96 sd",
+                "sources": [c.to_dict() for c in self.contributions],
+                "tolerances": {
+                    "balance_readability_g": self.tolerances.balance_readability_g,
+                    "min_weighing_steps": self.tolerances.min_weighing_steps,
+                    "volume_relative": self.tolerances.volume_relative,
+                    "temperature_sd_k": self.tolerances.temperature_sd_k,
+                    "confidence_c_relative": self.tolerances.confidence_c_relative,
+                },
+            },
+        })
+
+
+# ---- the model error table -------------------------------------------------------------------------
+def model_error(kind: str, y: float) -> float:
+    """Relative standard uncertainty [-] of a class's share of the osmolality, at medium osmolality
+    y [osmol/kg] (see :data:`MODEL_ERROR`)."""
+    a, b, _ = MODEL_ERROR[kind]
+    return a + b * max(float(y), 0.0)
+
+
+def _neutral_kind(params) -> str:
+    if params.model != "norrish":
+        return "ideal"
+    src = (params.source or "").lower()
+    return "norrish_borrowed" if ("borrow" in src or "no published norrish" in src) else "norrish"
+
+
+def _class_of(model, comp) -> list[tuple[str, str]]:
+    """(kind, key) of each solute class one component brings: the electrolytes share one key, each
+    neutral species and PEG grade its own."""
+    out = []
+    for sp, _ in comp.species:
+        if sp in model.ion_charges:
+            k = ("electrolyte", "electrolytes")
+        elif sp in model.neutral_models:
+            k = (_neutral_kind(model.neutral_models[sp]), sp)
+        else:
+            k = ("peg", sp)
+        if k not in out:
+            out.append(k)
+    return out
+
+
+def _no_temperature_terms(catalog: Catalog, comp, ion_charges: dict) -> bool:
+    """Does the component bring an ion pair whose Pitzer parameters have no temperature terms?"""
+    pitzer = catalog.pitzer
+    ions = [sp for sp, _ in comp.species if sp in ion_charges]
+    cats = [i for i in ions if ion_charges[i] > 0]
+    ans = [i for i in ions if ion_charges[i] < 0]
+    for c in cats:
+        for a in ans:
+            p = pitzer.binary.get((c, a)) if pitzer is not None else None
+            if p is None or not p.temperature_terms:
+                return True
+    return False
+
+
+# ---- the budget ---------------------------------------------------------------------------------------
+def budget(recipe: Recipe, catalog: Catalog, *, tolerances: Tolerances = Tolerances(),
+           evaluation: Evaluation | None = None) -> Budget:
+    """The 95 % uncertainty budget of a recipe's figures.
+
+    Parameters
+    ----------
+    recipe : the medium
+    catalog : component catalog
+    tolerances : how well the lab makes it (common-practice defaults)
+    evaluation : ``evaluate(recipe, catalog)`` when the caller has it (its central values are used)
+
+    Returns
+    -------
+    Budget: intervals of osmolality [mOsm/kg], water activity [-], osmotic potential [MPa],
+    freezing-point depression [K] and osmometer reading [mOsm/kg], and the contributions by source.
+    """
+    ev = evaluation if evaluation is not None else evaluate(recipe, catalog)
+    lines = recipe.lines(catalog)
+    T = recipe.temperature_k
+    if not lines:
+        z = Interval(0.0, 0.0, 0.0)
+        return Budget(z, Interval(1.0, 1.0, 1.0), z, z, z, [], tolerances)
+    comps = [ln.component for ln in lines]
+    model = compiled(catalog, comps, T)
+    n, b = model.amounts_to_arrays([ln.amount for ln in lines])
+    nc = len(comps)
+    # rows: the medium, each component's amount × (1 + h), every per-volume amount × (1 + h)
+    N = np.tile(n, (nc + 2, 1))
+    B = np.tile(b, (nc + 2, 1))
+    for i in range(nc):
+        N[1 + i, i] *= 1 + _H
+        B[1 + i, i] *= 1 + _H
+    N[nc + 1] *= 1 + _H
+    st = model.solve(N, B)
+    y = st.mix.osmolality  # osmol/kg at T
+    y0 = model.mixture(st.species_m, T0).osmolality  # at 0 °C
+    dy = (y[1:] - y[0]) / _H  # per relative change of an amount [osmol/kg]
+    dy0 = (y0[1:] - y0[0]) / _H
+    Y, Y0 = float(y[0]), float(y0[0])
+    # exact derivatives of the other figures
+    vw = float(potential.potential_from_osmolality(1.0, T))  # Pa per osmol/kg
+    aw = float(potential.water_activity(Y))
+    eps = max(Y0 * 1e-6, 1e-9)
+    th = potential.freezing_point_depression(potential.water_activity(np.array([Y0 - eps, Y0 + eps])))
+    dth = float(th[1] - th[0]) / (2 * eps)  # K per osmol/kg at 0 °C
+
+    contribs: list[Contribution] = []
+
+    def add(source: str, sd_y: float, sd_y0: float, note: str, ids=(), sd_psi: float | None = None) -> None:
+        if not (sd_y > 0 or sd_y0 > 0 or (sd_psi or 0) > 0):
+            return
+        contribs.append(Contribution(source, sd_y * 1000.0, note,
+                                     sd_potential_mpa=(abs(vw) * sd_y if sd_psi is None else sd_psi) / 1e6,
+                                     sd_osmometer_mosmol_per_kg=dth * sd_y0 / K_F_OSMOMETER * 1000.0,
+                                     components=tuple(ids)))
+
+    # 1. model error per class: shares of the osmolality at T and at 0 °C
+    share = model.shares(st)[0]
+    frac = share / Y if Y > 0 else np.zeros_like(share)
+    classes: dict[tuple[str, str], list[int]] = {}
+    for i, c in enumerate(comps):
+        for k in _class_of(model, c):
+            classes.setdefault(k, []).append(i)
+    by_kind: dict[str, list[tuple[float, float, list[str]]]] = {}
+    for (kind, _key), idx in classes.items():
+        part = float(sum(frac[i] for i in idx)) / max(len(_class_of(model, comps[idx[0]])), 1)
+        by_kind.setdefault(kind, []).append((model_error(kind, Y) * part * Y, model_error(kind, Y0) * part * Y0,
+                                             [comps[i].id for i in idx]))
+    for kind, items in by_kind.items():
+        sd_y = math.sqrt(sum(a * a for a, _, _ in items))
+        sd_y0 = math.sqrt(sum(b0 * b0 for _, b0, _ in items))
+        a, bb, label = MODEL_ERROR[kind]
+        ids = [i for _, _, g in items for i in g]
+        add(label, sd_y, sd_y0, f"{100 * a:g} % + {100 * bb:g} % per osmol/kg of the class's share "
+            "(1 sd; from CRC Handbook freezing points, see MODEL_ERROR)", ids)
+    # Pitzer pairs without temperature terms, away from 25 °C
+    if model.has_electrolytes:
+        idx = [i for i, c in enumerate(comps) if _no_temperature_terms(catalog, c, model.ion_charges)]
+        part = float(sum(frac[i] for i in idx))
+        if part > 0:
+            sd_y = NO_TEMPERATURE_TERMS * abs(T - 298.15) / 25.0 * part * Y
+            sd_y0 = NO_TEMPERATURE_TERMS * 25.0 / 25.0 * part * Y0
+            add("model: Pitzer pairs without temperature terms", sd_y, sd_y0,
+                f"{100 * NO_TEMPERATURE_TERMS:g} % per 25 K from 25 °C of their share (25 °C parameters; "
+                "the osmometer figure is at 0 °C)", [comps[i].id for i in idx])
+    # 2. ZSR mixing
+    kinds_present = {k for k, _ in classes}
+    if len(classes) > 1:
+        if "peg" in kinds_present:
+            additive, additive0 = _additive(model, st.species_m[:1], T)
+            add("model: ZSR mixing with PEG", abs(Y - additive) / Z95, abs(Y0 - additive0) / Z95,
+                "no published check of the ZSR synergy of PEG with these solutes: the 95 % interval reaches "
+                f"the sum of the groups' own osmolalities ({additive * 1000:.0f} mOsm/kg)")
+        else:
+            mixed = 1.0 - float(sum(sum(frac[i] for i in idx) ** 2 for idx in classes.values()))
+            mixed = max(mixed, 0.0)
+            add("model: ZSR mixing", ZSR_MIXING * mixed * Y, ZSR_MIXING * mixed * Y0,
+                f"{100 * ZSR_MIXING:g} % of the mixed part of the osmolality (Stokes & Robinson 1966; from memory)")
+    # 3. preparation
+    tol = tolerances
+    V_l = recipe.volume_m3 * 1000.0
+    if tol.balance_readability_g > 0:
+        grams = st.n_per_m3[0] * model.M * V_l  # g of each form as sold per batch
+        rel = np.zeros(nc)
+        for i in range(nc):
+            if grams[i] > 0:
+                rel[i] = tol.balance_readability_g / max(grams[i], tol.min_weighing_steps * tol.balance_readability_g)
+        sd_y = float(np.sqrt(np.sum((dy[:nc] * rel) ** 2)))
+        sd_y0 = float(np.sqrt(np.sum((dy0[:nc] * rel) ** 2)))
+        add("balance", sd_y, sd_y0, f"readability {tol.balance_readability_g:g} g per weighing for "
+            f"{fmt_l(V_l)}; amounts under {tol.min_weighing_steps:g} steps through a stock")
+    if tol.volume_relative > 0 and np.any(n > 0):
+        u = tol.volume_relative / math.sqrt(3.0)
+        add("volume", abs(float(dy[nc])) * u, abs(float(dy0[nc])) * u,
+            f"made up to volume within ±{100 * tol.volume_relative:g} % (rectangular)")
+    # 4. temperature
+    if tol.temperature_sd_k > 0:
+        stT = model.solve(n[None, :], b[None, :], T=T + _DT)
+        yT = float(stT.mix.osmolality[0])
+        psiT = float(potential.potential_from_osmolality(yT, T + _DT))
+        psi = float(potential.potential_from_osmolality(Y, T))
+        sd_y = abs(yT - Y) / _DT * tol.temperature_sd_k
+        add("temperature", sd_y, 0.0, f"the medium within {tol.temperature_sd_k:g} K (1 sd) of "
+            f"{T - T0:g} °C; the osmometer reads at the freezing point",
+            sd_psi=abs(psiT - psi) / _DT * tol.temperature_sd_k)
+    # 5. base lines of confidence C
+    if tol.confidence_c_relative > 0:
+        idx = [i for i, ln in enumerate(lines) if ln.origin == "base" and ln.confidence == "C"]
+        if idx:
+            r = tol.confidence_c_relative
+            sd_y = float(np.sqrt(np.sum((dy[idx] * r) ** 2)))
+            sd_y0 = float(np.sqrt(np.sum((dy0[idx] * r) ** 2)))
+            names = ", ".join(comps[i].id for i in idx)
+            add("confidence C lines", sd_y, sd_y0,
+                f"{len(idx)} base line(s) recalled from memory (unverified), ±{100 * r:g} % each (1 sd): {names}",
+                [comps[i].id for i in idx])
+    return _combine(ev, contribs, tol, aw, T)
+
+
+def fmt_l(V_l: float) -> str:
+    return f"{V_l:g} L"
+
+
+def _additive(model, species_m: np.ndarray, T: float) -> tuple[float, float]:
+    """The sum of each solute group's own binary osmolality at its molality in the medium [osmol/kg],
+    at T and at 0 °C (the answer without ZSR's cross effects)."""
+    ns = species_m.shape[1]
+    groups: list[list[int]] = []
+    ions = [k for k, sp in enumerate(model.species) if sp in model.ion_charges]
+    if ions:
+        groups.append(ions)
+    groups += [[k] for k, sp in enumerate(model.species) if sp not in model.ion_charges]
+    rows = np.zeros((len(groups), ns))
+    for r, g in enumerate(groups):
+        rows[r, g] = species_m[0, g]
+    keep = rows.sum(axis=1) > 0
+    rows = rows[keep]
+    if not len(rows):
+        return 0.0, 0.0
+    a = float(np.nansum(model.mixture(rows, T).osmolality))
+    a0 = float(np.nansum(model.mixture(rows, T0).osmolality))
+    return a, a0
+
+
+def _combine(ev: Evaluation, contribs: list[Contribution], tol: Tolerances, aw: float, T: float) -> Budget:
+    sd_y = math.sqrt(sum(c.sd_osmolality_mosmol_per_kg ** 2 for c in contribs)) / 1000.0
+    sd_psi = math.sqrt(sum(c.sd_potential_mpa ** 2 for c in contribs))
+    sd_osm = math.sqrt(sum(c.sd_osmometer_mosmol_per_kg ** 2 for c in contribs))
+    sd_th = sd_osm / 1000.0 * K_F_OSMOMETER
+    return Budget(
+        osmolality=Interval.around(ev.osmolality_mosmol_per_kg, sd_y * 1000.0, lower=0.0),
+        water_activity=Interval.around(ev.water_activity, M_WATER * aw * sd_y, upper=1.0),
+        osmotic_potential=Interval.around(ev.osmotic_potential_mpa, sd_psi, upper=0.0),
+        freezing_point_depression=Interval.around(ev.freezing_point_depression_k, sd_th, lower=0.0),
+        osmometer=Interval.around(ev.osmometer_mosmol_per_kg, sd_osm, lower=0.0),
+        contributions=sorted(contribs, key=lambda c: -c.sd_osmolality_mosmol_per_kg),
+        tolerances=tol)
+
+
+def with_tolerances(tol: Tolerances, **changes) -> Tolerances:
+    """A copy of ``tol`` with some fields changed."""
+    return replace(tol, **changes)
+
+
+__all__ = ["Z95", "MODEL_ERROR", "NO_TEMPERATURE_TERMS", "ZSR_MIXING", "Interval", "Contribution", "Tolerances",
+           "Budget", "budget", "model_error"]
