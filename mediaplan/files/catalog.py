@@ -12,6 +12,7 @@ the package data ``mediaplan._catalog`` and found through :mod:`importlib.resour
 
 from __future__ import annotations
 
+import difflib
 import hashlib
 import json
 import math
@@ -22,7 +23,7 @@ from pathlib import Path
 from typing import Any
 
 from mediaplan.files.yamlio import load_yaml
-from mediaplan.medium.catalog import GROUPS, Catalog, Component, Medium, MediumLine
+from mediaplan.medium.catalog import GROUPS, Catalog, Component, Medium, MediumLine, SolubilityPoint
 from mediaplan.medium.errors import CatalogError
 from mediaplan.medium.units import parse_amount
 from mediaplan.thermo.ions import charge_balance, parse_species
@@ -114,6 +115,67 @@ def _opt_text(entry: dict, key: str, file: str, cid: str) -> str | None:
     return str(value)
 
 
+#: the keys of one row of a component's ``solubility_table`` (all three required)
+SOLUBILITY_ROW_KEYS = ("temperature_c", "g_per_100g_water", "source")
+#: temperatures [°C] a solubility row may name: from a cold room below freezing (brines) to an autoclave
+SOLUBILITY_T_RANGE_C = (-40.0, 150.0)
+
+
+def _solubility_table(entry: dict, file: str, cid: str, file_sources: dict[str, str]) -> tuple[SolubilityPoint, ...]:
+    """The component's ``solubility_table``: a list of rows ``{temperature_c, g_per_100g_water, source}`` in
+    increasing temperature, at least two. Strict: an unknown or missing key, a value that is not a number,
+    a temperature out of order or a solubility outside :data:`PLAUSIBLE` is an error naming the row's line."""
+    line = getattr(entry, "line", None)
+    field = "solubility_table"
+    for key in entry:  # a misspelt table key must not leave the table silently unread
+        if key not in ("solubility", field) and isinstance(key, str) and difflib.get_close_matches(
+                key, ("solubility", field), n=1, cutoff=0.75):
+            raise CatalogError(f"{cid}: unknown key {key!r}", file=file, line=line, field=key,
+                               hint=f"did you mean {difflib.get_close_matches(key, ('solubility', field), n=1)[0]}?")
+    raw = entry.get("solubility_table")
+    if raw is None:
+        return ()
+    if not isinstance(raw, list) or len(raw) < 2:
+        raise CatalogError(f"{cid}: solubility_table must be a list of at least two rows", file=file, line=line,
+                           field=field, hint="rows like {temperature_c: 20, g_per_100g_water: 31.6, source: ...}")
+    rows: list[SolubilityPoint] = []
+    for row in raw:
+        where = dict(file=file, line=getattr(row, "line", line), field=field)
+        if not isinstance(row, dict):
+            raise CatalogError(f"{cid}: each solubility_table row must be a mapping", **where,
+                               hint="{temperature_c: 20, g_per_100g_water: 31.6, source: ...}")
+        for key in row:
+            if key not in SOLUBILITY_ROW_KEYS:
+                close = difflib.get_close_matches(str(key), SOLUBILITY_ROW_KEYS, n=1)
+                raise CatalogError(f"{cid}: unknown key {key!r} in a solubility_table row", **where,
+                                   hint=(f"did you mean {close[0]}? " if close else "") + "the keys are "
+                                   + ", ".join(SOLUBILITY_ROW_KEYS))
+        for key in SOLUBILITY_ROW_KEYS:
+            if key not in row or row[key] is None or row[key] == "":
+                raise CatalogError(f"{cid}: a solubility_table row lacks {key}", **where,
+                                   hint="every row names its temperature, its solubility and its source")
+        t, g, src = row["temperature_c"], row["g_per_100g_water"], row["source"]
+        for key, v in (("temperature_c", t), ("g_per_100g_water", g)):
+            if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
+                raise CatalogError(f"{cid}: {key} of a solubility_table row must be a number, not {v!r}", **where)
+        if not SOLUBILITY_T_RANGE_C[0] <= t <= SOLUBILITY_T_RANGE_C[1]:
+            raise CatalogError(f"{cid}: solubility_table temperature {t:g} °C is outside "
+                               f"{SOLUBILITY_T_RANGE_C[0]:g} to {SOLUBILITY_T_RANGE_C[1]:g} °C", **where,
+                               hint="temperatures are in °C")
+        wrong = plausible("solubility", float(g))
+        if wrong is not None:
+            raise CatalogError(f"{cid}: solubility_table at {t:g} °C: {wrong[0]}", **where, hint=wrong[1])
+        if not isinstance(src, str):
+            raise CatalogError(f"{cid}: the source of a solubility_table row must be text", **where)
+        if rows and t <= rows[-1].temperature_k - 273.15 + 1e-9:
+            raise CatalogError(f"{cid}: solubility_table rows must go up in temperature ({t:g} °C after "
+                               f"{rows[-1].temperature_k - 273.15:g} °C)", **where)
+        text = file_sources.get(src, src)
+        rows.append(SolubilityPoint(float(t) + 273.15, float(g), text,
+                                    from_memory="from memory" in text.lower()))
+    return tuple(rows)
+
+
 def parse_component(entry: Any, file: str, file_sources: dict[str, str]) -> Component:
     """Validate one component mapping; raises CatalogError naming file, line and field."""
     if not isinstance(entry, dict):
@@ -179,13 +241,14 @@ def parse_component(entry: Any, file: str, file_sources: dict[str, str]) -> Comp
         wrong = None if value is None else plausible(key, value, molar_mass=molar_mass)
         if wrong is not None:
             raise CatalogError(f"{cid}: {wrong[0]}", **where, field=key, hint=wrong[1])
+    table = _solubility_table(entry, file, cid, file_sources)
     return Component(
         id=cid, name=name, formula=formula, aliases=tuple(aliases), cas=cas, group=group, molar_mass=molar_mass,
         hydrate_water=float(hydrate), substance=substance or formula, default_form=bool(default_form),
         species=tuple(species), solubility=numbers["solubility"],
         apparent_molar_volume=numbers["apparent_molar_volume"], density=numbers["density"],
         reflection_coefficient=refl, hazard=hazard, sources=sources, file=file, line=line,
-        digest=_digest(dict(entry)),
+        digest=_digest(dict(entry)), solubility_table=table,
     )
 
 

@@ -38,13 +38,60 @@ def normalise_name(text: str) -> str:
     return t
 
 
+#: temperature [K] of the catalog's single ``solubility`` figure
+SOLUBILITY_T_K = 298.15
+
+
+@dataclass(frozen=True)
+class SolubilityPoint:
+    """One row of a component's solubility table: temperature_k [K], g_per_100g_water [g anhydrous substance
+    per 100 g water] at saturation, the source of the row, and whether the row is recalled (from memory)."""
+
+    temperature_k: float
+    g_per_100g_water: float
+    source: str
+    from_memory: bool = False
+
+
+@dataclass(frozen=True)
+class Saturation:
+    """The solubility of a substance at one temperature, as far as the catalog knows it.
+
+    molality [mol/kg water] at saturation, or None when no figure holds at ``asked_k``;
+    g_per_100g_water [g anhydrous per 100 g water], likewise; temperature_k [K] the temperature the figure
+    belongs to (``asked_k`` when interpolated in a table, 298.15 K when only the 25 °C figure is known, None
+    when no figure holds); asked_k [K] the temperature asked for; note: why the figure is not at ``asked_k``
+    (outside the table's range, only a 25 °C value), or None; from_memory: a recalled row went into it.
+    """
+
+    molality: float | None
+    g_per_100g_water: float | None
+    temperature_k: float | None
+    asked_k: float
+    note: str | None = None
+    from_memory: bool = False
+
+    @property
+    def at_asked(self) -> bool:
+        """The figure is the solubility at the temperature asked for (interpolated in a table, or the
+        25 °C figure asked at 25 °C)."""
+        return self.temperature_k is not None and abs(self.temperature_k - self.asked_k) < 0.05
+
+
+def celsius(T: float) -> str:
+    """A temperature [K] as short text in °C (``4 °C``, ``22.5 °C``)."""
+    return f"{T - 273.15:.3g} °C" if abs(T - 273.15) < 100 else f"{T - 273.15:.0f} °C"
+
+
 @dataclass(frozen=True)
 class Component:
     """One chemical in the form it is sold (hydrates are separate components).
 
     molar_mass [g/mol] of the form as sold; hydrate_water [mol/mol]; solubility [g anhydrous per
     100 g water, 25 °C]; apparent_molar_volume [cm^3/mol]; density [g/cm^3] (liquids);
-    species: what one formula unit dissolves into.
+    species: what one formula unit dissolves into; solubility_table: the solubility at several
+    temperatures (rows in increasing temperature, each with its source; empty when only the 25 °C
+    figure is known), read by :meth:`saturation_at`.
     """
 
     id: str
@@ -67,6 +114,7 @@ class Component:
     file: str
     line: int
     digest: str
+    solubility_table: tuple[SolubilityPoint, ...] = ()
 
     @property
     def anhydrous_molar_mass(self) -> float | None:
@@ -82,6 +130,50 @@ class Component:
         if self.solubility is None or not self.anhydrous_molar_mass:
             return None
         return self.solubility * 10.0 / self.anhydrous_molar_mass
+
+    def saturation_at(self, T: float) -> Saturation:
+        """The solubility at temperature T [K] (see :class:`Saturation`).
+
+        With a solubility table: linear interpolation between the two rows around T (in g per 100 g
+        water, then to mol/kg with the anhydrous molar mass). Outside the table's temperatures nothing is
+        extrapolated: the figure is None and ``note`` says which temperatures the table covers. Without a
+        table only the 25 °C ``solubility`` is known: it is returned with ``temperature_k`` 298.15 K and,
+        at any other temperature, a note that says so. The one place a solubility becomes a molality at
+        a temperature (:attr:`saturation_molality` is the 25 °C figure).
+        """
+        M = self.anhydrous_molar_mass
+        T = float(T)
+        if not M:
+            return Saturation(None, None, None, T)
+        rows = self.solubility_table
+        if rows:
+            lo, hi = rows[0].temperature_k, rows[-1].temperature_k
+            if not lo - 1e-6 <= T <= hi + 1e-6:
+                return Saturation(None, None, None, T, note=(
+                    f"the solubility of {self.name} is tabulated only from {celsius(lo)} to {celsius(hi)}"),
+                    from_memory=False)
+            for a, b in zip(rows, rows[1:] or rows, strict=False):
+                if T <= b.temperature_k + 1e-6:
+                    break
+            if b.temperature_k == a.temperature_k:
+                g, mem = a.g_per_100g_water, a.from_memory
+            else:
+                w = min(max((T - a.temperature_k) / (b.temperature_k - a.temperature_k), 0.0), 1.0)
+                g = a.g_per_100g_water + w * (b.g_per_100g_water - a.g_per_100g_water)
+                mem = (a.from_memory and w < 1.0 - 1e-9) or (b.from_memory and w > 1e-9)
+            return Saturation(g * 10.0 / M, g, T, T, from_memory=mem)
+        if self.solubility is None:
+            return Saturation(None, None, None, T)
+        note = None if abs(T - SOLUBILITY_T_K) < 0.05 else (
+            f"only the solubility of {self.name} at 25 °C is known")
+        mem = "from memory" in (self.sources.get("solubility") or "")
+        return Saturation(self.solubility * 10.0 / M, self.solubility, SOLUBILITY_T_K, T, note=note, from_memory=mem)
+
+    def saturation_molality_at(self, T: float) -> float | None:
+        """[mol/kg water] at saturation at temperature T [K], or None when the catalog has no figure that
+        holds at T (see :meth:`saturation_at`: nothing is extrapolated)."""
+        sat = self.saturation_at(T)
+        return sat.molality if sat.at_asked else None
 
     @property
     def display(self) -> str:
@@ -234,4 +326,5 @@ class Catalog:
         return [t[3] for t in scored[:limit]]
 
 
-__all__ = ["Catalog", "Component", "Medium", "MediumLine", "Resolution", "GROUPS", "GROUP_LABELS", "normalise_name"]
+__all__ = ["Catalog", "Component", "Medium", "MediumLine", "Resolution", "GROUPS", "GROUP_LABELS", "normalise_name",
+           "Saturation", "SolubilityPoint", "SOLUBILITY_T_K", "celsius"]
