@@ -289,19 +289,17 @@ def budget(recipe: Recipe, catalog: Catalog, *, tolerances: Tolerances = Toleran
     model = compiled(catalog, comps, T)
     n, b = model.amounts_to_arrays([ln.amount for ln in lines])
     nc = len(comps)
-    # rows: the medium, each component's amount × (1 + h), every per-volume amount × (1 + h)
-    N = np.tile(n, (nc + 2, 1))
-    B = np.tile(b, (nc + 2, 1))
-    for i in range(nc):
-        N[1 + i, i] *= 1 + _H
-        B[1 + i, i] *= 1 + _H
-    N[nc + 1] *= 1 + _H
-    st = model.solve(N, B)
-    y = st.mix.osmolality  # osmol/kg at T
-    y0 = model.mixture(st.species_m, T0).osmolality  # at 0 °C
-    dy = (y[1:] - y[0]) / _H  # per relative change of an amount [osmol/kg]
-    dy0 = (y0[1:] - y0[0]) / _H
-    Y, Y0 = float(y[0]), float(y0[0])
+    Y = ev.osmolality_mosmol_per_kg / 1000.0  # osmol/kg at T
+    Y0 = _osmolality_at_freezing(ev.freezing_point_depression_k)  # osmol/kg at 0 °C
+    share = np.array([c.osmolality_mosmol_per_kg / 1000.0 for c in ev.components])  # osmol/kg each
+    frac = share / Y if Y > 0 else np.zeros(nc)
+    # g = d ln y / d ln(every amount): one solve of the medium with every amount × (1 + h)
+    y_up = float(model.solve(n[None, :] * (1 + _H), b[None, :] * (1 + _H)).mix.osmolality[0])
+    g = (y_up - Y) / (_H * Y) if Y > 0 else 1.0
+    dy = g * frac * Y  # d y / d ln(amount of component i) [osmol/kg]
+    dy0 = g * frac * Y0
+    per_volume = np.array([ln.amount.kind in ("mass_conc", "molar", "vol_frac") for ln in lines])
+    dy_vol, dy0_vol = float(dy[per_volume].sum()), float(dy0[per_volume].sum())
     # exact derivatives of the other figures
     vw = float(potential.potential_from_osmolality(1.0, T))  # Pa per osmol/kg
     aw = float(potential.water_activity(Y))
@@ -319,9 +317,7 @@ def budget(recipe: Recipe, catalog: Catalog, *, tolerances: Tolerances = Toleran
                                      sd_osmometer_mosmol_per_kg=dth * sd_y0 / K_F_OSMOMETER * 1000.0,
                                      components=tuple(ids)))
 
-    # 1. model error per class: shares of the osmolality at T and at 0 °C
-    share = model.shares(st)[0]
-    frac = share / Y if Y > 0 else np.zeros_like(share)
+    # 1. model error per class: each class's share of the osmolality at T and at 0 °C
     classes: dict[tuple[str, str], list[int]] = {}
     for i, c in enumerate(comps):
         for k in _class_of(model, c):
@@ -352,7 +348,7 @@ def budget(recipe: Recipe, catalog: Catalog, *, tolerances: Tolerances = Toleran
     kinds_present = {k for k, _ in classes}
     if len(classes) > 1:
         if "peg" in kinds_present:
-            additive, additive0 = _additive(model, st.species_m[:1], T)
+            additive, additive0 = _additive(model, n, b, T)
             add("model: ZSR mixing with PEG", abs(Y - additive) / Z95, abs(Y0 - additive0) / Z95,
                 "no published check of the ZSR synergy of PEG with these solutes: the 95 % interval reaches "
                 f"the sum of the groups' own osmolalities ({additive * 1000:.0f} mOsm/kg)")
@@ -365,18 +361,18 @@ def budget(recipe: Recipe, catalog: Catalog, *, tolerances: Tolerances = Toleran
     tol = tolerances
     V_l = recipe.volume_m3 * 1000.0
     if tol.balance_readability_g > 0:
-        grams = st.n_per_m3[0] * model.M * V_l  # g of each form as sold per batch
+        grams = np.array([c.grams_per_litre for c in ev.components]) * V_l  # g of each form as sold per batch
         rel = np.zeros(nc)
         for i in range(nc):
             if grams[i] > 0:
                 rel[i] = tol.balance_readability_g / max(grams[i], tol.min_weighing_steps * tol.balance_readability_g)
-        sd_y = float(np.sqrt(np.sum((dy[:nc] * rel) ** 2)))
-        sd_y0 = float(np.sqrt(np.sum((dy0[:nc] * rel) ** 2)))
+        sd_y = float(np.sqrt(np.sum((dy * rel) ** 2)))
+        sd_y0 = float(np.sqrt(np.sum((dy0 * rel) ** 2)))
         add("balance", sd_y, sd_y0, f"readability {tol.balance_readability_g:g} g per weighing for "
             f"{fmt_l(V_l)}; amounts under {tol.min_weighing_steps:g} steps through a stock")
     if tol.volume_relative > 0 and np.any(n > 0):
         u = tol.volume_relative / math.sqrt(3.0)
-        add("volume", abs(float(dy[nc])) * u, abs(float(dy0[nc])) * u,
+        add("volume", abs(dy_vol) * u, abs(dy0_vol) * u,
             f"made up to volume within ±{100 * tol.volume_relative:g} % (rectangular)")
     # 4. temperature
     if tol.temperature_sd_k > 0:
@@ -406,9 +402,27 @@ def fmt_l(V_l: float) -> str:
     return f"{V_l:g} L"
 
 
-def _additive(model, species_m: np.ndarray, T: float) -> tuple[float, float]:
+def _osmolality_at_freezing(theta: float) -> float:
+    """The osmolality [osmol/kg] whose water activity freezes at a depression θ [K] (the inverse of
+    :func:`mediaplan.thermo.potential.freezing_point_depression`, by Newton's method)."""
+    if not theta > 0:
+        return 0.0
+    y = theta / K_F_OSMOMETER
+    for _ in range(20):
+        eps = max(y * 1e-7, 1e-12)
+        f = float(potential.freezing_point_depression(potential.water_activity(y))) - theta
+        d = (float(potential.freezing_point_depression(potential.water_activity(y + eps))) - theta - f) / eps
+        step = f / d
+        y -= step
+        if abs(step) <= 1e-13 * y:
+            break
+    return y
+
+
+def _additive(model, n: np.ndarray, b: np.ndarray, T: float) -> tuple[float, float]:
     """The sum of each solute group's own binary osmolality at its molality in the medium [osmol/kg],
     at T and at 0 °C (the answer without ZSR's cross effects)."""
+    species_m = model.solve(n[None, :], b[None, :]).species_m
     ns = species_m.shape[1]
     groups: list[list[int]] = []
     ions = [k for k, sp in enumerate(model.species) if sp in model.ion_charges]
