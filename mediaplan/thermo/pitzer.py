@@ -344,9 +344,10 @@ class PitzerSystem:
       Pitzer & Mayorga 1973; Pitzer & Kim 1974). A_phi follows temperature (Møller 1988 eq. 13), and so
       do the binary parameters of the pairs that carry temperature terms (``BinaryPitzer.
       temperature_terms``: the analytical form of PHREEQC's pitzer.dat, see :func:`temperature_basis`,
-      for the Na-K-Ca-Mg-Cl-SO4 pairs). For NaCl against Pitzer, Peiper & Busey (1984) this holds within
+      for the Na-K-Ca-Mg-Cl-SO4 pairs; first derivatives of Pitzer 1991 Tables 12-13 for KNO3, NaNO3,
+      KH2PO4, Ca(NO3)2, Mg(NO3)2). For NaCl against Pitzer, Peiper & Busey (1984) this holds within
       0.003 at 0-40 °C up to 2 mol/kg (without the terms: +0.027 at 1 mol/kg and 0 °C). Pairs without
-      terms (nitrates, ammonium, phosphates) keep their 25 °C values; in dilute culture media
+      terms (ammonium, most phosphates) keep their 25 °C values; in dilute culture media
       (I < 0.1 mol/kg) that costs under about 0.5 %.
     * Like-charged ions of unlike charge (e.g. K+/Ca2+, Cl-/SO4 2-) get the unsymmetric-mixing terms
       E-theta of Pitzer (1975), with J(x) from Pitzer's eq. 47 empirical form (:func:`j_function`).
