@@ -26,6 +26,39 @@ os.environ["XDG_CACHE_HOME"] = str(_CACHES / "xdg")
 os.environ["MEDIAPLAN_CACHE_DIR"] = str(_CACHES / "mediaplan")
 atexit.register(shutil.rmtree, _CACHES, ignore_errors=True)
 
+# Child processes a test starts (``python -m mediaplan ...``) import this checkout, the tree under test,
+# whatever an editable install elsewhere points at (the mutation script runs the suite in a copy).
+os.environ["PYTHONPATH"] = os.pathsep.join([str(ROOT)] + [p for p in os.environ.get("PYTHONPATH", "").split(os.pathsep)
+                                                         if p and p != str(ROOT)])
+
+#: The reference libraries the tests compare against (and the test tools): a missing one fails the whole
+#: run at its start with this message, never a silent skip of the checks that need it.
+REQUIRED = {  # import name: distribution name
+    "periodictable": "periodictable",
+    "iapws": "iapws",
+    "statsmodels": "statsmodels",
+    "pyEQL": "pyEQL",
+    "phreeqpython": "phreeqpython",
+    "hypothesis": "hypothesis",
+    "importlinter": "import-linter",
+    "matplotlib": "matplotlib",
+    "scipy": "scipy",
+}
+
+
+def missing_references() -> list[str]:
+    """Distribution names of the required test libraries that cannot be found [names]."""
+    import importlib.util
+
+    return [dist for name, dist in REQUIRED.items() if importlib.util.find_spec(name) is None]
+
+
+def pytest_sessionstart(session):
+    missing = missing_references()
+    if missing:
+        pytest.exit(f"reference libraries missing: {', '.join(missing)}; the checks against them cannot run. "
+                    "Install the test extras: python3 -m pip install -e '.[test]'", returncode=3)
+
 
 @pytest.fixture(autouse=True)
 def _isolate_user_files(tmp_path_factory, monkeypatch):

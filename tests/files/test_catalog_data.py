@@ -59,7 +59,7 @@ def charge(species: str) -> int:
 
 def formula_mass(formula: str) -> float:
     """Formula mass from periodictable standard atomic weights; '·' parts with a leading count (·7H2O, ·HCl)."""
-    periodictable = pytest.importorskip("periodictable")
+    import periodictable  # a required reference library (tests/conftest.py)
     total = 0.0
     for part in formula.split("·"):
         m = re.match(r"^(\d*)(.+)$", part)

@@ -125,7 +125,7 @@ def test_molarity_to_molality_against_crc_densities(solute, cid, c, m, tol, cata
 
 def test_ms_salts_against_pyeql_live(catalog):
     """The same MS-like mixture computed live by pyEQL (reference library in the test extras)."""
-    pyEQL = pytest.importorskip("pyEQL")
+    import pyEQL  # a required reference library (tests/conftest.py)
     sol = pyEQL.Solution({"NH4+": "20.6 mmol/kg", "NO3-": "39.4 mmol/kg", "K+": "20.05 mmol/kg",
                           "Ca+2": "2.99 mmol/kg", "Cl-": "5.98 mmol/kg", "Mg+2": "1.50 mmol/kg",
                           "SO4-2": "1.50 mmol/kg", "H2PO4-": "1.25 mmol/kg"}, engine="native", pH=5.8)

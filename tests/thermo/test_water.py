@@ -2,13 +2,12 @@
 
 from __future__ import annotations
 
+import iapws  # the reference library for water properties, required (tests/conftest.py)
 import numpy as np
 import pytest
 
 from mediaplan.thermo.constants import M_WATER, T0
 from mediaplan.thermo.water import density, molar_volume
-
-iapws = pytest.importorskip("iapws", reason="iapws is the reference library for water properties")
 
 TEMPS_C = list(range(0, 41, 5))
 
