@@ -111,6 +111,7 @@ FLAG_OF_FIELD = {
     "series.first": "--from", "series.last": "--to", "series.step": "--step", "series.steps": "--steps",
     "series.stock": "--stock", "batch_volume": "--volume", "stock_volume": "--stock-volume",
     "stock_factor": "--factor", "form": "--form", "force": "--force",
+    "balance_readability": "--readability", "volume_tolerance": "--volume-tolerance",
 }
 
 

@@ -61,18 +61,20 @@ Z95 = 1.959963984540054
 #: 1 osmol/kg; sucrose, glucose, fructose and mannitol within 1.3 % below 1.5 osmol/kg, 2-3 % near
 #: 2.4 osmol/kg, glycerol 2-3.6 % at 1-1.9 osmol/kg. a and b were set so that 1.96 u covers about 95 %
 #: of these rows (tests/tasks/test_uncertainty.py checks the coverage and that u is not inflated).
-MODEL_ERROR: dict[str, tuple[float, float, str]] = {
-    "electrolyte": (0.006, 0.006, "model: electrolytes (Pitzer)"),
-    "norrish": (0.005, 0.008, "model: sugars and polyols (Norrish)"),
+MODEL_ERROR: dict[str, tuple[float, float, str, str]] = {
+    "electrolyte": (0.006, 0.006, "model: electrolytes (Pitzer)", "CRC Handbook freezing points of NaCl, KCl, CaCl2"),
+    "norrish": (0.005, 0.008, "model: sugars and polyols (Norrish)",
+                "CRC Handbook freezing points of sucrose, glucose, fructose, mannitol, glycerol"),
     # Norrish constant borrowed from another solute (maltose takes sucrose's): the CRC maltose rows
     # differ by up to 2.4 % at 2.3 mol/kg, the other direction from sucrose's (judgement: twice the
     # class's own error)
-    "norrish_borrowed": (0.010, 0.010, "model: sugars with a borrowed Norrish constant"),
+    "norrish_borrowed": (0.010, 0.010, "model: sugars with a borrowed Norrish constant",
+                         "judgement, from the CRC Handbook maltose freezing points"),
     # no published model: Raoult's law (judgement: real sugars depart 5-10 % by 1 osmol/kg)
-    "ideal": (0.03, 0.05, "model: solutes without a published model (ideal)"),
+    "ideal": (0.03, 0.05, "model: solutes without a published model (ideal)", "judgement"),
     # Michel (1983) equations, as published: their fit to the measured PEG potentials is stated
     # within about 5 % (from memory, unverified)
-    "peg": (0.03, 0.0, "model: PEG (Michel equations)"),
+    "peg": (0.03, 0.0, "model: PEG (Michel equations)", "the equations' stated fit, from memory (unverified)"),
 }
 #: extra relative standard uncertainty [-] of the electrolyte share brought by Pitzer pairs without
 #: temperature terms, per 25 K away from 25 °C: KNO3 freezing points are 2.3 % high at 0.1 mol/kg and
@@ -221,7 +223,7 @@ class Budget:
 def model_error(kind: str, y: float) -> float:
     """Relative standard uncertainty [-] of a class's share of the osmolality, at medium osmolality
     y [osmol/kg] (see :data:`MODEL_ERROR`)."""
-    a, b, _ = MODEL_ERROR[kind]
+    a, b = MODEL_ERROR[kind][:2]
     return a + b * max(float(y), 0.0)
 
 
@@ -330,10 +332,10 @@ def budget(recipe: Recipe, catalog: Catalog, *, tolerances: Tolerances = Toleran
     for kind, items in by_kind.items():
         sd_y = math.sqrt(sum(a * a for a, _, _ in items))
         sd_y0 = math.sqrt(sum(b0 * b0 for _, b0, _ in items))
-        a, bb, label = MODEL_ERROR[kind]
+        a, bb, label, basis = MODEL_ERROR[kind]
         ids = [i for _, _, g in items for i in g]
-        add(label, sd_y, sd_y0, f"{100 * a:g} % + {100 * bb:g} % per osmol/kg of the class's share "
-            "(1 sd; from CRC Handbook freezing points, see MODEL_ERROR)", ids)
+        per = f" + {100 * bb:g} % per osmol/kg" if bb else ""
+        add(label, sd_y, sd_y0, f"{100 * a:g} %{per} of the class's share (1 sd; {basis})", ids)
     # Pitzer pairs without temperature terms, away from 25 °C
     if model.has_electrolytes:
         idx = [i for i, c in enumerate(comps) if _no_temperature_terms(catalog, c, model.ion_charges)]
@@ -456,10 +458,45 @@ def _combine(ev: Evaluation, contribs: list[Contribution], tol: Tolerances, aw: 
         tolerances=tol)
 
 
-def with_tolerances(tol: Tolerances, **changes) -> Tolerances:
-    """A copy of ``tol`` with some fields changed."""
+def tolerances_with(tol: Tolerances, *, balance_readability: str | float | None = None,
+                    volume_tolerance: str | float | None = None,
+                    temperature_sd: float | None = None) -> Tolerances:
+    """A copy of ``tol`` with the lab's own values, as typed: a readability (``"0.001 g"``, ``"1 mg"`` or a
+    number of grams), a volumetric tolerance (``0.002`` or ``"0.2 %"``), a temperature sd [K].
+
+    Raises AmountError naming the field (``balance_readability``, ``volume_tolerance``) for anything else.
+    """
+    from mediaplan.medium.errors import AmountError
+    from mediaplan.medium.units import convert, normalise, parse_fraction
+
+    changes: dict = {}
+    if balance_readability is not None:
+        fld = "balance_readability"
+        hint = 'e.g. "0.01 g" or "1 mg"'
+        if isinstance(balance_readability, (int, float)) and not isinstance(balance_readability, bool):
+            g = float(balance_readability)
+        else:
+            text = normalise(str(balance_readability)).strip()
+            num = text.rstrip("abcdefghijklmnopqrstuvwxyzµμABCDEFGHIJKLMNOPQRSTUVWXYZ ")
+            unit = text[len(num):].strip() or "g"
+            try:
+                g = float(convert(float(num), unit, "g", field=fld))
+            except ValueError:
+                raise AmountError(f"cannot read balance readability {str(balance_readability)[:40]!r}", field=fld,
+                                  hint=hint) from None
+        if not math.isfinite(g) or g < 0 or g > 10:
+            raise AmountError(f"balance readability {g:g} g must lie between 0 and 10 g", field=fld, hint=hint)
+        changes["balance_readability_g"] = g
+    if volume_tolerance is not None:
+        changes["volume_relative"] = parse_fraction(volume_tolerance, field="volume_tolerance", upper=0.5)
+    if temperature_sd is not None:
+        t = float(temperature_sd)
+        if not math.isfinite(t) or t < 0 or t > 20:
+            raise AmountError(f"temperature uncertainty {t:g} K must lie between 0 and 20 K", field="temperature_sd",
+                              hint="e.g. 1 K")
+        changes["temperature_sd_k"] = t
     return replace(tol, **changes)
 
 
 __all__ = ["Z95", "MODEL_ERROR", "NO_TEMPERATURE_TERMS", "ZSR_MIXING", "Interval", "Contribution", "Tolerances",
-           "Budget", "budget", "model_error"]
+           "Budget", "budget", "model_error", "tolerances_with"]

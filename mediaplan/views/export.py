@@ -17,7 +17,7 @@ import io
 from mediaplan.medium.errors import MediaplanError
 from mediaplan.medium.evaluate import Evaluation
 from mediaplan.tasks.prep import PrepSheet, format_mass, format_volume_ml, gel_note, ph_osmotic_note
-from mediaplan.views.report import component_rows
+from mediaplan.views.report import BUDGET_HEADER, budget_rows, component_rows
 from mediaplan.views.report import fmt as fmt_number
 from mediaplan.views.safe_text import csv_cell, html_text, markdown
 from mediaplan.views.table import markdown_table
@@ -92,9 +92,9 @@ def _prep_sections(sheet: PrepSheet) -> list[tuple[str, list[str]]]:
     return secs
 
 
-def _eval_tables(ev: Evaluation) -> list[Table]:
+def _eval_tables(ev: Evaluation, budget=None) -> list[Table]:
     comp = ("Components", ["component", "amount", "mmol/kg", "mOsm/kg", "share"], component_rows(ev))
-    res = ("Water relations", ["quantity", "value", "unit"], [
+    rows = [
         ["osmolality (non-ideal)", f"{ev.osmolality_mosmol_per_kg:.1f}", "mOsm/kg"],
         ["osmolality (van't Hoff sum)", f"{ev.osmolality_ideal_mosmol_per_kg:.1f}", "mOsm/kg"],
         ["freezing-point osmometer reading", f"{ev.osmometer_mosmol_per_kg:.1f}", "mOsm/kg"],
@@ -104,8 +104,25 @@ def _eval_tables(ev: Evaluation) -> list[Table]:
         ["freezing point", f"-{ev.freezing_point_depression_k:.3f}", "°C"],
         ["ionic strength", f"{ev.ionic_strength_mol_per_kg * 1000:.1f}", "mmol/kg"],
         ["temperature", f"{ev.temperature_c:.1f}", "°C"],
-    ])
-    return [comp, res]
+    ]
+    if budget is None:
+        return [comp, ("Water relations", ["quantity", "value", "unit"], rows)]
+    # the 95 % interval beside each figure the budget covers (the same decimals as the value)
+    fp = budget.freezing_point_depression
+    bounds = {"osmolality (non-ideal)": (budget.osmolality, 1), "freezing-point osmometer reading": (budget.osmometer, 1),
+              "water activity": (budget.water_activity, 5), "osmotic potential": (budget.osmotic_potential, 4)}
+    for r in rows:
+        if r[0] in bounds:
+            iv, d = bounds[r[0]]
+            r += [f"{iv.low:.{d}f}", f"{iv.high:.{d}f}"]
+        elif r[0] == "freezing point":
+            r += [f"-{fp.high:.3f}", f"-{fp.low:.3f}"]
+        else:
+            r += ["", ""]
+    res = ("Water relations", ["quantity", "value", "unit", "95 % low", "95 % high"], rows)
+    src = ("Uncertainty by source (95 % half-width of each alone; combined as independent)",
+           BUDGET_HEADER, budget_rows(budget))
+    return [comp, res, src]
 
 
 def _eval_sections(ev: Evaluation) -> list[tuple[str, list[str]]]:
@@ -269,10 +286,12 @@ def prep_sheet(sheet: PrepSheet, plan, fmt: str = "md", *, provenance: dict | No
 
 
 def evaluation_report(ev: Evaluation, plan, fmt: str = "md", *, provenance: dict | None = None,
-                      date: datetime.date | None = None) -> str:
-    """An evaluation report (components, water relations, warnings) as Markdown, CSV or HTML text."""
+                      date: datetime.date | None = None, budget=None) -> str:
+    """An evaluation report (components, water relations, warnings) as Markdown, CSV or HTML text; with a
+    :class:`~mediaplan.tasks.uncertainty.Budget`, the 95 % interval beside each figure it covers and the
+    sources of the budget."""
     title, facts = _head(plan, "water-relations report", date)
     facts.insert(1, ("medium", f"{fmt_number(ev.volume_l)} L at {ev.temperature_c:.1f} °C" +
                      (f", base {ev.base} × {ev.strength:g}" if ev.base else "")))
     prov = _provenance_table(_provenance(plan, provenance))
-    return _render(fmt, title, facts, _eval_tables(ev), _eval_sections(ev), prov)
+    return _render(fmt, title, facts, _eval_tables(ev, budget), _eval_sections(ev), prov)

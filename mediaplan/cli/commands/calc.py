@@ -28,8 +28,28 @@ def add_arguments(p) -> None:
     loss.add_argument("--water-loss", metavar="FRACTION", help="water lost by the end of the culture (total)")
     loss.add_argument("--water-loss-per-week", metavar="FRACTION", help="water lost per week (of the water first present)")
     p.add_argument("--weeks", metavar="N", help="length of the culture in weeks (default 4)")
+    add_budget_arguments(p)
     add_output_arguments(p, ("text", "md", "csv", "html"), "text; md with -o",
                          format_help="report format (md, csv and html include provenance and a place to sign)")
+
+
+def add_budget_arguments(p) -> None:
+    """Options of the uncertainty budget: the breakdown by source, and the lab's own tolerances."""
+    p.add_argument("--budget", action="store_true",
+                   help="list the sources of the 95 %% intervals (model error per solute class, ZSR mixing, "
+                        "balance, volume, temperature, recalled amounts) with their shares")
+    p.add_argument("--readability", metavar="MASS",
+                   help='readability of the balance, e.g. "0.001 g" (default 0.01 g; common practice)')
+    p.add_argument("--volume-tolerance", metavar="FRACTION",
+                   help='tolerance of making up to volume: 0.002 or "0.2 %%" (default 1 %%; common practice)')
+
+
+def tolerances_from(args):
+    """The lab's tolerances: the defaults with --readability and --volume-tolerance applied."""
+    from mediaplan.tasks.uncertainty import Tolerances, tolerances_with
+
+    return tolerances_with(Tolerances(), balance_readability=getattr(args, "readability", None),
+                           volume_tolerance=getattr(args, "volume_tolerance", None))
 
 
 def projection_from(args, plan, recipe, catalog, ref: float | None, tol: float):
@@ -62,9 +82,13 @@ def run(args) -> int:
     ref = cell_reference(args.cells, cells, recipe.temperature_k)
     ev = evaluate(recipe, catalog, cell_reference_mosmol=ref, isotonic_tolerance=tol)
     proj = projection_from(args, plan, recipe, catalog, ref, tol)
+    from mediaplan.tasks.uncertainty import budget
+
+    bud = budget(recipe, catalog, tolerances=tolerances_from(args), evaluation=ev)
     reads = (getattr(args, "plan", None),)
     if args.json:
         d = ev.to_dict()
+        d.update(bud.to_dict())
         d["notes"] = notes
         d["title"] = plan.title if plan else None
         if proj is not None:
@@ -77,14 +101,14 @@ def run(args) -> int:
 
         fmt = "md" if args.format in (None, "text") else args.format
         text = evaluation_report(ev, plan or Plan(recipe=recipe), fmt,
-                                 provenance=provenance_of(recipe, catalog))
+                                 provenance=provenance_of(recipe, catalog), budget=bud)
         for n in notes:
             note(n)
         write_output(text, args.output, force=args.force, reads=reads)
     else:
         for n in notes:
             note(n)
-        text = evaluation_text(ev, plan.title if plan else None)
+        text = evaluation_text(ev, plan.title if plan else None, budget=bud, breakdown=args.budget)
         if proj is not None:
             from mediaplan.views.projection import projection_text
 
