@@ -33,7 +33,7 @@ from mediaplan.thermo import neutral as _neutral
 from mediaplan.thermo import peg as _peg
 from mediaplan.thermo import water
 from mediaplan.thermo.ions import parse_species
-from mediaplan.thermo.mixing import MixtureInput, MixtureResult, zsr_osmolality
+from mediaplan.thermo.mixing import MixingSpan, MixtureInput, MixtureResult, mixing_span, zsr_osmolality
 from mediaplan.thermo.params import NeutralParams
 from mediaplan.thermo.potential import potential_from_osmolality
 
@@ -236,6 +236,20 @@ class MediumModel:
             peg_c[:, j] = species_m[:, k] * self._peg_grades[j] / 1000.0
         return zsr_osmolality(MixtureInput(self._pitzer, ion_m, self._neutral_params, neutral_m,
                                            self._peg_grades, peg_c, T), start=start)
+
+    def mixing_span(self, state: ModelState, T: float | None = None) -> MixingSpan:
+        """Additive and ZSR osmolality [osmol/kg] of each row of a solved state at T [K] (the model's own by
+        default): the span a figure for PEG with other solutes carries (:class:`mediaplan.thermo.mixing.
+        MixingSpan`; ``.low`` / ``.high`` order them). Without PEG and other solutes together the two
+        differ only by the smaller interactions of the other groups."""
+        T = self.T if T is None else float(T)
+        species_m = np.atleast_2d(state.species_m)
+        peg_c = np.zeros((species_m.shape[0], len(self._peg_idx)))
+        for j, k in enumerate(self._peg_idx):
+            peg_c[:, j] = species_m[:, k] * self._peg_grades[j] / 1000.0
+        ion_m = species_m[:, self._ion_idx] if self._ion_idx else None
+        return mixing_span(MixtureInput(self._pitzer, ion_m, self._neutral_params,
+                                        species_m[:, self._neutral_idx], self._peg_grades, peg_c, T))
 
     # ---- what a solved state means per component ---------------------------------------------
     def shares(self, state: ModelState) -> np.ndarray:

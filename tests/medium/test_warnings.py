@@ -56,7 +56,7 @@ def test_a_plain_medium_at_25_C_raises_none(catalog):
     # PEG 8000 equation to 0.8 g/g water (Michel 1983)
     (Recipe().with_amount("peg8000", "900 g/kg"), checks.peg_validity, "validity", "peg8000"),
     # 25 °C Pitzer parameters more than 10.5 K away from 25 °C
-    (Recipe(temperature="40 degC").with_amount("KNO3", "1 g/L"), checks.pitzer_temperature, "temperature", None),
+    (Recipe(temperature="40 degC").with_amount("NH4NO3", "1 g/L"), checks.pitzer_temperature, "temperature", None),
 ])
 def test_single_checks(catalog, recipe, check, code, component):
     out = check(_context(catalog, recipe))
