@@ -154,6 +154,34 @@ def evaluate(medium: Recipe | Plan, *, cells: str | None = None, tolerance: str 
     return evaluate_recipe(recipe, cat, cell_reference_mosmol=ref, isotonic_tolerance=tol)
 
 
+def budget(medium: Recipe | Plan, *, readability: str | float | None = None,
+           volume_tolerance: str | float | None = None, catalog: Catalog | None = None,
+           evaluation: Evaluation | None = None):
+    """The 95 % uncertainty budget of a medium's figures (what ``mediaplan calc --budget`` shows).
+
+    Parameters
+    ----------
+    medium : a Recipe, or a Plan (its recipe)
+    readability : the balance's readability, ``"0.001 g"`` or grams (default 0.01 g; common practice)
+    volume_tolerance : tolerance of making up to volume, ``0.002`` or ``"0.2 %"`` (default 1 %)
+    catalog : see the module's notes
+    evaluation : ``evaluate(medium)`` when already at hand
+
+    Returns
+    -------
+    :class:`mediaplan.tasks.uncertainty.Budget`: ``osmolality`` [mOsm/kg], ``water_activity``,
+    ``osmotic_potential`` [MPa], ``freezing_point_depression`` [K] and ``osmometer`` [mOsm/kg] as
+    intervals (``value``, ``low``, ``high``), ``contributions`` by source; ``to_dict()``
+    """
+    from mediaplan.tasks.uncertainty import Tolerances, tolerances_with
+    from mediaplan.tasks.uncertainty import budget as recipe_budget
+
+    cat = _catalog(catalog)
+    _, recipe = _plan_and_recipe(medium)
+    tol = tolerances_with(Tolerances(), balance_readability=readability, volume_tolerance=volume_tolerance)
+    return recipe_budget(recipe, cat, tolerances=tol, evaluation=evaluation)
+
+
 def _ratio(ratio: str | Sequence[float] | None) -> list[float] | None:
     if ratio is None or not isinstance(ratio, str):
         return None if ratio is None else [float(r) for r in ratio]
