@@ -458,6 +458,82 @@ def _combine(ev: Evaluation, contribs: list[Contribution], tol: Tolerances, aw: 
         tolerances=tol)
 
 
+# ---- a solve: how much the addition may need to differ -------------------------------------------------
+@dataclass(frozen=True)
+class AdditionRange:
+    """The addition of one osmoticum that a solve found, and the range the budget allows: the additions
+    that reach the target if the medium's true osmolality lies at the low or the high end of its 95 %
+    interval (units in the names; None: that end cannot be reached, see ``note``)."""
+
+    component: str
+    added_g_per_l: float
+    low_g_per_l: float | None
+    high_g_per_l: float | None
+    volume_l: float
+    note: str = ""
+
+    def to_dict(self) -> dict:
+        return finite({"component": self.component, "added_g_per_l": self.added_g_per_l,
+                       "interval_g_per_l": [self.low_g_per_l, self.high_g_per_l],
+                       "interval_g_per_batch": [None if v is None else v * self.volume_l
+                                                for v in (self.low_g_per_l, self.high_g_per_l)],
+                       "note": self.note})
+
+
+def solve_ranges(solution, catalog: Catalog, *, tolerances: Tolerances = Tolerances(),
+                 budget_of_result: Budget | None = None) -> list[AdditionRange]:
+    """The range of each addition of a :class:`~mediaplan.tasks.solve.Solution` that its budget allows.
+
+    If the made medium's osmolality is ``r`` times the model's (r from the low to the high end of the
+    result's 95 % interval), reaching the target y* takes the addition that makes the model say y*/r:
+    the solve is repeated for the two ends (same osmotica, ratio and hold). An end that lies below the
+    start medium needs no addition (0); one beyond what dissolves has no answer (None, with a note).
+    Empty unless the solve added something.
+    """
+    from mediaplan.medium.errors import InfeasibleError
+    from mediaplan.tasks.solve import TargetSpec, solve_target
+
+    if solution.status != "added":
+        return []
+    b = budget_of_result or budget(solution.recipe, catalog, tolerances=tolerances,
+                                   evaluation=solution.evaluation)
+    r_lo, r_hi = b.relative_osmolality
+    y_star = solution.target_osmolality_mosmol_per_kg / 1000.0
+    spec = solution.target
+    ev = solution.evaluation
+    ref = (ev.tonicity or {}).get("reference_mosmol_per_kg")
+    tol = (ev.tonicity or {}).get("tolerance")
+    kw = {} if tol is None else {"isotonic_tolerance": tol}
+
+    def added_at(y: float) -> tuple[dict[str, float] | None, str]:
+        if solution.matched == "effective_osmolality":
+            ref_y = (y - spec.offset_osmol) / (1.0 + spec.offset_fraction) * 1000.0
+            s, cells = spec, ref_y
+        else:
+            s, cells = TargetSpec("osmolality", y, text=f"{y * 1000:.1f} mOsm/kg"), ref
+        try:
+            sol = solve_target(solution.start_recipe, catalog, s, list(solution.osmotica), ratio=solution.ratio,
+                               hold=solution.hold, cell_reference_mosmol=cells, **kw)
+        except InfeasibleError:
+            return None, "beyond what dissolves (or the water left)"
+        if sol.status != "added":
+            return {a.component: 0.0 for a in solution.additions}, "the start medium already reaches it"
+        return {a.component: a.added_g_per_l for a in sol.additions}, ""
+
+    more, note_hi = added_at(y_star / r_lo) if r_lo > 0 else (None, "no lower end")
+    less, note_lo = added_at(y_star / r_hi) if r_hi > 0 else (None, "no upper end")
+    out = []
+    for a in solution.additions:
+        if a.held:
+            continue
+        lo = None if less is None else less.get(a.component)
+        hi = None if more is None else more.get(a.component)
+        notes = [f"less: {note_lo}" if note_lo else "", f"more: {note_hi}" if note_hi else ""]
+        out.append(AdditionRange(a.component, a.added_g_per_l, lo, hi, ev.volume_l,
+                                 "; ".join(n for n in notes if n)))
+    return out
+
+
 def tolerances_with(tol: Tolerances, *, balance_readability: str | float | None = None,
                     volume_tolerance: str | float | None = None,
                     temperature_sd: float | None = None) -> Tolerances:
@@ -499,4 +575,4 @@ def tolerances_with(tol: Tolerances, *, balance_readability: str | float | None 
 
 
 __all__ = ["Z95", "MODEL_ERROR", "NO_TEMPERATURE_TERMS", "ZSR_MIXING", "Interval", "Contribution", "Tolerances",
-           "Budget", "budget", "model_error", "tolerances_with"]
+           "Budget", "budget", "model_error", "tolerances_with", "AdditionRange", "solve_ranges"]
