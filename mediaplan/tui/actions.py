@@ -55,6 +55,8 @@ ACTIONS: tuple[UserAction, ...] = (
                short="Autoclave", rank=41),
     UserAction("notes", "i", "toggle_details", "Details", "Show or hide the details of the notes on the figures",
                "Notes on the figures in plain words, or with the models' details", rank=45),
+    UserAction("compare", "v", "compare_plans", "Compare", "Compare with another plan…",
+               "The open plan beside another plan file: figures, settings and components that differ", rank=47),
     UserAction("prep", "m", "prep_sheet", "Prep", "Preparation sheet for a batch",
                "What to weigh for a batch volume, with or without stock solutions", rank=10),
     UserAction("undo", "u,ctrl+z", "undo", "Undo", "Undo the last change", "Undo the last change", key_display="u",

@@ -85,6 +85,8 @@ class MediaplanApp(App):
         if os.environ.get(EXIT_AFTER_PAINT) == "1":
             self.call_after_refresh(self.exit)
             return
+        if self.session.plan.path is not None:
+            self.call_after_refresh(_remember, self.session.plan.path)
         if self.WARM_START:
             self.call_after_refresh(self.warm_start)
         if self.offer_recovery:
@@ -165,6 +167,7 @@ class MediaplanApp(App):
             self.notify(in_app_words(exc), title="not saved", severity="error", markup=False)
             return
         self.notify(f"saved {saved}", markup=False)
+        _remember(saved)
         self.main.refresh_all()
 
     def _conflict(self, target: Path, exc: ConflictError) -> None:
@@ -182,7 +185,12 @@ class MediaplanApp(App):
 
     def action_open_plan(self) -> None:
         folder = self.session.plan.path.parent if self.session.plan.path else self.start_dir
-        self._if_saved(lambda: self.push_screen(PathScreen("open a plan", folder, must_exist=True), self._open))
+        from mediaplan.files.recent import recent_plans
+
+        current = self.session.plan.path
+        recent = [p for p in recent_plans() if current is None or p != current.resolve()]
+        self._if_saved(lambda: self.push_screen(PathScreen("open a plan", folder, must_exist=True, recent=recent),
+                                                self._open))
 
     def _open(self, path: Path | None) -> None:
         if path is None:
@@ -194,6 +202,7 @@ class MediaplanApp(App):
             return
         self.session.discard_recovery()
         self._replace_session(session)
+        _remember(path)
         self.call_after_refresh(self._offer_recovery)
 
     def action_new_plan(self) -> None:
@@ -232,6 +241,18 @@ class MediaplanApp(App):
 
         self.push_screen(ChoiceScreen("unsaved changes", f"{self.session.label} has changes that are not saved.",
                                       [("save", "Save"), ("discard", "Discard changes"), ("cancel", "Cancel")]), done)
+
+
+def _remember(path: Path | str | None) -> None:
+    """Put a plan on the recent list; a state folder that cannot be written only costs the list."""
+    if not path:
+        return
+    from mediaplan.files.recent import remember_plan
+
+    try:
+        remember_plan(path)
+    except (OSError, MediaplanError):
+        pass
 
 
 def _file_name(title: str) -> str:

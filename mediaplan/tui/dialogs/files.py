@@ -10,7 +10,8 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
 from textual.screen import ModalScreen
-from textual.widgets import Button, DirectoryTree, Input, Static
+from textual.widgets import Button, DirectoryTree, Input, OptionList, Static
+from textual.widgets.option_list import Option
 
 from mediaplan.tui.widgets.fields import FieldMessage
 
@@ -31,19 +32,26 @@ class PathScreen(ModalScreen[Path | None]):
     BINDINGS = [Binding("escape", "cancel", "Cancel", id="path.cancel", tooltip="Close without choosing")]
 
     def __init__(self, title: str, start: Path, suggestion: str = "", *, must_exist: bool,
-                 suffix: str = ".toml") -> None:
+                 suffix: str = ".toml", recent: list[Path] | tuple[Path, ...] = ()) -> None:
         super().__init__()
         self.title_text = title
         self.start = start
         self.suggestion = suggestion
         self.must_exist = must_exist
         self.suffix = suffix
+        #: plans opened or saved last, newest first (listed above the folder tree when opening)
+        self.recent = list(recent)
 
     def compose(self) -> ComposeResult:
         with Vertical(classes="dialog", id="path-dialog") as box:
             box.border_title = self.title_text
             yield Input(self.suggestion, id="path-input", placeholder=f"a file name ending {self.suffix}")
-            yield FieldMessage("Enter confirms · Tab to the folder tree · Esc cancels", id="path-message")
+            where = "the recent plans and the folder tree" if self.recent else "the folder tree"
+            yield FieldMessage(f"Enter confirms · Tab to {where} · Esc cancels", id="path-message")
+            if self.recent:
+                yield Static("recent plans", classes="dialog-title", id="recent-title")
+                yield OptionList(*[Option(_recent_label(p, self.start), id=str(i)) for i, p in enumerate(self.recent)],
+                                 id="recent-list")
             tree = PlanTree(self.start, id="path-tree")
             tree.suffix = self.suffix
             yield tree
@@ -59,6 +67,12 @@ class PathScreen(ModalScreen[Path | None]):
             self._submit(inp.value)
         else:
             inp.focus()
+
+    @on(OptionList.OptionSelected, "#recent-list")
+    def _recent(self, event: OptionList.OptionSelected) -> None:
+        path = self.recent[int(event.option.id or 0)]
+        self.query_one(Input).value = str(path)
+        self._submit(str(path))
 
     @on(DirectoryTree.DirectorySelected)
     def _folder(self, event: DirectoryTree.DirectorySelected) -> None:
@@ -91,6 +105,18 @@ class PathScreen(ModalScreen[Path | None]):
 
     def action_cancel(self) -> None:
         self.dismiss(None)
+
+
+def _recent_label(path: Path, start: Path) -> str:
+    """A recent plan as ``NAME  (folder)``: the folder relative to where the app started when inside it."""
+    try:
+        folder = str(path.parent.relative_to(start)) if path.parent != start else "."
+    except ValueError:
+        folder = str(path.parent)
+        home = str(Path.home())
+        if folder == home or folder.startswith(home + "/"):
+            folder = "~" + folder[len(home):]
+    return f"{path.name}  ({folder})"
 
 
 class ChoiceScreen(ModalScreen[str | None]):

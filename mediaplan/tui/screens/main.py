@@ -306,6 +306,30 @@ class MainScreen(Screen):
 
         self.app.push_screen(ProjectionScreen(self.session), done)
 
+    def action_compare_plans(self) -> None:
+        from mediaplan.files.recent import recent_plans
+        from mediaplan.tui.dialogs.files import PathScreen
+
+        current = self.session.plan.path
+        folder = current.parent if current else self.app.start_dir
+        recent = [p for p in recent_plans() if current is None or p != current.resolve()]
+        self.app.push_screen(PathScreen("compare with a plan", folder, must_exist=True, recent=recent),
+                             self._compare_with)
+
+    def _compare_with(self, path) -> None:
+        from mediaplan.tui.screens.compare import CompareScreen, compare_with
+
+        if path is None:
+            return
+        try:
+            diff, notes = compare_with(self.session, path)
+        except MediaplanError as exc:
+            self.app.notify(in_app_words(exc), title="not compared", severity="error", markup=False, timeout=10)
+            return
+        for n in notes:
+            self.app.notify(n, markup=False, timeout=8)
+        self.app.push_screen(CompareScreen(diff, path.name))
+
     def action_plasmolysis(self) -> None:
         from mediaplan.tui.screens.plasmolysis import SeriesScreen
 

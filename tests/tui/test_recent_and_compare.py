@@ -1,0 +1,104 @@
+"""Recent plans in the open dialog, and two plans side by side, driven by keyboard at both sizes."""
+
+from __future__ import annotations
+
+import pytest
+
+from mediaplan.files import planfile
+from mediaplan.files.catalog import get_catalog
+from mediaplan.files.planfile import Plan
+from mediaplan.files.recent import recent_plans
+from mediaplan.medium.evaluate import evaluate
+from mediaplan.medium.recipe import Recipe
+from mediaplan.tui.dialogs.files import PathScreen
+from mediaplan.tui.screens.compare import CompareScreen
+from mediaplan.tui.screens.main import MainScreen
+from mediaplan.tui.session import Session
+from tests.tui.tui_helpers import SIZE_IDS, SIZES, app_for, run_async, screen_lines
+
+
+@pytest.fixture(autouse=True)
+def _isolated(tmp_path, monkeypatch):
+    monkeypatch.setenv("MEDIAPLAN_CONFIG_DIR", str(tmp_path / "config"))
+    monkeypatch.setenv("MEDIAPLAN_STATE_DIR", str(tmp_path / "state"))
+    monkeypatch.chdir(tmp_path)
+
+
+def _write(path, recipe, title):
+    planfile.write(Plan(recipe=recipe, title=title), path)
+    return path
+
+
+@pytest.mark.parametrize("size", SIZES, ids=SIZE_IDS)
+@run_async
+async def test_a_plan_saved_once_is_offered_first_when_opening(tmp_path, size):
+    cat = get_catalog()
+    first = _write(tmp_path / "wash.toml", Recipe().with_amount("mannitol", "0.5 mol/L"), "Wash (invented)")
+    second = _write(tmp_path / "sub" / "other.toml" if (tmp_path / "sub").mkdir() is None else None,
+                    Recipe().with_amount("sucrose", "30 g/L"), "Other (invented)")
+    app = app_for(Session.open(first, cat))
+    async with app.run_test(size=size) as pilot:
+        await pilot.pause()
+        assert recent_plans() == [first.resolve()]  # opening the app on a plan records it
+        app._open(second)
+        await pilot.pause()
+        assert recent_plans()[0] == second.resolve()
+        await pilot.press("o")
+        await pilot.pause()
+        assert isinstance(app.screen, PathScreen)
+        text = "\n".join(screen_lines(app))
+        assert "recent plans" in text and "wash.toml" in text
+        assert "other.toml  (" not in text  # the plan that is open is not offered again
+        await pilot.press("tab")  # from the name field to the recent list
+        await pilot.press("enter")
+        await pilot.pause()
+        assert isinstance(app.screen, MainScreen)
+        assert app.session.plan.path == first
+        assert app.session.recipe.amount_of("mannitol").text == "0.5 mol/L"
+
+
+@pytest.mark.parametrize("size", SIZES, ids=SIZE_IDS)
+@run_async
+async def test_compare_shows_both_plans_figures_and_what_differs(tmp_path, size):
+    cat = get_catalog()
+    mine = Recipe(base="ms1962").with_amount("sucrose", "30 g/L")
+    other_recipe = Recipe(base="ms1962").with_amount("sucrose", "20 g/L").with_amount("mannitol", "0.1 mol/kg")
+    other = _write(tmp_path / "other.toml", other_recipe, "Other medium (invented)")
+    app = app_for(Session(Plan(recipe=mine, title="Mine (invented)"), cat))
+    async with app.run_test(size=size) as pilot:
+        await pilot.press("v")
+        await pilot.pause()
+        assert isinstance(app.screen, PathScreen)
+        for ch in str(other):
+            await pilot.press(ch if ch != "/" else "slash")
+        await pilot.press("enter")
+        await pilot.pause()
+        assert isinstance(app.screen, CompareScreen)
+        lines = screen_lines(app)
+        text = "\n".join(lines)
+        ea, eb = evaluate(mine, cat), evaluate(other_recipe, cat)
+        # both plans' figures as evaluate gives them, and the change between them
+        assert f"{ea.osmolality_mosmol_per_kg:.1f} mOsm/kg" in text
+        assert f"{eb.osmolality_mosmol_per_kg:.1f} mOsm/kg" in text
+        assert f"+{eb.osmolality_mosmol_per_kg - ea.osmolality_mosmol_per_kg:.1f}" in text
+        assert f"−{abs(ea.osmotic_potential_mpa):.4f} MPa" in text
+        # what differs: sucrose changed, mannitol only in the other plan
+        assert any("~ sucrose" in ln and "30 g/L" in ln and "20 g/L" in ln for ln in lines)
+        assert any("+ " in ln and "annitol" in ln and "not in it" in ln for ln in lines)
+        assert all(len(ln) <= size[0] for ln in lines)
+        await pilot.press("escape")
+        await pilot.pause()
+        assert isinstance(app.screen, MainScreen)
+
+
+@run_async
+async def test_compare_with_a_broken_plan_says_so_and_stays(tmp_path):
+    bad = tmp_path / "bad.toml"
+    bad.write_text("[medium\n")
+    app = app_for(Session(Plan(recipe=Recipe().with_amount("sucrose", "30 g/L")), get_catalog()))
+    async with app.run_test(size=SIZES[0]) as pilot:
+        app.get_screen("main")._compare_with(bad)
+        await pilot.pause()
+        assert isinstance(app.screen, MainScreen)
+        assert any("bad.toml" in str(n.message) for n in app._notifications)
+    assert bad.read_text() == "[medium\n"
