@@ -60,6 +60,38 @@ def recipe_from(args, catalog, *, notes: list[str] | None = None):
     return plan, recipe
 
 
+def located_in_plan(exc: MediaplanError, plan, catalog) -> MediaplanError:
+    """An error about the recipe (``medium.components.ID``, ``medium.strength``) raised after the plan was
+    read, given the plan's file and the line of that component (as the plan spells it); returns ``exc``."""
+    path = getattr(plan, "path", None)
+    field = exc.field or ""
+    if path is None or exc.file or not field.startswith("medium."):
+        return exc
+    import tomllib
+
+    from mediaplan.files import reading
+    from mediaplan.files.plan_tables import line_of
+
+    try:
+        text = reading.decode(reading.read_bytes(path, "plan"), path, "plan")
+        comps = tomllib.loads(text).get("medium", {}).get("components", {})
+    except (MediaplanError, OSError, tomllib.TOMLDecodeError):
+        return exc
+    line = None
+    if field.startswith("medium.components."):
+        cid = field.removeprefix("medium.components.")
+        for key in comps if isinstance(comps, dict) else ():
+            try:
+                if catalog.resolve(key).component.id == cid:
+                    line = line_of(text, key, "medium.components")
+                    break
+            except MediaplanError:
+                continue
+    else:
+        line = line_of(text, field.removeprefix("medium."), "medium")
+    return exc.located(file=str(path), line=line)
+
+
 def print_json(obj, path=None, *, force: bool = False, reads: tuple = ()) -> None:
     """Print ``obj`` (a ``to_dict()`` result) as indented JSON on standard output, or write it to ``path``
     (``-o FILE``; see :func:`mediaplan.files.output.write_output` for ``force`` and ``reads``)."""
@@ -112,6 +144,8 @@ FLAG_OF_FIELD = {
     "series.stock": "--stock", "batch_volume": "--volume", "stock_volume": "--stock-volume",
     "stock_factor": "--factor", "form": "--form", "force": "--force",
     "balance_readability": "--readability", "volume_tolerance": "--volume-tolerance",
+    "instrument": "--instrument", "chamber_temperature": "--chamber", "repeatability": "--repeatability",
+    "reading.date": "--date", "reading.record": "--record", "standards": "NOMINAL=DISPLAYED",
 }
 
 

@@ -27,6 +27,8 @@ COMMANDS = {
     "catalog": "search, show or check the component catalog",
     "open": "open a plan in the terminal app",
     "locate": "print where mediaplan keeps the user's files",
+    "reading": "check an osmometer reading of a batch against its plan (exit 1 if it disagrees)",
+    "osmometer": "calibrate the lab's osmometers; report the readings recorded in plans",
 }
 
 

@@ -2,7 +2,8 @@
 
 A plan saved over the file it was opened from (``check --stamp``, ``fit --write-cells``, a series or a
 solve written back, a save in the terminal app) is not written afresh: its text is parsed with a
-comment-preserving TOML library (tomlkit) and only the values that changed are rewritten. Comments, blank
+comment-preserving TOML library (tomlkit) and only the values that changed are rewritten. Entries appended
+to an array of tables (``[[readings]]``) are added after the last one, the others left as written. Comments, blank
 lines, odd spacing, key order, keys this version does not read, the spelling of component keys
 (``KNO3 =`` stays ``KNO3 =``) and the format version line (``version = "1.4"``) stay byte for byte.
 
@@ -137,6 +138,13 @@ def _merge(container, before: dict, after: dict, path: tuple, spelled: dict[str,
               and len(here) == len(new)):
             for i, (o, n) in enumerate(zip(old, new, strict=True)):
                 _merge(here[i], o, n, (*path, k, i), spelled)
+        elif (_tables(new) and _tables(old) and len(new) > len(old) and isinstance(here, AoT)
+              and len(here) == len(old)):
+            # entries appended (a reading recorded): the ones there are edited in place, the new ones added
+            for i, (o, n) in enumerate(zip(old, new[:len(old)], strict=True)):
+                _merge(here[i], o, n, (*path, k, i), spelled)
+            for n in new[len(old):]:
+                here.append(_item(n))
         else:
             container[dk] = _item(new)
     for k in before:

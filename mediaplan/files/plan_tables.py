@@ -6,6 +6,7 @@
 ``[projection]``   :class:`mediaplan.tasks.projection.ProjectionRecord`
 ``[series]``       :class:`mediaplan.tasks.plasmolysis.counts.SeriesRecord` (its levels: ``LevelRecord``)
 ``[provenance]``   :class:`Provenance` (defined here: it records catalog entries, a files matter)
+``[[readings]]``   :class:`ReadingRecord`, one per osmometer reading of a batch (defined here)
 =================  ===========================================================================
 
 Reading checks the shape of each table: text where text belongs, numbers where numbers belong, arrays
@@ -40,6 +41,8 @@ from mediaplan.tasks.records import TableView
 
 #: the optional tables, in the order a plan file holds them
 TABLES = ("target", "cells", "projection", "series", "provenance")
+#: the plan's array of tables of recorded osmometer readings (after the optional tables)
+READINGS = "readings"
 
 
 # ---- records defined here ------------------------------------------------------------------------
@@ -87,6 +90,27 @@ class Provenance(TableView):
     def embedded_entries(self, kind: str) -> Mapping[str, Any]:
         """The embedded copies of one kind (``"components"`` or ``"media"``): entry id -> entry."""
         return (self.embedded or {}).get(kind) or {}
+
+
+@dataclass(frozen=True, eq=False)
+class ReadingRecord(TableView):
+    """One ``[[readings]]`` entry: an osmometer reading of a batch made from the plan (None = not written).
+
+    value : what the instrument displayed, as written (``"182 mOsm/kg"``)
+    instrument : ``"freezing-point"`` or ``"vapour-pressure"``
+    date : the day of the reading (a TOML date, or text)
+    operator : who measured; note : free text (the batch, the vessel...)
+    chamber_temperature : the chamber temperature of a vapour-pressure osmometer (``"25 degC"``)
+    extra : keys this version does not know, as (key, value) pairs, kept as they were
+    """
+
+    value: str | None = None
+    instrument: str | None = None
+    date: str | datetime.date | None = None
+    operator: str | None = None
+    note: str | None = None
+    chamber_temperature: str | None = None
+    extra: tuple[tuple[str, Any], ...] = ()
 
 
 @dataclass(frozen=True)
@@ -408,10 +432,44 @@ _READ: dict[str, tuple[type, dict[str, Callable], type[MediaplanError]]] = {
 }
 
 
+_READING = {"value": _text, "instrument": _text, "date": _stamp, "operator": _text, "note": _text,
+            "chamber_temperature": _text}
+_READING_KEYS = tuple(_READING)
+
+
+def read_readings(raw: Any, *, text: str = "", file: str | None = None, kept: list[str] | None = None,
+                  strict: bool = False) -> tuple[tuple[ReadingRecord, ...], Layout]:
+    """The ``[[readings]]`` records of a plan (each reading's keys checked like any table's) and their
+    layouts (``Layout.items``, one per reading). What a value means (its unit, the instrument's name) is
+    checked where it is used."""
+    if raw is None:
+        return (), Layout()
+    if not isinstance(raw, list) or not all(isinstance(r, dict) for r in raw):
+        raise PlanFileError(f"{READINGS} must be an array of tables, one [[{READINGS}]] per reading", file=file,
+                            line=line_of(text, None, READINGS) or locate(text, (READINGS,)), field=READINGS,
+                            hint=f'[[{READINGS}]] then value = "182 mOsm/kg", instrument = "freezing-point"')
+    records, layouts = [], []
+    for i, r in enumerate(raw, start=1):
+        rec, layout = _Table(READINGS, r, text, file, nth=i, field_name=f"{READINGS}[{i}]",
+                             kept=None if strict else kept if kept is not None else []).read(ReadingRecord, _READING)
+        records.append(rec)
+        layouts.append(layout)
+    return tuple(records), Layout(items=tuple(layouts))
+
+
+def readings_table(readings: Iterable[ReadingRecord], layout: Layout | None = None) -> list[dict[str, Any]]:
+    """The ``[[readings]]`` array of tables, each reading laid out as it was read (new ones in key order)."""
+    items = layout.items if layout is not None else ()
+    return [_arranged(_ordered(r, _READING_KEYS), items[i] if i < len(items) else None)
+            for i, r in enumerate(readings)]
+
+
 def known_keys(name: str) -> tuple[str, ...]:
     """The keys an optional table knows in this format version (``"series.levels"`` for a level)."""
     if name == "series.levels":
         return tuple(_LEVEL)
+    if name == READINGS:
+        return _READING_KEYS
     return tuple(_READ[name][1])
 
 
@@ -443,6 +501,9 @@ def read_tables(data: Mapping[str, Any], *, text: str = "", file: str | None = N
         if name in data:
             records[name], layouts[name] = read_table(name, data[name], text=text, file=file, kept=kept,
                                                       strict=strict)
+    if READINGS in data:
+        records[READINGS], layouts[READINGS] = read_readings(data[READINGS], text=text, file=file, kept=kept,
+                                                             strict=strict)
     return records, layouts
 
 
@@ -530,6 +591,9 @@ def write_tables(plan) -> dict[str, dict[str, Any]]:
             table = write_table(name, record, plan.layout.get(name))
             if table:
                 out[name] = table
+    readings = getattr(plan, READINGS, ())
+    if readings:
+        out[READINGS] = readings_table(readings, plan.layout.get(READINGS))
     return out
 
 
@@ -575,7 +639,7 @@ def cell_reference_of(fit, date: str) -> CellReference:
         ci95=f"{ci[0]:.4g} to {ci[1]:.4g} MPa ({fit.ci_method})" if ci is not None else None)
 
 
-__all__ = ["TABLES", "Layout", "Provenance", "TargetRecord", "cell_reference_of", "cells_table", "dotted_key",
+__all__ = ["READINGS", "TABLES", "Layout", "Provenance", "ReadingRecord", "TargetRecord", "cell_reference_of", "cells_table", "dotted_key",
            "dotted_key_error", "known_keys", "level_table", "line_of", "locate", "nearest", "projection_table",
-           "provenance_table", "read_table", "read_tables", "series_record_of", "series_table", "target_record_of",
+           "provenance_table", "read_readings", "read_table", "read_tables", "readings_table", "series_record_of", "series_table", "target_record_of",
            "target_table", "unknown_name", "write_table", "write_tables"]

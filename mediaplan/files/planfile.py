@@ -64,7 +64,8 @@ from mediaplan.tasks.projection import ProjectionRecord
 
 FORMAT = "mediaplan-plan"
 VERSION = "1.0"
-_KNOWN_TOP = {"mediaplan", "plan", "medium", "target", "cells", "projection", "series", "provenance"}
+_KNOWN_TOP = {"mediaplan", "plan", "medium", "target", "cells", "projection", "series", "provenance",
+              "readings"}
 #: the keys of the plan's own tables in the format versions this release writes (1.0; the optional tables'
 #: keys are in :mod:`mediaplan.files.plan_tables`)
 SCHEMA: dict[str, tuple[str, ...]] = {"mediaplan": ("format", "version"), "plan": ("title", "author", "notes"),
@@ -76,6 +77,7 @@ class Plan:
     """A recipe plus what a lab records around it.
 
     target, cells, projection, series, provenance : the optional tables as typed records (None = absent)
+    readings : the osmometer readings recorded for batches of the plan (``[[readings]]``), oldest first
     extra : unknown tables of a newer minor version, kept as they were
     path : the file the plan was opened from or last saved to
     disk_digest : hash of the file's bytes when opened or last saved
@@ -95,6 +97,7 @@ class Plan:
     projection: ProjectionRecord | None = None
     series: SeriesRecord | None = None
     provenance: Provenance | None = None
+    readings: tuple[plan_tables.ReadingRecord, ...] = ()
     extra: dict = field(default_factory=dict)
     path: Path | None = None
     disk_digest: str | None = None
