@@ -534,6 +534,68 @@ def solve_ranges(solution, catalog: Catalog, *, tolerances: Tolerances = Toleran
     return out
 
 
+# ---- a plasmolysis series: each level's potential ----------------------------------------------------
+def _level_recipe(background: Recipe, osmoticum_id: str, grams_per_litre: float, catalog: Catalog) -> Recipe | None:
+    """The background with a level's osmoticum [g/L of solution] added; None when the background already
+    holds that substance in a form the sum cannot be written in (the level is then not covered)."""
+    from mediaplan.medium.units import Amount
+
+    comp = catalog.resolve(osmoticum_id, field="osmoticum").component
+    for ln in background.lines(catalog):
+        same = ln.component.id == comp.id or (comp.substance and ln.component.substance == comp.substance)
+        if same:
+            if ln.component.id != comp.id or ln.amount.kind != "mass_conc":
+                return None
+            total = ln.amount.value + grams_per_litre
+            return background.with_amount(comp.id, Amount(total, "mass_conc", f"{total:.7g} g/L"))
+    return background.with_amount(comp.id, Amount(grams_per_litre, "mass_conc", f"{grams_per_litre:.7g} g/L"))
+
+
+def level_budgets(design, background: Recipe, catalog: Catalog, *,
+                  tolerances: Tolerances = Tolerances()) -> list[Budget | None]:
+    """The budget of each level of a :class:`~mediaplan.tasks.plasmolysis.design.SeriesDesign` (the
+    background with the level's osmoticum, weighed for the level's volume); None for a level that cannot
+    be written as one recipe (the background already holds the osmoticum in another form)."""
+    out: list[Budget | None] = []
+    for lv in design.levels:
+        rec = _level_recipe(background, design.osmoticum, lv.grams_per_litre, catalog)
+        out.append(None if rec is None else budget(rec, catalog, tolerances=tolerances))
+    return out
+
+
+def level_potential_intervals(design, budgets: list[Budget | None]) -> list[Interval | None]:
+    """Each level's water potential [MPa] with its 95 % interval: the stated level, widened by its
+    budget's relative half-widths."""
+    out: list[Interval | None] = []
+    for lv, b in zip(design.levels, budgets, strict=True):
+        if b is None or b.osmotic_potential.value == 0:
+            out.append(None)
+            continue
+        iv, v = b.osmotic_potential, lv.water_potential_mpa
+        k_lo, k_hi = iv.low / iv.value, iv.high / iv.value  # both positive: potentials keep their sign
+        out.append(Interval(v, v * k_lo, v * k_hi))
+    return out
+
+
+def level_uncertainty(background: Recipe, osmoticum: str, catalog: Catalog, *,
+                      tolerances: Tolerances = Tolerances()):
+    """A function psi [MPa] -> standard uncertainty [MPa] of the water potential of a level of this
+    series (the background with the osmoticum) made at psi: the level's own budget, one level designed
+    at psi. For :func:`~mediaplan.tasks.plasmolysis.fit.fit_counts` (the levels' error carried into the
+    50 % point)."""
+    from mediaplan.tasks.plasmolysis.design import design_series
+
+    def sd_at(psi_mpa: float) -> float:
+        d = design_series(background, osmoticum, [psi_mpa * 1e6], catalog=catalog)
+        b = level_budgets(d, background, catalog, tolerances=tolerances)[0]
+        if b is None:
+            return math.nan
+        iv = b.osmotic_potential
+        return abs(iv.half_width() / iv.value * psi_mpa) / Z95 if iv.value else math.nan
+
+    return sd_at
+
+
 def tolerances_with(tol: Tolerances, *, balance_readability: str | float | None = None,
                     volume_tolerance: str | float | None = None,
                     temperature_sd: float | None = None) -> Tolerances:
@@ -575,4 +637,5 @@ def tolerances_with(tol: Tolerances, *, balance_readability: str | float | None 
 
 
 __all__ = ["Z95", "MODEL_ERROR", "NO_TEMPERATURE_TERMS", "ZSR_MIXING", "Interval", "Contribution", "Tolerances",
-           "Budget", "budget", "model_error", "tolerances_with", "AdditionRange", "solve_ranges"]
+           "Budget", "budget", "model_error", "tolerances_with", "AdditionRange", "solve_ranges",
+           "level_budgets", "level_potential_intervals", "level_uncertainty"]

@@ -9,22 +9,28 @@ from mediaplan.views.safe_text import csv_cell, terminal
 from mediaplan.views.table import RIGHT, Column, text_table
 
 
-def design_text(design) -> str:
+def design_text(design, intervals=None) -> str:
     """A :class:`~mediaplan.tasks.plasmolysis.SeriesDesign` as plain text: the levels (water potential
     [MPa], osmolality [mOsm/kg], molality [mol/kg], concentration [g/L], grams per level, and stock and
-    diluent volumes [mL] with a stock), then how to make them."""
+    diluent volumes [mL] with a stock), then how to make them. ``intervals``: each level's water potential
+    as a 95 % :class:`~mediaplan.tasks.uncertainty.Interval` (None where not known), shown as ``± MPa``."""
     d = design
     vol = f"{d.volume_ml:g} mL"
     lines = [f"Plasmolysis series — {d.osmoticum_name} in {d.background}, {len(d.levels)} levels of {vol} "
              f"at {d.temperature_c:g} °C",
              f"  {d.spacing}; background alone: {d.background_potential_mpa + 0.0:.4g} MPa", ""]
     head = ["level", "ψ MPa", "mOsm/kg", "mol/kg", "g/L", f"weigh g / {vol}"]
+    if intervals is not None:
+        head.insert(2, "± MPa")
     if d.stock is not None:
         head += ["stock mL", "diluent mL"]
     rows = []
     for lv in d.levels:
         r = [str(lv.level), f"{lv.water_potential_mpa:.4g}", f"{lv.osmolality_mosmol_per_kg:.1f}",
              f"{lv.molality_mol_per_kg:.4f}", f"{lv.grams_per_litre:.3f}", f"{lv.grams:.4f}"]
+        if intervals is not None:
+            iv = intervals[lv.level - 1]
+            r.insert(2, "" if iv is None else f"{iv.half_width():.4f}")
         if d.stock is not None:
             r += [f"{lv.stock_ml:.2f}", f"{lv.diluent_ml:.2f}"]
         rows.append(r)
@@ -39,6 +45,9 @@ def design_text(design) -> str:
                      "background in all.")
         lines.append("  Volumes come from the water content of stock and diluent (not C1V1 = C2V2); the mixture "
                      f"makes {vol} after volume change on mixing.")
+    if intervals is not None:
+        lines.append("± MPa: 95 % interval of each level as made by weight (model, weighing for the level's volume, "
+                     "making up to volume, temperature)")
     for w in d.warnings:
         lines.append(f"warning: {w}")
     return terminal("\n".join(lines))
