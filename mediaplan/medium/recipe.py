@@ -18,6 +18,15 @@ from mediaplan.medium.units import Amount, parse_amount, parse_temperature, pars
 
 Origin = Literal["base", "user", "override"]
 
+#: a substance past this multiple of its 25 °C solubility is refused, not evaluated: solubilities rise with
+#: temperature, but no medium or stock made at room temperature holds twice what saturates it at 25 °C
+#: (KNO3 dissolves 2.2x as much at 50 °C; common practice), and every activity model here is far past the
+#: molalities it was fitted to by then, so the amount is a slip of number or unit
+PLAUSIBLE_SATURATION_FACTOR = 2.0
+#: the largest molality [mol/kg water] evaluated for a substance without a solubility in the catalog: as
+#: model.MAX_MOLALITY, the top of every search (nothing in the catalog dissolves that far; common practice)
+PLAUSIBLE_MAX_MOLALITY = 50.0
+
 
 @dataclass(frozen=True)
 class Line:
@@ -40,6 +49,8 @@ class Recipe:
     base : id of a published medium in the catalog, or None
     strength : factor on the base formulation's amounts (0.5 for half strength)
     amounts : component id -> Amount, in the user's order (overrides and additions)
+    storage_temperature : text of the temperature the medium (or its stocks) is kept at (e.g. ``4 degC``),
+        or None when the plan states none; storage_temperature_k its value [K] (None when not stated)
     """
 
     volume: str = "1 L"
@@ -48,6 +59,7 @@ class Recipe:
     strength: float = 1.0
     amounts: tuple[tuple[str, Amount], ...] = ()
     notes_for: dict[str, str] = field(default_factory=dict, compare=False)
+    storage_temperature: str | None = None
 
     def __post_init__(self) -> None:
         if isinstance(self.strength, bool) or not isinstance(self.strength, (int, float)) or not math.isfinite(
@@ -59,6 +71,8 @@ class Recipe:
                               hint="check the number")
         parse_volume(self.volume, field="volume")
         parse_temperature(self.temperature, field="temperature")
+        if self.storage_temperature is not None:
+            parse_temperature(self.storage_temperature, field="storage_temperature")
 
     @property
     def volume_m3(self) -> float:
@@ -67,6 +81,11 @@ class Recipe:
     @property
     def temperature_k(self) -> float:
         return parse_temperature(self.temperature)
+
+    @property
+    def storage_temperature_k(self) -> float | None:
+        """[K] the temperature the plan says the medium is kept at, or None when it states none."""
+        return None if self.storage_temperature is None else parse_temperature(self.storage_temperature)
 
     # ---- edits return new recipes (the domain object is immutable; views re-render) ---------
     def with_amount(self, component_id: str, amount: Amount | str) -> Recipe:
@@ -93,6 +112,19 @@ class Recipe:
                 return a
         return None
 
+    def check_plausible(self, catalog: Catalog) -> None:
+        """Refuse amounts no medium can hold (:func:`check_plausible`), for a task that weighs the recipe
+        without evaluating it (the preparation sheet); :func:`~mediaplan.medium.evaluate.evaluate` checks
+        on its own."""
+        from mediaplan.medium.model import compiled
+
+        lines = self.lines(catalog)
+        if not lines:
+            return
+        model = compiled(catalog, [ln.component for ln in lines], self.temperature_k)
+        n, b = model.amounts_to_arrays([ln.amount for ln in lines])
+        check_plausible(lines, model.molality(n, b))
+
     # ---- the effective component list ------------------------------------------------------
     def lines(self, catalog: Catalog) -> list[Line]:
         """Base formulation × strength, then user amounts (override by component id; 0 removes)."""
@@ -115,3 +147,51 @@ class Recipe:
                     del out[k]
                 out[comp.id] = Line(comp, amt, "override" if same else "user")
         return [ln for ln in out.values() if not ln.amount.is_zero]
+
+
+def check_plausible(lines: list[Line], molality) -> None:
+    """Refuse amounts no medium can hold, before any model is asked about them.
+
+    Parameters
+    ----------
+    lines : the effective recipe (:meth:`Recipe.lines`)
+    molality : molality of each line's component [mol/kg water], same order
+
+    Raises
+    ------
+    AmountError naming the line (``medium.components.ID``, or ``medium.strength`` for a base line) and the
+    limit, when a substance (all its forms together) is past :data:`PLAUSIBLE_SATURATION_FACTOR` times its
+    25 °C solubility (:attr:`Component.saturation_molality`), or past :data:`PLAUSIBLE_MAX_MOLALITY` without
+    a solubility, or when a molality is not a finite number.
+    """
+    total: dict[str, float] = {}
+    first: dict[str, Line] = {}
+    for ln, m in zip(lines, molality, strict=True):
+        m = float(m)
+        key = ln.component.substance or ln.component.id
+        if not math.isfinite(m) or m < 0:
+            raise AmountError(f"{ln.component.name} at {ln.amount.text} gives no finite molality",
+                              field=_field_of(ln), hint="check the amount and its unit")
+        total[key] = total.get(key, 0.0) + m
+        if key not in first or first[key].origin == "base":
+            first[key] = ln
+    for key, m in total.items():
+        ln = first[key]
+        c = ln.component
+        m_sat = c.saturation_molality
+        if m_sat is not None:
+            limit = PLAUSIBLE_SATURATION_FACTOR * m_sat
+            why = (f"twice its solubility at 25 °C ({c.solubility:g} g/100 g water, {m_sat:.3g} mol/kg); "
+                   "no medium holds that much")
+        else:
+            limit = PLAUSIBLE_MAX_MOLALITY
+            why = "the most any medium or stock holds"
+        if m > limit:
+            name = c.name if not c.formula or c.formula == c.name else f"{c.name} ({c.formula})"
+            what = ln.amount.text if ln.amount.kind == "molal" else f"{ln.amount.text} ({m:.3g} mol/kg)"
+            raise AmountError(f"{name} at {what} is past {limit:.3g} mol/kg, {why}",
+                              field=_field_of(ln), hint="check the number and its unit")
+
+
+def _field_of(ln: Line) -> str:
+    return "medium.strength" if ln.origin == "base" else f"medium.components.{ln.component.id}"

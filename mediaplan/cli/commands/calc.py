@@ -6,10 +6,12 @@ from mediaplan.cli.common import (
     add_output_arguments,
     add_recipe_arguments,
     catalog_from,
+    located_in_plan,
     note,
     print_json,
     recipe_from,
 )
+from mediaplan.medium.errors import MediaplanError
 
 
 def add_arguments(p) -> None:
@@ -80,7 +82,10 @@ def run(args) -> int:
 
     tol = cell_tolerance(args.tolerance, cells)
     ref = cell_reference(args.cells, cells, recipe.temperature_k)
-    ev = evaluate(recipe, catalog, cell_reference_mosmol=ref, isotonic_tolerance=tol)
+    try:
+        ev = evaluate(recipe, catalog, cell_reference_mosmol=ref, isotonic_tolerance=tol)
+    except MediaplanError as exc:
+        raise located_in_plan(exc, plan, catalog) from None
     proj = projection_from(args, plan, recipe, catalog, ref, tol)
     from mediaplan.tasks.uncertainty import budget
 

@@ -6,10 +6,12 @@ from mediaplan.cli.common import (
     add_output_arguments,
     add_recipe_arguments,
     catalog_from,
+    located_in_plan,
     note,
     print_json,
     recipe_from,
 )
+from mediaplan.medium.errors import MediaplanError
 
 
 def add_arguments(p) -> None:
@@ -67,9 +69,13 @@ def run(args) -> int:
 
     plan, recipe, catalog, notes = load(args)
     shown = len(shadow_notes(catalog))
-    sheet = build_sheet(recipe, catalog, volume=args.volume, stocks=args.stocks,
-                        forms=parse_pairs(args.form, "--form"), factors=parse_factors(args.factor),
-                        stock_volume=args.stock_volume, title=plan.title if plan else None, ph=args.ph)
+    try:
+        recipe.check_plausible(catalog)
+        sheet = build_sheet(recipe, catalog, volume=args.volume, stocks=args.stocks,
+                            forms=parse_pairs(args.form, "--form"), factors=parse_factors(args.factor),
+                            stock_volume=args.stock_volume, title=plan.title if plan else None, ph=args.ph)
+    except MediaplanError as exc:
+        raise located_in_plan(exc, plan, catalog) from None
     sheet.provenance = provenance_of(recipe, catalog)
     sheet.notes = notes + sheet.notes
     for n in notes[shown:]:

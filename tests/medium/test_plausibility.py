@@ -1,0 +1,79 @@
+"""Amounts no medium can hold are refused before any model is asked, with the limit in the message."""
+
+from __future__ import annotations
+
+import warnings
+
+import pytest
+
+from mediaplan.cli.main import main
+from mediaplan.medium.errors import AmountError
+from mediaplan.medium.evaluate import evaluate
+from mediaplan.medium.recipe import (
+    PLAUSIBLE_MAX_MOLALITY,
+    PLAUSIBLE_SATURATION_FACTOR,
+    Recipe,
+    check_plausible,
+)
+
+
+@pytest.mark.parametrize("cid, amount", [
+    ("potassium_nitrate", "150 mol/kg"),  # gave a freezing point of −10361 °C with exit 0 (issue 17)
+    ("calcium_chloride_anhydrous", "190 mol/kg"),  # overflowed in the Pitzer terms (issue 17)
+    ("calcium_chloride_anhydrous", "2000 g/L"),  # a per-litre amount: its molality is past the limit too
+    ("sucrose", "1500 g/L"),
+    ("mannitol", "3 mol/kg"),
+])
+def test_past_twice_the_solubility_is_refused_with_the_limit(catalog, cid, amount):
+    comp = catalog.components[cid]
+    limit = PLAUSIBLE_SATURATION_FACTOR * comp.saturation_molality
+    with pytest.raises(AmountError) as info:
+        evaluate(Recipe().with_amount(cid, amount), catalog)
+    err = info.value
+    assert err.field == f"medium.components.{cid}"
+    assert f"{limit:.3g} mol/kg" in err.message and "solubility at 25 °C" in err.message
+
+
+def test_forms_of_one_substance_count_together(catalog):
+    # each form alone below the limit, together above it
+    half = PLAUSIBLE_SATURATION_FACTOR * catalog.components["calcium_chloride_anhydrous"].saturation_molality * 0.6
+    r = Recipe().with_amount("calcium_chloride_anhydrous", f"{half:.4g} mol/kg")
+    evaluate(r, catalog)
+    with pytest.raises(AmountError, match="past"):
+        evaluate(r.with_amount("calcium_chloride_dihydrate", f"{half:.4g} mol/kg"), catalog)
+
+
+def test_without_a_solubility_the_molality_limit_holds(catalog):
+    comp = catalog.components["glycerol"]
+    assert comp.saturation_molality is None  # glycerol mixes with water in every proportion (common practice)
+    with pytest.raises(AmountError, match=f"past {PLAUSIBLE_MAX_MOLALITY:g} mol/kg"):
+        evaluate(Recipe().with_amount("glycerol", "60 mol/kg"), catalog)
+
+
+def test_a_base_line_past_the_limit_names_the_strength(catalog):
+    r = Recipe(base="ms1962", strength=2)
+    lines = r.lines(catalog)
+    molality = [10.0 if ln.component.id == "potassium_nitrate" else 0.0 for ln in lines]  # past 7.58 mol/kg
+    with pytest.raises(AmountError, match="past 7.58 mol/kg") as info:
+        check_plausible(lines, molality)
+    assert info.value.field == "medium.strength"
+
+
+def test_above_the_solubility_but_within_the_limit_still_warns(catalog):
+    m = 1.5 * catalog.components["potassium_nitrate"].saturation_molality
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", RuntimeWarning)
+        ev = evaluate(Recipe().with_amount("potassium_nitrate", f"{m:.4g} mol/kg"), catalog)
+    assert any(w.code == "solubility" for w in ev.warnings)
+
+
+def test_cli_names_the_plan_line_and_exits_2(tmp_path, capsys):
+    plan = tmp_path / "p.toml"
+    plan.write_text('[mediaplan]\nformat = "mediaplan-plan"\nversion = "1.0"\n\n[medium]\nvolume = "1 L"\n\n[medium.components]\n'
+                    'sucrose = "30 g/L"\nKNO3 = "150 mol/kg"\n', encoding="utf-8")
+    for argv in (["calc", "--plan", str(plan)], ["calc", "KNO3=150 mol/kg"], ["prep", str(plan)]):
+        assert main(argv) == 2
+        err = capsys.readouterr().err.strip()
+        assert len(err.splitlines()) == 1 and "past 7.58 mol/kg" in err, err  # 2 x 3.79 mol/kg (38.3 g/100 g)
+        if "--plan" in argv or "prep" in argv:
+            assert f"{plan}:10" in err
