@@ -20,7 +20,8 @@ Text goes through three steps, and pint only ever sees what the second step buil
        sep    := * | space                                (· and × were made * by step 1)
        factor := NAME [power]     power := [^ | **] [+-] 1..3   as in L-1, L^-1, L**-1, L⁻¹, m3, m³
 
-   NAME is one of :data:`UNIT_NAMES` (``C`` also, where the text is a temperature). A minus reaches
+   NAME is one of :data:`UNIT_NAMES` (``C`` also, where the text is a temperature); ``degC`` and ``degF``
+   stand alone (an offset has no meaning inside a product: ``25 degC*degC/K`` is refused). A minus reaches
    the grammar only as the sign of the number, of its exponent or of a power; a decimal comma,
    thousands separators, two ``/``, several units after ``/``, powers beyond 3, other operators,
    brackets and any other character are refused in one line that names the piece not understood.
@@ -199,6 +200,7 @@ _REASON_HINT = {
     "slash": "one '/' at most, as in mol/kg",
     "denominator": "one unit after '/', as in mol/kg, or powers, as in g L-1",
     "mixed": "write g/L or g L-1, not both",
+    "offset": "a degree Celsius or Fahrenheit stands alone, as in 25 degC; inside a product write K",
 }
 
 
@@ -256,6 +258,10 @@ def _factors(side: str, temperature: bool) -> list[tuple[str, int]]:
     return out
 
 
+#: units with an offset (°C, °F): read alone only, never inside a product, quotient or power
+_OFFSET_UNITS = frozenset({"degC", "degF"})
+
+
 @lru_cache(maxsize=512)
 def _read_unit(unit: str, temperature: bool) -> _Unit:
     """Read a normalised unit text with the grammar; raises _Refused."""
@@ -275,6 +281,10 @@ def _read_unit(unit: str, temperature: bool) -> _Unit:
         if any(p < 0 for _, p in factors + below):
             raise _Refused(unit, "mixed")
         factors += [(n, -p) for n, p in below]
+    if len(factors) > 1 or factors[0][1] != 1:  # '25 degC*degC/K' has no one meaning (pint: 25 K)
+        for name, _ in factors:
+            if name in _OFFSET_UNITS:
+                raise _Refused(unit, "offset")
     return _Unit(tuple(factors))
 
 
