@@ -15,6 +15,10 @@ def check_line(r: dict) -> str:
     if r["warnings"]:
         extra.append(f"{len(r['warnings'])} warning{'s' if len(r['warnings']) != 1 else ''}: "
                      + "; ".join(w["code"] for w in r["warnings"]))
+    if r.get("readings"):
+        n, last = len(r["readings"]), r["readings"][-1]
+        extra.append(f"{n} reading{'s' if n != 1 else ''} recorded, last "
+                     + (f"{last['date']}: " if last.get("date") else "") + f"{last['value']} ({last['instrument']})")
     return one_line(f"{r['path']}: ok" + (" (" + " | ".join(extra) + ")" if extra else ""))
 
 

@@ -27,4 +27,13 @@ def diff_text(d: dict) -> str:
     out.append("")
     out.append("Results")
     out += pairs_table([(r["label"], r["text"]) for r in d["results"]], indent="  ")
+    if d.get("readings"):
+        from mediaplan.views.reading import readings_lines
+
+        for side, path in (("a", d["a"]), ("b", d["b"])):
+            rs = d["readings"][side]
+            out.append("")
+            out.append(f"Osmometer readings recorded in {path}" + ("" if rs else ": none"))
+            if rs:
+                out += readings_lines(rs, indent="  ")
     return terminal("\n".join(out))

@@ -44,6 +44,8 @@ def check_one(path: str, catalog, *, strict: bool = False, trust: str | None = N
         out["warnings"] = [w.to_dict() for w in ev.warnings]
         out["osmolality_mosmol_per_kg"] = _finite(ev.osmolality_mosmol_per_kg)
         out["osmotic_potential_mpa"] = _finite(ev.osmotic_potential_mpa)
+        if plan.readings:
+            out["readings"] = readings_of(plan)
         out["_plan"] = plan
         out["_catalog"] = cat
         blocking = [d for d in diffs if d.status == "missing" or (strict and d.status != "embedded-only")]
@@ -60,6 +62,12 @@ def check_one(path: str, catalog, *, strict: bool = False, trust: str | None = N
         out.pop("_plan", None)
         out.pop("_catalog", None)
     return out
+
+
+def readings_of(plan) -> list[dict]:
+    """The osmometer readings recorded in a plan (``[[readings]]``), as plain data."""
+    return [{"value": r.value, "instrument": r.instrument, "date": str(r.date) if r.date is not None else None,
+             "operator": r.operator, "note": r.note} for r in plan.readings]
 
 
 def _finite(x):

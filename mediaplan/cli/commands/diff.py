@@ -29,6 +29,10 @@ def run(args) -> int:
     for n in na + nb:
         note(n)
     d = plan_diff(pa, ca, pb, cb)
+    if pa.readings or pb.readings:
+        from mediaplan.cli.commands.check import readings_of
+
+        d["readings"] = {"a": readings_of(pa), "b": readings_of(pb)}
     if args.json:
         print_json(d)
     else:
