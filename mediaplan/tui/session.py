@@ -51,6 +51,18 @@ class Outcome:
 
     evaluation: Evaluation | None
     error: str | None = None
+    #: the 95 % uncertainty budget of the figures (None when it could not be made)
+    budget: object | None = None
+
+
+def _budget_of(recipe: Recipe, catalog: Catalog, ev: Evaluation):
+    """The uncertainty budget of an evaluation (a few ms), or None: the figures never wait on it."""
+    from mediaplan.tasks.uncertainty import budget
+
+    try:
+        return budget(recipe, catalog, evaluation=ev)
+    except (MediaplanError, ValueError, ArithmeticError):
+        return None
 
 
 class Session:
@@ -106,7 +118,7 @@ class Session:
             return Outcome(None, in_app_words(exc))
         except (ValueError, ArithmeticError) as exc:  # a model failing on odd input must not end the session
             return Outcome(None, f"the models could not evaluate this medium ({exc})")
-        return Outcome(ev)
+        return Outcome(ev, budget=_budget_of(recipe, self.catalog, ev))
 
     # ---- edits --------------------------------------------------------------------------
     def change(self, plan: Plan) -> None:

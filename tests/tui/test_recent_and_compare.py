@@ -102,3 +102,25 @@ async def test_compare_with_a_broken_plan_says_so_and_stays(tmp_path):
         assert isinstance(app.screen, MainScreen)
         assert any("bad.toml" in str(n.message) for n in app._notifications)
     assert bad.read_text() == "[medium\n"
+
+
+@pytest.mark.parametrize("size", SIZES, ids=SIZE_IDS)
+@run_async
+async def test_the_panel_shows_the_95_percent_interval_of_the_budget(size):
+    from mediaplan.tasks.uncertainty import budget
+
+    cat = get_catalog()
+    recipe = Recipe(base="ms1962").with_amount("sucrose", "30 g/L")
+    app = app_for(Session(Plan(recipe=recipe, title="Interval (invented)"), cat))
+    async with app.run_test(size=size) as pilot:
+        await pilot.pause()
+        b = budget(recipe, cat)
+        osm, psi = f"±{b.osmolality.half_width():.1f} mOsm/kg", f"±{b.osmotic_potential.half_width():.3f} MPa"
+        text = "\n".join(screen_lines(app))
+        assert f"{osm} {psi}" in text
+        assert 0 < b.osmolality.half_width() < 0.1 * b.osmolality.value  # a real, not a vacuous, interval
+        # the preview of an edit shows the candidate's interval
+        app.get_screen("main").preview("sucrose", "60 g/L")
+        await pilot.pause()
+        b2 = budget(recipe.with_amount("sucrose", "60 g/L"), cat)
+        assert f"±{b2.osmolality.half_width():.1f} mOsm/kg" in "\n".join(screen_lines(app))

@@ -69,7 +69,7 @@ class MainScreen(Screen):
         outcome = outcome or self.session.evaluate()
         ev = self.committed = outcome.evaluation
         self.query_one(RecipeTable).show(ev, self.session.removed_base_lines())
-        self.query_one(RelationsPanel).show(ev, outcome.error)
+        self.query_one(RelationsPanel).show(ev, outcome.error, budget=outcome.budget)
         self.query_one(NotesPanel).show(ev, self.session.plan.notes)
         self.query_one(GroupChart).show(ev)
         self._topbar()
@@ -150,7 +150,7 @@ class MainScreen(Screen):
             return in_app_words(exc)
         outcome = self.session.evaluate(recipe)
         ev = outcome.evaluation
-        self.query_one(RelationsPanel).show(ev, outcome.error, preview=True)
+        self.query_one(RelationsPanel).show(ev, outcome.error, preview=True, budget=outcome.budget)
         self.query_one(GroupChart).show(ev)
         self.post_message(self.Evaluated(outcome, preview=True))
         if ev is None:

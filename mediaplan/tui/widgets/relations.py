@@ -41,6 +41,20 @@ def figures(ev: Evaluation) -> dict[str, str]:
     return out
 
 
+def interval_words(budget, width: int = 80) -> str:
+    """The 95 % half-widths of osmolality and potential, e.g. ``95 %: ±2.1 mOsm/kg ±0.006 MPa`` (shorter
+    when narrow); empty without a budget."""
+    if budget is None:
+        return ""
+    osm = num(budget.osmolality.half_width(), 1)
+    psi = num(budget.osmotic_potential.half_width(), 3)
+    for text in (f"95 % interval ±{osm} mOsm/kg ±{psi} MPa", f"95 %: ±{osm} mOsm/kg ±{psi} MPa",
+                 f"±{osm} mOsm/kg ±{psi} MPa"):
+        if len(text) <= width:
+            return text
+    return f"±{psi} MPa"
+
+
 def vant_hoff_disagrees(ev: Evaluation) -> bool:
     """The van't Hoff column points the other way in osmolality and in potential (its potential counts moles
     per litre of medium, its osmolality per kg of water), so the panel says so."""
@@ -78,14 +92,17 @@ class RelationsPanel(Static):
     def __init__(self, **kw) -> None:
         super().__init__("", **kw)
         self.evaluation: Evaluation | None = None
+        self.budget = None
         self.error: str | None = None
         self.preview = False
         self._shape: tuple = ()
         #: display names of the base formulations (id -> name), set by the screen from the catalog
         self.base_names: dict[str, str] = {}
 
-    def show(self, ev: Evaluation | None, error: str | None = None, *, preview: bool = False) -> None:
-        self.evaluation, self.error, self.preview = ev, error, preview
+    def show(self, ev: Evaluation | None, error: str | None = None, *, preview: bool = False,
+             budget=None) -> None:
+        """Show an evaluation (``budget``: its uncertainty budget, shown as the 95 % half-widths)."""
+        self.evaluation, self.error, self.preview, self.budget = ev, error, preview, budget
         if preview != self.has_class("-preview"):
             self.set_class(preview, "-preview")
         if (error is not None) != self.has_class("-error"):
@@ -129,6 +146,9 @@ class RelationsPanel(Static):
         if vant_hoff_disagrees(ev):
             lines.insert(4, Content.styled("van't Hoff ψs is per litre of medium",
                                            "dim italic"))
+        spread = interval_words(self.budget, width)
+        if spread:
+            lines.append(Content.styled(spread, "dim"))
         if ev.tonicity:
             t = ev.tonicity
             ratio = f"  {f['tonicity_ratio']} × cells ({t['reference_mosmol_per_kg']:.0f} mOsm/kg)"
