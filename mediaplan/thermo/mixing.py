@@ -142,12 +142,16 @@ def _peg_array(c, T, grade):
     return _peg.peg_osmolality(c, T, grade), _peg.peg_osmolality_dc(c, T, grade)
 
 
-def _phi_float(pitzer, ion_m: np.ndarray, s: float, T: float) -> float:
-    return float(pitzer.osmotic_coefficient(ion_m * s, T))
+def _phi_float(pitzer, ion_m: np.ndarray, T: float) -> Callable[[float], float]:
+    """φ of the ion molalities ion_m (n_ions,) [mol/kg] times a scale [-], at T [K]: one full Pitzer pass
+    now, a rescaling of its sums at each call (``PitzerSystem.scaled``)."""
+    return pitzer.scaled(ion_m, T)
 
 
-def _phi_array(pitzer, ion_m: np.ndarray, s: np.ndarray, T) -> np.ndarray:
-    return np.asarray(pitzer.osmotic_coefficient(ion_m * s[:, None], T), dtype=float)
+def _phi_array(pitzer, ion_m: np.ndarray, T) -> Callable[[np.ndarray], np.ndarray]:
+    """φ of the rows of ion_m (B, n_ions) [mol/kg] times a scale (B,) [-], at T [K] (see :func:`_phi_float`)."""
+    phi = pitzer.scaled(ion_m, T)
+    return lambda s: np.asarray(phi(s), dtype=float)
 
 
 @dataclass(frozen=True)
@@ -164,15 +168,14 @@ class _Ops:
     every: Callable  # all elements true
     worst: Callable  # largest element [same unit]
     peg: Callable  # (c [g/g], T [K], grade) -> (osmolality, its derivative in c)
-    phi: Callable  # (pitzer, ion molalities, scale, T) -> osmotic coefficient of the scaled ions
 
 
 _FLOATS = _Ops(where=lambda c, a, b: a if c else b, maximum=max, clip=lambda v, lo, hi: min(max(v, lo), hi),
                abs=abs, log=_log_float, log1p=math.log1p, div=_div_float, every=bool, worst=float,
-               peg=_peg_float, phi=_phi_float)
+               peg=_peg_float)
 _ARRAYS = _Ops(where=np.where, maximum=np.maximum, clip=np.clip, abs=np.abs, log=np.log, log1p=np.log1p,
                div=_div_array, every=lambda a: bool(np.all(a)),
-               worst=lambda a: float(np.max(a)) if np.size(a) else 0.0, peg=_peg_array, phi=_phi_array)
+               worst=lambda a: float(np.max(a)) if np.size(a) else 0.0, peg=_peg_array)
 
 
 # ---- the system ---------------------------------------------------------------------------------
@@ -210,6 +213,7 @@ class _System:
     M_e: float | np.ndarray  # Σ ion molalities [mol/kg]
     has_e: bool | np.ndarray
     phi_own: float | np.ndarray  # Pitzer φ at the medium's own ion molalities (NaN: not computed)
+    phi_at: Callable | None  # scale [-] -> Pitzer φ of the medium's own ion molalities times the scale
     electrolytes: bool  # the Pitzer step runs at all
     groups: list[_Group]
     neutral_m: np.ndarray  # (B, k) [mol/kg]
@@ -249,14 +253,16 @@ def _one_row(inp: MixtureInput, start: tuple | None) -> _System:
         src = nml if grp.kind == "n" else pcl
         grp.m = sum(src[j] for j in grp.members)
     warm = start is not None and start[0] > 0 and len(start[1]) == len(groups)
+    phi_at = None
     if im is None:
         phi_own = 1.0
-    elif warm and has_e:
-        phi_own = math.nan  # not needed to restart from a solved state (see MixtureResult.electrolyte_phi_own)
     else:
-        phi_own = float(inp.pitzer.osmotic_coefficient(im, T))
-    return _System(T, inp.pitzer, im, M_e, has_e, phi_own, has_e, groups, nm, pc, inp.peg_grades, warm,
-                   nml, pcl)
+        # one full Pitzer pass at the own ion molalities; each ZSR step then only rescales its sums
+        phi_at = _phi_float(inp.pitzer, im, T)
+        # after a warm start φ at the own molalities is not needed (see MixtureResult.electrolyte_phi_own)
+        phi_own = math.nan if warm and has_e else float(phi_at(1.0))
+    return _System(T, inp.pitzer, im, M_e, has_e, phi_own, phi_at, has_e, groups, nm, pc, inp.peg_grades,
+                   warm, nml, pcl)
 
 
 def _batch(inp: MixtureInput) -> _System:
@@ -268,14 +274,15 @@ def _batch(inp: MixtureInput) -> _System:
     nm = np.zeros((B, 0)) if nm is None else nm
     pc = np.zeros((B, 0)) if pc is None else pc
     M_e = im.sum(axis=1) if im is not None else np.zeros(B)
-    phi_own = _phi_array(inp.pitzer, im, np.ones(B), inp.T) if im is not None else np.ones(B)
+    phi_at = _phi_array(inp.pitzer, im, inp.T) if im is not None else None
+    phi_own = phi_at(np.ones(B)) if im is not None else np.ones(B)
     groups = _grouped(inp.neutral, inp.peg_grades, [j for j in range(nm.shape[1]) if np.any(nm[:, j] > 0)],
                       [j for j in range(pc.shape[1]) if np.any(pc[:, j] > 0)])
     for grp in groups:
         src = nm if grp.kind == "n" else pc
         grp.m = src[:, grp.members].sum(axis=1)
         grp.on = grp.m > 0
-    return _System(inp.T, inp.pitzer, im, M_e, M_e > 0, phi_own, im is not None, groups, nm, pc,
+    return _System(inp.T, inp.pitzer, im, M_e, M_e > 0, phi_own, phi_at, im is not None, groups, nm, pc,
                    inp.peg_grades, False, None, None)
 
 
@@ -323,7 +330,7 @@ def _newton(ops: _Ops, s: _System, start: tuple | None) -> MixtureResult:
             # so the state solved at the other temperature is the solution at this one
             return _result(ops, s, y, x, 0.0, phi_c, (y, tuple(x), g, s_c), True, False)
         if has_e:
-            phi_c = ops.phi(s.pitzer, s.ion_m, s_c, T)
+            phi_c = s.phi_at(s_c)
     Me = where(has_e, s.M_e, 1.0)
     bad = active & False  # rows whose electrolytes left Pitzer's range (φ <= 0): no answer
 
@@ -368,7 +375,7 @@ def _newton(ops: _Ops, s: _System, start: tuple | None) -> MixtureResult:
         if s.electrolytes:
             s_new = e_scale(y)
             phi_pred = phi_c * (s_new / s_c) ** g
-            phi_new = ops.phi(s.pitzer, s.ion_m, s_new, T)  # 1 in rows without ions
+            phi_new = s.phi_at(s_new)  # 1 in rows without ions
             if floats:
                 if not phi_new > 0:
                     return _result(ops, s, math.nan, x, math.nan, math.nan, None, True, True)

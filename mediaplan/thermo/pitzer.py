@@ -38,7 +38,7 @@ May PM, Rowland D, Hefter G, Königsberger E (2011) A generic and updatable Pitz
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from typing import Any
 
 import numpy as np
@@ -61,6 +61,9 @@ MOLLER1988_COEFFS: tuple[float, ...] = PitzerParams.__dataclass_fields__["a_phi_
 
 # Pitzer (1975) eq. 47 empirical form of the unsymmetric-mixing integral J(x).
 _J_C1, _J_C2, _J_C3, _J_C4 = 4.581, 0.7237, 0.0120, 0.528
+#: temperatures [K] whose parameter matrices and A_phi a system keeps at once (a medium is solved at its own
+#: temperature and at 0 °C; a handful more costs nothing; a sweep over temperatures starts the cache afresh)
+_T_CACHE_SIZE = 8
 
 
 # ---------------------------------------------------------------------------------------------------------
@@ -376,7 +379,8 @@ class PitzerSystem:
         self.params = params
         self.b = float(params.b)
         self._a_coeffs = tuple(params.a_phi_coeffs)
-        self._last: tuple[float, float] = (math.nan, math.nan)   # cache of (T, A_phi)
+        self._a_cache: dict[float, float] = {}    # T [K] -> A_phi, a few temperatures (see _a_phi_scalar)
+        self._row_sums: tuple[bytes, _RowSums | None] = (b"", None)   # the last composition's full pass
         zv = np.array(z, dtype=float)
         self.charges = np.array(z, dtype=int)
         n = len(ions)
@@ -436,7 +440,9 @@ class PitzerSystem:
         dmats = [d_beta0, d_cmat] + [d_exp.get(a, np.zeros((5, n, n))) for a in self._alphas]
         self._dflat = np.concatenate(dmats, axis=2)         # (5, n, K*n)
         self._has_dT = bool(np.any(self._dflat))
-        self._mflat_cache: tuple[float, np.ndarray] = (298.15, self._mflat)
+        # T [K] -> binary-term matrices at T: one entry per temperature in use (25 °C and the 0 °C of the
+        # freezing-point figure no longer rebuild each other's), bounded by _T_CACHE_SIZE
+        self._mflat_cache: dict[float, np.ndarray] = {298.15: self._mflat}
 
         # --- psi: sparse index list of triplets ---------------------------------------------------------
         ps_i, ps_j, ps_k, ps_v = [], [], [], []
@@ -553,44 +559,66 @@ class PitzerSystem:
 
     def _phi_row(self, m: np.ndarray, T: float) -> np.float64:
         """One composition: the same sums as the batch path, with Python floats for the scalars."""
-        mtot = float(m.sum())
-        if mtot <= 0.0:
-            return np.float64(1.0)
-        v = m @ self._lin
-        I = float(v[0])
-        sqI = math.sqrt(I)
-        A = self._a_phi_scalar(T)
-        q = (m @ self._mflat_at(T)).reshape(self._K, self._n) @ m
-        s = float(q[0]) + float(v[1]) * float(q[1]) - A * I * sqI / (1.0 + self.b * sqI)
-        if self._nalpha:
-            s += float(np.exp(self._neg_alphas * sqI) @ q[2:])
-        if self._has_psi:
-            s += float(m[self._ps_idx].prod(axis=0) @ self._ps_v)
-        if self._has_etheta:
-            G = v[2:]
-            s += float((_x_dj((A * sqI) * self._prods6) @ self._ew) @ (G[self._pt_a] * G[self._pt_b])) / I
-        return np.float64(1.0 + 2.0 * s / mtot)
+        return np.float64(_RowSums(self, m, T).phi1)
+
+    def scaled(self, m0: np.ndarray, T: float) -> Callable:
+        """The osmotic coefficient [-] of the ion composition m0 [mol/kg] scaled by t, as a function of t.
+
+        Parameters
+        ----------
+        m0 : array (n_ions,) or (B, n_ions), free-ion molalities [mol/kg] in ``self.ions`` order
+        T : float, temperature [K]
+
+        Returns
+        -------
+        phi(t) : for m0 of one row, a function of a float t > 0 returning a float; for a batch, of an
+        array t (B,) returning an array (B,). phi(t) is :meth:`osmotic_coefficient` (t · m0, T).
+
+        Notes
+        -----
+        One full pass over the ion pairs and triplets at m0, then each call only rescales: the pair sums
+        scale as t², the triplet sums and Z·(pair sum) as t³, I and the group totals as t. What is left per
+        call is the Debye–Hückel term, the exponentials of the binary terms and the E-theta function of
+        √I. At t = 1 the result is the full pass's own number (bit for bit); elsewhere it agrees with it
+        to rounding (about 1e-15 relative).
+        """
+        m0 = self._check(m0)
+        if m0.ndim == 1 and np.ndim(T) == 0:
+            # the last composition's full pass serves every temperature (a medium at its own temperature,
+            # then at 0 °C for the freezing point): one tuple, replaced atomically (safe across threads)
+            key = m0.tobytes()
+            last_key, sums = self._row_sums
+            if last_key != key:
+                sums = _RowSums(self, m0, T)
+                self._row_sums = (key, sums)
+            return _ScaledRow(self, sums, T)
+        if m0.ndim == 2 and np.ndim(T) == 0:
+            return _ScaledBatch(self, m0, float(T))
+        return lambda t: self.osmotic_coefficient(m0 * np.asarray(t, dtype=float)[..., None], T)
 
     def _mflat_at(self, T: float) -> np.ndarray:
         """Binary-term matrices at T [K]: 25 °C values plus the temperature terms where given."""
         if not self._has_dT:
             return self._mflat
         T = float(T)
-        last_T, last = self._mflat_cache          # one tuple, replaced atomically: thread-safe
-        if last_T == T:
-            return last
-        f = temperature_basis(T)
-        mflat = self._mflat + np.tensordot(f, self._dflat, axes=1)
-        self._mflat_cache = (T, mflat)
+        mflat = self._mflat_cache.get(T)
+        if mflat is None:
+            f = temperature_basis(T)
+            mflat = self._mflat + np.tensordot(f, self._dflat, axes=1)
+            if len(self._mflat_cache) >= _T_CACHE_SIZE:   # a sweep over many temperatures: start afresh
+                self._mflat_cache = {}
+            self._mflat_cache[T] = mflat                  # one dict item set: safe across worker threads
         return mflat
 
     def _a_phi_scalar(self, T: float) -> float:
         T = float(T)
-        last_T, last_A = self._last           # one tuple, replaced atomically: safe across worker threads
-        if last_T != T:
-            last_A = float(a_phi(T, self._a_coeffs))
-            self._last = (T, last_A)
-        return last_A
+        A = self._a_cache.get(T)
+        if A is None:
+            A = float(a_phi(T, self._a_coeffs))
+            if len(self._a_cache) >= _T_CACHE_SIZE:
+                self._a_cache = {}
+            self._a_cache[T] = A
+        return A
 
     def osmolality(self, m: np.ndarray, T: float) -> np.ndarray:
         """Osmolality phi · Σ m_i [osmol/kg water], shape m.shape[:-1]."""
@@ -619,3 +647,146 @@ class PitzerSystem:
         I = float(m @ self._z2h)
         return [(self.ions[i], self.ions[j]) for i, j, imax in self._pairs
                 if m[i] > 0 and m[j] > 0 and imax < I]
+
+
+# ---------------------------------------------------------------------------------------------------------
+# One full pass, then scaled updates (see PitzerSystem.scaled)
+# ---------------------------------------------------------------------------------------------------------
+def _x_dj_float(x: float) -> float:
+    """x * J'(x) of one x > 0 on Python floats: the algebra of :func:`_x_dj`."""
+    lx = math.log(x)
+    c3xc4 = _J_C3 * math.exp(_J_C4 * lx)
+    ex = _J_C1 * math.exp(-_J_C2 * lx - c3xc4)
+    d = 4.0 + ex
+    return x * (4.0 + ex * (1.0 + _J_C2 + _J_C4 * c3xc4)) / (d * d)
+
+
+class _RowSums:
+    """The full pass of :meth:`PitzerSystem.osmotic_coefficient` for one row m [mol/kg] at T [K]: its sums
+    (which scale with the composition), their temperature derivatives and φ itself (``phi1``)."""
+
+    __slots__ = ("T", "phi1", "empty", "mtot", "I0", "Z0", "q", "dq", "psi", "W")
+
+    def __init__(self, system: PitzerSystem, m: np.ndarray, T: float) -> None:
+        self.T = float(T)
+        mtot = float(m.sum())
+        self.empty = mtot <= 0.0
+        if self.empty:
+            self.phi1 = 1.0
+            return
+        v = m @ system._lin
+        I = float(v[0])
+        sqI = math.sqrt(I)
+        A = system._a_phi_scalar(T)
+        q = (m @ system._mflat_at(T)).reshape(system._K, system._n) @ m
+        s = float(q[0]) + float(v[1]) * float(q[1]) - A * I * sqI / (1.0 + system.b * sqI)
+        if system._nalpha:
+            s += float(np.exp(system._neg_alphas * sqI) @ q[2:])
+        psi = 0.0
+        if system._has_psi:
+            psi = float(m[system._ps_idx].prod(axis=0) @ system._ps_v)
+            s += psi
+        W: list[tuple[float, float]] = []
+        if system._has_etheta:
+            G = v[2:]
+            S0 = G[system._pt_a] * G[system._pt_b]
+            s += float((_x_dj((A * sqI) * system._prods6) @ system._ew) @ S0) / I
+            W = list(zip(system._prods6.tolist(), (system._ew @ S0).tolist(), strict=True))
+        self.phi1 = 1.0 + 2.0 * s / mtot
+        self.mtot, self.I0, self.Z0, self.q, self.psi, self.W = mtot, I, float(v[1]), q, psi, W
+        # d(sums)/d(temperature basis): the sums at any other temperature without another pass
+        self.dq = (m @ system._dflat).reshape(5, system._K, system._n) @ m if system._has_dT else None
+
+
+class _ScaledRow:
+    """φ of one ion composition m0 [mol/kg] scaled by a float t, at T [K] (see :meth:`PitzerSystem.scaled`).
+
+    From the full pass of m0 (:class:`_RowSums`, made at this or another temperature); a call rescales the
+    sums on Python floats. At the full pass's own temperature and t = 1 it returns that pass's φ.
+    """
+
+    __slots__ = ("phi1", "_empty", "_mtot", "_I0", "_q0", "_zq1", "_qa", "_na", "_psi", "_A", "_b", "_W")
+
+    def __init__(self, system: PitzerSystem, sums: _RowSums, T: float) -> None:
+        self._empty = sums.empty
+        if self._empty:
+            self.phi1 = 1.0
+            return
+        q = sums.q
+        T = float(T)
+        if T != sums.T and sums.dq is not None:
+            q = q + (temperature_basis(T) - temperature_basis(sums.T)) @ sums.dq
+        self._mtot, self._I0, self._A, self._b = sums.mtot, sums.I0, system._a_phi_scalar(T), system.b
+        self._q0, self._zq1 = float(q[0]), sums.Z0 * float(q[1])
+        self._qa = q[2:].tolist()
+        self._na = system._neg_alphas.tolist()
+        self._psi, self._W = sums.psi, sums.W
+        self.phi1 = sums.phi1 if T == sums.T else self._phi(1.0)
+
+    def __call__(self, t: float) -> float:
+        """φ [-] at the molalities t · m0 (t > 0 [-])."""
+        if self._empty:
+            return 1.0
+        if t == 1.0:
+            return self.phi1
+        return self._phi(t)
+
+    def _phi(self, t: float) -> float:
+        I = t * self._I0
+        sqI = math.sqrt(I)
+        t2 = t * t
+        A = self._A
+        s = t2 * self._q0 + (t2 * t) * self._zq1 - A * I * sqI / (1.0 + self._b * sqI)
+        if self._qa:
+            s += t2 * sum(qa * math.exp(na * sqI) for qa, na in zip(self._qa, self._na, strict=True))
+        s += (t2 * t) * self._psi
+        if self._W:
+            x = A * sqI
+            s += t * sum(_x_dj_float(x * p6) * w for p6, w in self._W) / self._I0
+        return 1.0 + 2.0 * s / (t * self._mtot)
+
+
+class _ScaledBatch:
+    """φ of ion compositions m0 (B, n_ions) [mol/kg] scaled by t (B,), at one temperature T [K] (see
+    :meth:`PitzerSystem.scaled`): the batch path of :meth:`PitzerSystem.osmotic_coefficient`, with the pair,
+    triplet and group sums taken once at m0 and rescaled at each t (at t = 1, that method's numbers)."""
+
+    def __init__(self, system: PitzerSystem, m: np.ndarray, T: float) -> None:
+        self.system = system
+        mtot = m.sum(axis=-1)
+        v = m @ system._lin
+        I = v[..., 0]
+        self.empty = mtot <= 0.0
+        self.any_empty = bool(self.empty.any())
+        if self.any_empty:
+            I = np.where(self.empty, 1.0, I)
+            mtot = np.where(self.empty, 1.0, mtot)
+        self.mtot, self.I0 = mtot, I
+        self.A = system._a_phi_scalar(T)
+        q = ((m @ system._mflat_at(T)).reshape(m.shape[0], system._K, system._n) * m[:, None, :]).sum(axis=-1)
+        self.q0, self.q1, self.qa, self.Z0 = q[:, 0], q[:, 1], q[:, 2:], v[:, 1]
+        self.psi = m[:, system._ps_idx].prod(axis=-2) @ system._ps_v if system._has_psi else None
+        if system._has_etheta:
+            G = v[:, 2:]
+            self.S0 = G[:, system._pt_a] * G[:, system._pt_b]
+
+    def __call__(self, t: np.ndarray) -> np.ndarray:
+        """φ [-] at the molalities t[:, None] · m0, t > 0 (B,) [-]."""
+        sy = self.system
+        t = np.asarray(t, dtype=float)
+        I = t * self.I0
+        sqI = np.sqrt(I)
+        t2 = t * t
+        A = self.A
+        s = t2 * self.q0 + (t * self.Z0) * (t2 * self.q1) - A * I * sqI / (1.0 + sy.b * sqI)
+        if sy._nalpha:
+            s = s + (np.exp(sqI[:, None] * sy._neg_alphas) * (t2[:, None] * self.qa)).sum(axis=-1)
+        if self.psi is not None:
+            s = s + (t2 * t) * self.psi
+        if sy._has_etheta:
+            x = (A * sqI)[:, None] * sy._prods6
+            s = s + ((_x_dj(x) @ sy._ew) * (t2[:, None] * self.S0)).sum(axis=-1) / I
+        phi = 1.0 + 2.0 * s / (t * self.mtot)
+        if self.any_empty:
+            phi = np.where(self.empty, 1.0, phi)
+        return phi
