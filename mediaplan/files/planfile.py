@@ -13,6 +13,7 @@ notes = "..."
 [medium]
 volume = "1 L"
 temperature = "25 degC"
+storage_temperature = "4 degC"   # optional: where the medium and its stocks are kept (solubility checks)
 base = "ms1962"            # optional published formulation
 strength = 1.0
 
@@ -69,7 +70,8 @@ _KNOWN_TOP = {"mediaplan", "plan", "medium", "target", "cells", "projection", "s
 #: the keys of the plan's own tables in the format versions this release writes (1.0; the optional tables'
 #: keys are in :mod:`mediaplan.files.plan_tables`)
 SCHEMA: dict[str, tuple[str, ...]] = {"mediaplan": ("format", "version"), "plan": ("title", "author", "notes"),
-                                      "medium": ("volume", "temperature", "base", "strength", "components")}
+                                      "medium": ("volume", "temperature", "storage_temperature", "base", "strength",
+                                                 "components")}
 
 
 @dataclass
@@ -235,7 +237,7 @@ def from_dict(data: dict, *, text: str = "", file: str | None = None, catalog: C
     med = data.get("medium")
     if not isinstance(med, dict):
         raise PlanFileError("missing [medium] table", file=file, hint="add [medium] with volume and temperature")
-    for key in ("volume", "temperature", "base"):
+    for key in ("volume", "temperature", "storage_temperature", "base"):
         if key in med and not isinstance(med[key], str):
             raise err(f"{key} must be text, like \"1 L\"", key, "medium")
     strength = med.get("strength", 1.0)
@@ -271,7 +273,8 @@ def from_dict(data: dict, *, text: str = "", file: str | None = None, catalog: C
         amounts.append((cid, amt))
     try:
         recipe = Recipe(volume=med.get("volume", "1 L"), temperature=med.get("temperature", "25 degC"),
-                        base=med.get("base") or None, strength=float(strength), amounts=tuple(amounts))
+                        base=med.get("base") or None, strength=float(strength), amounts=tuple(amounts),
+                        storage_temperature=med.get("storage_temperature"))
     except AmountError as exc:
         key = (exc.field or "").split(".")[-1] or "volume"
         raise exc.located(file=file, line=_line_of(text, key, "medium")) from None
@@ -311,6 +314,8 @@ def to_dict(plan: Plan) -> dict:
         pt["notes"] = plan.notes
     d["plan"] = pt
     med: dict[str, Any] = {"volume": r.volume, "temperature": r.temperature}
+    if r.storage_temperature is not None:
+        med["storage_temperature"] = r.storage_temperature
     if r.base:
         med["base"] = r.base
         med["strength"] = r.strength

@@ -13,7 +13,7 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
-from mediaplan.medium.catalog import Catalog
+from mediaplan.medium.catalog import Catalog, celsius
 from mediaplan.medium.model import MediumModel, ModelState
 from mediaplan.medium.recipe import Line, Recipe
 from mediaplan.thermo.constants import T0
@@ -64,8 +64,11 @@ PITZER_T_SPAN = 10.5
 #: practice: a screen, not a speciation model; see mediaplan.thermo.precipitation)
 PRECIPITATION_RATIO = 0.5
 #: fraction of the solubility above which a solute may crystallise in the cold (common practice:
-#: solubilities of the catalog are 25 °C values and fall on cooling)
+#: solubilities fall on cooling, and a medium is often colder than the temperature checked)
 SOLUBILITY_MARGIN = 0.8
+#: temperature [K] a medium or its stocks are taken to be kept at when the plan states none (common
+#: practice: a cold room or refrigerator at 4 °C)
+DEFAULT_STORAGE_K = 277.15
 #: share of the osmolality [fraction] above which a component without a reflection coefficient is named
 REFLECTION_SHARE_NOTED = 0.01
 #: grams per litre above which an estimated apparent molar volume is worth a note (common practice: below
@@ -207,31 +210,72 @@ def precipitation(ctx: Context) -> list[Warning_]:
 
 
 def solubility(ctx: Context) -> list[Warning_]:
-    """Each substance (all its forms together) above its solubility at 25 °C
-    (:attr:`Component.saturation_molality`, from the catalog's sourced solubility), or above
-    :data:`SOLUBILITY_MARGIN` of it."""
+    """Each substance (all its forms together) against its solubility (:meth:`Component.saturation_at`,
+    from the catalog's sourced solubility table, or its 25 °C figure when it has no table):
+
+    - above the solubility at the culture temperature: it will not all dissolve;
+    - else above the solubility at the storage temperature (the plan's, or :data:`DEFAULT_STORAGE_K` when
+      it states none): it crystallises if kept there;
+    - else above :data:`SOLUBILITY_MARGIN` of the solubility at the colder of the two: it may crystallise.
+
+    A temperature outside the substance's table is never extrapolated: the warning names the nearest
+    tabulated temperature and says the figure there is not the one asked for."""
     by_sub: dict[str, float] = {}
     sub_comp: dict[str, object] = {}
     molality = ctx.state.molality[0].tolist()
     for i, ln in enumerate(ctx.lines):
         c = ln.component
-        if c.solubility is None or not c.substance:
+        if (c.solubility is None and not c.solubility_table) or not c.substance:
             continue
         by_sub[c.substance] = by_sub.get(c.substance, 0.0) + molality[i]
         sub_comp.setdefault(c.substance, c)
+    T = ctx.T
+    stated = ctx.recipe.storage_temperature_k
+    T_store = DEFAULT_STORAGE_K if stated is None else stated
+    kept = (f"kept at {celsius(T_store)}" + (" (the plan's storage temperature)" if stated is not None else
+                                             " (a cold room; the plan states no storage temperature)"))
     out = []
     for sub, m in by_sub.items():
         c = sub_comp[sub]
-        m_sat = c.saturation_molality
-        if m_sat is None:
+        culture = _figure(c, T)
+        if culture is None:
             continue
-        if m > m_sat:
+        m_T, where_T, g_T = culture
+        if m > m_T:
             out.append(Warning_("solubility", f"{sub} at {m:.3g} mol/kg is above its solubility "
-                                f"({c.solubility:g} g/100 g water at 25 °C): it will not all dissolve", c.id))
-        elif m > SOLUBILITY_MARGIN * m_sat:
-            out.append(Warning_("solubility", f"{sub} is at {100 * m / m_sat:.0f} % of its solubility at 25 °C: "
+                                f"({g_T:.3g} g/100 g water {where_T}): it will not all dissolve", c.id))
+            continue
+        store = c.saturation_at(T_store)
+        if T_store < T and store.at_asked and store.molality is not None:
+            if m > store.molality:
+                out.append(Warning_("solubility", f"{sub} at {m:.3g} mol/kg is {100 * m / store.molality:.0f} % of "
+                                    f"its solubility at {celsius(T_store)} ({store.g_per_100g_water:.3g} g/100 g "
+                                    f"water): it crystallises if {kept}", c.id))
+            elif m > SOLUBILITY_MARGIN * store.molality:
+                out.append(Warning_("solubility", f"{sub} is at {100 * m / store.molality:.0f} % of its solubility "
+                                    f"at {celsius(T_store)}: it may crystallise if {kept}", c.id))
+        elif m > SOLUBILITY_MARGIN * m_T:
+            out.append(Warning_("solubility", f"{sub} is at {100 * m / m_T:.0f} % of its solubility {where_T}: "
                                 "it may crystallise in the cold", c.id))
     return out
+
+
+def _figure(c, T: float) -> tuple[float, str, float] | None:
+    """(saturation molality [mol/kg], where it holds in words, g per 100 g water) of component c at T [K]:
+    the figure at T, else the 25 °C figure, else the table's end nearest T, each said as such."""
+    sat = c.saturation_at(T)
+    if sat.molality is not None:
+        where = f"at {celsius(sat.temperature_k)}"
+        return sat.molality, where, sat.g_per_100g_water
+    rows = c.solubility_table
+    if not rows:
+        return None
+    end = rows[0] if T < rows[0].temperature_k else rows[-1]
+    near = c.saturation_at(end.temperature_k)
+    if near.molality is None:
+        return None
+    return near.molality, f"at {celsius(end.temperature_k)}, the nearest tabulated temperature to {celsius(T)}", \
+        near.g_per_100g_water
 
 
 def unverified_amounts(ctx: Context) -> list[Warning_]:

@@ -32,8 +32,15 @@ evaluation directly (slower, still exact).
 Two osmotica: either in a fixed molar ratio (``ratio=[1, 1]``: equal moles added), or with one held at
 a set level (``hold={"sucrose": "20 g/L"}``) and the other making up the rest.
 
-When the medium is already more concentrated than the target, no addition helps; the answer gives
-the strength of the base formulation, and the dilution of the whole medium with water, that reach it.
+When the medium is already more concentrated than the target and already holds the osmoticum (a wash
+at 0.5 mol/L mannitol asked for a less negative potential), the osmoticum is lowered first: the answer is
+the smaller amount that reaches the target (``lowered`` names it; its additions are negative). Only when
+removing all of it does not reach the target does the answer give the strength of the base formulation,
+and the dilution of the whole medium with water, that reach it.
+
+Solubility caps the search at the colder of the culture temperature and the plan's storage temperature
+(when it states one): a plan kept at 4 °C is never offered more mannitol than dissolves at 4 °C, and the
+refusal says which temperature set the limit.
 """
 
 from __future__ import annotations
@@ -41,11 +48,11 @@ from __future__ import annotations
 import math
 import re
 from collections.abc import Callable, Mapping, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Literal
 
 from mediaplan.medium import roots
-from mediaplan.medium.catalog import Catalog, Component
+from mediaplan.medium.catalog import Catalog, Component, celsius
 from mediaplan.medium.errors import AmountError, InfeasibleError, UnknownComponentError
 from mediaplan.medium.evaluate import ISOTONIC_TOLERANCE, Evaluation, evaluate
 from mediaplan.medium.model import Sweep, compiled
@@ -198,6 +205,10 @@ class Solution:
     start : the evaluation of the medium before any change (``start_recipe``)
     target_osmolality_mosmol_per_kg, target_potential_mpa : what the target means at the recipe's
         temperature (for a tonicity target the osmolality is the effective one)
+    lowered : ids of osmotica already in the medium that the answer lowers (status "added", additions
+        negative); empty when the answer adds
+    solubility_temperature_c : the temperature [°C] whose solubility capped the search (the colder of the
+        culture and the plan's storage temperature)
     """
 
     status: Status
@@ -214,6 +225,8 @@ class Solution:
     start_recipe: Recipe
     ratio: list[float] | None = None
     hold: dict[str, str] | None = None
+    lowered: list[str] = field(default_factory=list)
+    solubility_temperature_c: float | None = None
     _evaluate: Callable[[Recipe], Evaluation] | None = field(default=None, repr=False, compare=False)
     _start: Evaluation | None = field(default=None, repr=False, compare=False)
 
@@ -263,6 +276,7 @@ class Solution:
                        "tonicity": ev.tonicity, "warnings": [w.to_dict() for w in ev.warnings]},
             "amounts": {cid: a.text for cid, a in self.recipe.amounts},
             "reduction": self.reduction.to_dict() if self.reduction else None,
+            "lowered": list(self.lowered), "solubility_temperature_c": self.solubility_temperature_c,
         })
 
 
@@ -370,6 +384,8 @@ class _Setup:
     weights: list[float]
     comps: list[Component]
     path: _Path
+    lower: _Path | None = None  # from the osmotica removed (0) to the medium as it is (1), when it holds them
+    x_min: float = 0.0  # the x of the path at which the first lowered osmoticum reaches zero
 
 
 def _setup(recipe: Recipe, catalog: Catalog, comps_os: list[Component], ratio: list[float] | None,
@@ -439,7 +455,15 @@ def _setup(recipe: Recipe, catalog: Catalog, comps_os: list[Component], ratio: l
         return out + [amount_of(c.id, x, False) for c in free if c.id not in by_id]
 
     path = _line_path(catalog, start, comps, amounts_at, build, math.inf)
-    return _Setup(start, free, weights, comps, path)
+    lower, x_min = None, 0.0
+    if all(base_value[c.id] > 0 for c in free):
+        x_min = max(-base_value[c.id] / (w[c.id] * per_x[c.id]) for c in free)
+
+        def build_low(t: float, text: bool = True) -> Recipe:
+            return build(x_min * (1.0 - t), text)
+
+        lower = _line_path(catalog, start, comps, lambda t: amounts_at(x_min * (1.0 - t)), build_low, 1.0)
+    return _Setup(start, free, weights, comps, path, lower, x_min)
 
 
 def _needs_full_evaluation(comps: Sequence[Component], matched: str) -> bool:
@@ -522,6 +546,28 @@ def solve_target(recipe: Recipe, catalog: Catalog, target: TargetSpec | str, osm
         ev0 = ev_of(s.recipe)
         return Solution(status="on_target", recipe=s.recipe, evaluation=ev0, additions=[], reduction=None,
                         message="the medium is already at the target: nothing to add", **common)
+    T_sol, sol_where = _solubility_temperature(recipe)
+    common["solubility_temperature_c"] = T_sol - 273.15
+    lower_note = ""
+    if f0 > 0 and s.lower is not None:
+        f_low = _residual(s.lower, catalog, y, full)
+        fl0 = f_low(0.0)
+        names = " and ".join(c.id for c in s.free)
+        if fl0 <= 0:
+            t = 0.0 if fl0 == 0 else roots.increasing_root(f_low, 0.0, 1.0, f_lo=fl0, f_hi=f0)
+            new = s.lower.build(t, True)
+            ev = ev_of(new)
+            adds = _additions(recipe, new, s, ev, held, catalog)
+            parts = [f"lower {a.component} by {-a.added_g_per_l:.4g} g/L to {a.total_amount} "
+                     f"({-a.added_g_per_batch:.4g} g less per {ev.volume_l:g} L)" for a in adds if not a.held]
+            parts += [f"{a.component} held at {a.total_amount}" for a in adds if a.held]
+            got = (ev.effective_osmolality_mosmol_per_kg if matched == "effective_osmolality"
+                   else ev.osmolality_mosmol_per_kg)
+            msg = ("the medium is more concentrated than the target and already holds " + names + ": " +
+                   "; ".join(parts) + f": {got:.1f} mOsm/kg, {ev.osmotic_potential_mpa:.4f} MPa (re-evaluated)")
+            return Solution(status="added", recipe=new, evaluation=ev, additions=adds, reduction=None, message=msg,
+                            lowered=[c.id for c in s.free], **common)
+        lower_note = f"even without {names} the medium is past the target; "
     if f0 > 0:
         if s.recipe is not recipe and _residual(_plain_path(recipe, catalog), catalog, y, full)(0.0) <= 0:
             lo = evaluate(s.recipe, catalog)
@@ -535,15 +581,17 @@ def solve_target(recipe: Recipe, catalog: Catalog, target: TargetSpec | str, osm
                else start_ev.osmolality_mosmol_per_kg)
         msg = (f"the medium is already more concentrated than the target ({matched.replace('_', ' ')} "
                f"{now:.1f} against {y * 1000:.1f} mOsm/kg; {start_ev.osmotic_potential_mpa:.3f} MPa against "
-               f"{psi_t:.3f} MPa): no addition helps; " + _reduction_sentence(red, recipe))
+               f"{psi_t:.3f} MPa): no addition helps; " + lower_note + _reduction_sentence(red, recipe))
         return Solution(status="too_concentrated", recipe=recipe, evaluation=start_ev, additions=[],
                         reduction=red, message=msg, _start=start_ev, **common)
     # ---- bracket: solubility and volume ---------------------------------------------------
     path = s.path
-    limit = path.sweep.limit(s.free)
+    capped = {c.id: _soluble_at(c, T_sol) for c in s.free}
+    limit = path.sweep.limit([cc for cc, _ in capped.values()])
     x_cap = limit.x
     limit_note = ("the space left for water" if limit.component is None else
-                  f"the solubility of {limit.component.id} ({limit.component.solubility:g} g/100 g water at 25 °C)")
+                  f"the solubility of {limit.component.id} ({limit.component.solubility:.3g} g/100 g water "
+                  f"{capped[limit.component.id][1]}{sol_where})")
     f_hi = f(x_cap) if x_cap > 0 else f0
     if f_hi < 0:
         y_hi, psi_hi = _reachable(path, x_cap)
@@ -568,6 +616,32 @@ def solve_target(recipe: Recipe, catalog: Catalog, target: TargetSpec | str, osm
     got = ev.effective_osmolality_mosmol_per_kg if matched == "effective_osmolality" else ev.osmolality_mosmol_per_kg
     msg = "; ".join(parts) + f": {got:.1f} mOsm/kg, {ev.osmotic_potential_mpa:.4f} MPa (re-evaluated)"
     return Solution(status="added", recipe=new, evaluation=ev, additions=adds, reduction=None, message=msg, **common)
+
+
+def _solubility_temperature(recipe: Recipe) -> tuple[float, str]:
+    """The temperature [K] whose solubility caps an addition: the colder of the culture temperature and the
+    plan's storage temperature (when it states one), and in words which it is."""
+    T, T_store = recipe.temperature_k, recipe.storage_temperature_k
+    if T_store is not None and T_store < T - 1e-9:
+        return T_store, f", the plan's storage temperature (colder than the culture at {celsius(T)})"
+    return T, ", the culture temperature" if T_store is None else ", the culture temperature (stored no colder)"
+
+
+def _soluble_at(c: Component, T: float) -> tuple[Component, str]:
+    """The component with its solubility at T [K] (for :meth:`Sweep.limit`) and where that figure holds in
+    words: at T when the catalog's table covers it; otherwise the 25 °C figure, or the table's end nearest T,
+    named as such (nothing is extrapolated)."""
+    sat = c.saturation_at(T)
+    if sat.at_asked:
+        return replace(c, solubility=sat.g_per_100g_water), f"at {celsius(T)}"
+    rows = c.solubility_table
+    if rows:
+        end = rows[0] if T < rows[0].temperature_k else rows[-1]
+        return (replace(c, solubility=end.g_per_100g_water),
+                f"at {celsius(end.temperature_k)}, the nearest tabulated temperature to {celsius(T)}")
+    if sat.molality is not None:
+        return c, f"at 25 °C (only a 25 °C figure is known; asked at {celsius(T)})" if not sat.at_asked else ""
+    return c, ""
 
 
 def _plain_path(recipe: Recipe, catalog: Catalog) -> _Path:

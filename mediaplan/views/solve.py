@@ -25,6 +25,9 @@ def solution_text(sol, *, budget=None, ranges=None) -> str:
         out.append("Already on target: nothing to add.")
     else:
         out += _additions_table(sol, ranges)
+        if getattr(sol, "lowered", None):
+            out.append(f"  lowered: {', '.join(sol.lowered)} was already in the medium; the amounts above are "
+                       "taken out (negative), no dilution needed")
     out.append("")
     out.append("Result (re-evaluated from scratch)")
     out += _result_lines(sol, budget)
