@@ -151,7 +151,10 @@ def evaluate(medium: Recipe | Plan, *, cells: str | None = None, tolerance: str 
     cat = _catalog(catalog)
     plan, recipe = _plan_and_recipe(medium)
     ref, tol = _cells(cells, tolerance, plan, recipe)
-    return evaluate_recipe(recipe, cat, cell_reference_mosmol=ref, isotonic_tolerance=tol)
+    from mediaplan.tasks.uncertainty import with_budget
+
+    # with its 95 % intervals (``budget``), as ``mediaplan calc --json`` prints it
+    return with_budget(evaluate_recipe(recipe, cat, cell_reference_mosmol=ref, isotonic_tolerance=tol), recipe, cat)
 
 
 def budget(medium: Recipe | Plan, *, readability: str | float | None = None,
@@ -229,8 +232,11 @@ def solve_target(medium: Recipe | Plan, target: str, osmotica: str | Sequence[st
     plan, recipe = _plan_and_recipe(medium)
     ref, tol = _cells(cells, tolerance, plan, recipe)
     names = [osmotica] if isinstance(osmotica, str) else list(osmotica)
-    return solve(recipe, cat, target, names, ratio=_ratio(ratio), hold=_hold(hold), cell_reference_mosmol=ref,
-                 isotonic_tolerance=tol)
+    from mediaplan.tasks.uncertainty import with_ranges
+
+    # with the result's intervals and each addition's range, as ``mediaplan solve --json`` prints it
+    return with_ranges(solve(recipe, cat, target, names, ratio=_ratio(ratio), hold=_hold(hold),
+                             cell_reference_mosmol=ref, isotonic_tolerance=tol), cat)
 
 
 # ---- plasmolysis ---------------------------------------------------------------------------------------
@@ -303,7 +309,10 @@ def design_series(osmoticum: str, *, first: str | None = None, last: str | None 
                               hint='e.g. first="-0.2 MPa", last="-1.6 MPa", or around and step')
         psi = potentials_between(_level_pa(first, "series.first", T), _level_pa(last, "series.last", T), steps)
         spacing = f"{steps} levels evenly spaced in water potential from {first} to {last}"
-    return design(recipe, osmoticum, psi, catalog=cat, stock=stock, spacing=spacing)
+    from mediaplan.tasks.uncertainty import with_level_intervals
+
+    # with each level's 95 % interval, as ``mediaplan series --json`` prints it
+    return with_level_intervals(design(recipe, osmoticum, psi, catalog=cat, stock=stock, spacing=spacing), recipe, cat)
 
 
 def _counts_from_rows(rows: Iterable[Sequence[float]], temperature_k: float | None) -> Counts:
@@ -343,28 +352,37 @@ def fit_counts(counts: str | os.PathLike | Plan | Counts | Iterable[Sequence[flo
     from mediaplan.files import planfile
     from mediaplan.medium.errors import FitError
     from mediaplan.tasks.plasmolysis import counts_from_series
-    from mediaplan.tasks.plasmolysis import fit_counts as fit
+    from mediaplan.tasks.uncertainty import (
+        LEVEL_VOLUME,
+        fit_with_levels,
+        plan_series_uncertainty,
+        series_level_uncertainty,
+    )
 
     _start()
+    cat = _catalog(catalog)
     T = Recipe(temperature=temperature).temperature_k if temperature else None
+    if temperature:
+        background = (background or Recipe()).with_settings(temperature=temperature)
+    # the levels' own uncertainty, carried into the 50 % point as ``mediaplan fit`` does
+    levels = series_level_uncertainty(osmoticum, (background or Recipe()).with_settings(volume=LEVEL_VOLUME), cat)
     if isinstance(counts, (str, os.PathLike)) and not str(counts).lower().endswith(".toml"):
         from mediaplan.files.counts import read_counts_csv
 
-        if temperature:
-            background = (background or Recipe()).with_settings(temperature=temperature)
-        return fit(read_counts_csv(counts, osmoticum=osmoticum, background=background, catalog=_catalog(catalog)),
-                   link)
+        return fit_with_levels(read_counts_csv(counts, osmoticum=osmoticum, background=background, catalog=cat),
+                               link, cat, levels=levels)
     if isinstance(counts, (str, os.PathLike)):
-        counts = planfile.read(counts, catalog=_catalog(catalog))
+        counts = planfile.read(counts, catalog=cat)
     if isinstance(counts, Plan):
         where = str(counts.path) if counts.path else None
         if not counts.series:
             raise FitError("the plan has no [series] table", file=where,
                            hint="design a series and store its plan_table() in the plan first")
+        levels = plan_series_uncertainty(counts.series, counts.recipe, cat)
         counts = counts_from_series(counts.series, file=where, temperature_k=T or counts.recipe.temperature_k)
     elif not isinstance(counts, Counts):
         counts = _counts_from_rows(counts, T)
-    return fit(counts, link, temperature_k=T)
+    return fit_with_levels(counts, link, cat, levels=levels, temperature_k=T)
 
 
 # ---- preparation -----------------------------------------------------------------------------------

@@ -43,6 +43,8 @@ from mediaplan.medium.catalog import Catalog
 from mediaplan.medium.evaluate import Evaluation, evaluate, finite
 from mediaplan.medium.model import compiled
 from mediaplan.medium.recipe import Recipe
+from mediaplan.tasks.plasmolysis.design import SeriesDesign
+from mediaplan.tasks.solve import Solution
 from mediaplan.thermo import potential
 from mediaplan.thermo.constants import K_F_OSMOMETER, M_WATER, T0
 
@@ -596,6 +598,128 @@ def level_uncertainty(background: Recipe, osmoticum: str, catalog: Catalog, *,
     return sd_at
 
 
+# ---- results that carry their budget (the command line and the Python API print the same) ------------
+#: the note of a fit whose levels' uncertainty is not known
+LEVELS_NOT_KNOWN = ("the levels' own uncertainty is not included: the osmoticum of the series is not known "
+                    "(name it, and its background, to include it)")
+
+
+@dataclass
+class EvaluationWithBudget(Evaluation):
+    """An :class:`~mediaplan.medium.evaluate.Evaluation` with its :class:`Budget`: ``to_dict()`` adds the
+    interval keys and the ``uncertainty`` breakdown."""
+
+    budget: Budget | None = None
+
+    def to_dict(self) -> dict:
+        b = self.budget
+        self.budget = None
+        try:
+            d = super().to_dict()
+        finally:
+            self.budget = b
+        d.pop("budget", None)
+        if b is not None:
+            d.update(b.to_dict())
+        return d
+
+
+def with_budget(ev: Evaluation, recipe: Recipe, catalog: Catalog, *,
+                tolerances: Tolerances = Tolerances()) -> EvaluationWithBudget:
+    """The evaluation of ``recipe`` with its budget."""
+    from dataclasses import fields
+
+    b = budget(recipe, catalog, tolerances=tolerances, evaluation=ev)
+    return EvaluationWithBudget(**{f.name: getattr(ev, f.name) for f in fields(Evaluation)}, budget=b)
+
+
+@dataclass
+class SolutionWithRanges(Solution):
+    """A :class:`~mediaplan.tasks.solve.Solution` with the budget of its result and the range of each
+    addition: ``to_dict()`` adds the result's interval keys, ``addition_ranges`` and ``uncertainty``."""
+
+    budget: Budget | None = None
+    ranges: list = field(default_factory=list)
+
+    def to_dict(self) -> dict:
+        d = super().to_dict()
+        if self.budget is not None:
+            bd = self.budget.to_dict()
+            d["result"].update({k: v for k, v in bd.items() if k != "uncertainty"})
+            d["addition_ranges"] = [r.to_dict() for r in self.ranges]
+            d["uncertainty"] = bd["uncertainty"]
+        return d
+
+
+def with_ranges(solution, catalog: Catalog, *, tolerances: Tolerances = Tolerances()):
+    """The solution with the budget of its result and the range of each addition (:func:`solve_ranges`)."""
+    from dataclasses import fields
+
+    b = budget(solution.recipe, catalog, tolerances=tolerances, evaluation=solution.evaluation)
+    ranges = solve_ranges(solution, catalog, tolerances=tolerances, budget_of_result=b)
+    return SolutionWithRanges(**{f.name: getattr(solution, f.name) for f in fields(type(solution)) if f.init
+                  and f.name not in ("budget", "ranges")}, budget=b, ranges=ranges)
+
+
+@dataclass
+class SeriesWithIntervals(SeriesDesign):
+    """A :class:`~mediaplan.tasks.plasmolysis.design.SeriesDesign` with each level's water potential as a
+    95 % interval: ``to_dict()`` adds ``water_potential_interval_mpa`` to each level and ``uncertainty``."""
+
+    level_intervals: list = field(default_factory=list)
+
+    def to_dict(self) -> dict:
+        d = super().to_dict()
+        d.pop("level_intervals", None)
+        for lv, iv in zip(d["levels"], self.level_intervals, strict=True):
+            lv["water_potential_interval_mpa"] = iv.to_list() if iv is not None else None
+        d["uncertainty"] = {"level": 0.95, "method": "each level's budget as made by weight: linearised, "
+                                                     "sources independent, value ± 1.96 sd"}
+        return finite(d)
+
+
+def with_level_intervals(design, background: Recipe, catalog: Catalog, *, tolerances: Tolerances = Tolerances()):
+    """The design with each level's water potential interval (:func:`level_potential_intervals`)."""
+    from dataclasses import fields
+
+    ivs = level_potential_intervals(design, level_budgets(design, background, catalog, tolerances=tolerances))
+    return SeriesWithIntervals(**{f.name: getattr(design, f.name) for f in fields(type(design)) if f.init
+                  and f.name != "level_intervals"}, level_intervals=ivs)
+
+
+def series_level_uncertainty(osmoticum: str | None, background: Recipe, catalog: Catalog, *,
+                             tolerances: Tolerances = Tolerances()):
+    """:func:`level_uncertainty` of a series of ``osmoticum`` in ``background`` (None when the osmoticum is
+    not known)."""
+    if not osmoticum:
+        return None
+    return level_uncertainty(background, osmoticum, catalog, tolerances=tolerances)
+
+
+def plan_series_uncertainty(series, recipe: Recipe, catalog: Catalog, *, tolerances: Tolerances = Tolerances()):
+    """:func:`level_uncertainty` of a plan's saved series (its osmoticum, in the plan's recipe at the series'
+    volume and temperature); None when the series names no osmoticum."""
+    changes = {k: v for k, v in (("volume", series.volume), ("temperature", series.temperature)) if v}
+    return series_level_uncertainty(series.osmoticum, recipe.with_settings(**changes), catalog,
+                                    tolerances=tolerances)
+
+
+#: volume of a level [text] when the counts do not say (the series command's default)
+LEVEL_VOLUME = "50 mL"
+
+
+def fit_with_levels(counts, link: str, catalog: Catalog, *, levels=None, temperature_k: float | None = None):
+    """:func:`~mediaplan.tasks.plasmolysis.fit.fit_counts` with the levels' uncertainty (``levels``: from
+    :func:`plan_series_uncertainty` or :func:`series_level_uncertainty`), or with a note saying it is not
+    included (None)."""
+    from mediaplan.tasks.plasmolysis.fit import fit_counts
+
+    fit = fit_counts(counts, link, temperature_k=temperature_k, level_uncertainty=levels)
+    if levels is None:
+        fit.notes.append(LEVELS_NOT_KNOWN)
+    return fit
+
+
 def tolerances_with(tol: Tolerances, *, balance_readability: str | float | None = None,
                     volume_tolerance: str | float | None = None,
                     temperature_sd: float | None = None) -> Tolerances:
@@ -638,4 +762,6 @@ def tolerances_with(tol: Tolerances, *, balance_readability: str | float | None 
 
 __all__ = ["Z95", "MODEL_ERROR", "NO_TEMPERATURE_TERMS", "ZSR_MIXING", "Interval", "Contribution", "Tolerances",
            "Budget", "budget", "model_error", "tolerances_with", "AdditionRange", "solve_ranges",
-           "level_budgets", "level_potential_intervals", "level_uncertainty"]
+           "level_budgets", "level_potential_intervals", "level_uncertainty", "EvaluationWithBudget", "with_budget",
+           "with_ranges", "with_level_intervals", "series_level_uncertainty", "LEVELS_NOT_KNOWN",
+           "plan_series_uncertainty", "fit_with_levels", "LEVEL_VOLUME"]

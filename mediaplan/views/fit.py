@@ -28,6 +28,12 @@ def fit_text(fit) -> str:
               if f.osmolality_ci95_mosmol_per_kg else "")
     lines.append(f"  cell sap                {f.osmotic_potential_mpa:.4g} MPa osmotic potential = "
                  f"{f.osmolality_50_mosmol_per_kg:.4g} mOsm/kg{osm_ci} at {f.temperature_c:g} °C")
+    if f.ci95_with_levels_mpa:
+        from mediaplan.tasks.uncertainty import Z95
+
+        lo, hi = f.ci95_with_levels_mpa
+        lines.append(f"  with the levels' error  95 % CI {lo:.4g} to {hi:.4g} MPa (levels ± {Z95 * f.level_sd_mpa:.2g} MPa "
+                     "at the 50 % point, combined in quadrature)")
     lines.append(f"  curve                   {f.link}(p) = {f.intercept:.4g} + ({f.slope_per_mpa:.4g}) × ψ [MPa]")
     lines.append("")
     lines.append("Goodness of fit")

@@ -87,13 +87,13 @@ def run(args) -> int:
     except MediaplanError as exc:
         raise located_in_plan(exc, plan, catalog) from None
     proj = projection_from(args, plan, recipe, catalog, ref, tol)
-    from mediaplan.tasks.uncertainty import budget
+    from mediaplan.tasks.uncertainty import with_budget
 
-    bud = budget(recipe, catalog, tolerances=tolerances_from(args), evaluation=ev)
+    ev = with_budget(ev, recipe, catalog, tolerances=tolerances_from(args))
+    bud = ev.budget
     reads = (getattr(args, "plan", None),)
     if args.json:
         d = ev.to_dict()
-        d.update(bud.to_dict())
         d["notes"] = notes
         d["title"] = plan.title if plan else None
         if proj is not None:

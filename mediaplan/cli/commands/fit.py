@@ -53,6 +53,24 @@ def load_counts(args, catalog):
     return None, read_counts_csv(path, osmoticum=args.osmoticum, background=background, catalog=catalog)
 
 
+def levels_uncertainty(args, plan, catalog):
+    """psi [MPa] -> standard uncertainty [MPa] of a level made at psi, for the series behind the counts (the
+    plan's [series], or --with in --base); None when the osmoticum is not known."""
+    from mediaplan.medium.recipe import Recipe
+    from mediaplan.tasks.uncertainty import LEVEL_VOLUME, plan_series_uncertainty, series_level_uncertainty
+
+    if plan is not None:
+        return plan_series_uncertainty(plan.series, plan.recipe, catalog)
+    changes = {"volume": LEVEL_VOLUME}
+    if args.base:
+        changes["base"] = catalog.medium(args.base, field="--base").id
+    if args.strength is not None:
+        changes["strength"] = args.strength
+    if args.temperature:
+        changes["temperature"] = args.temperature
+    return series_level_uncertainty(args.osmoticum, Recipe(**changes), catalog)
+
+
 def save_plot(fit, out: str, *, force: bool = False, reads: tuple = ()) -> str:
     """Write the curve as SVG or PNG (by extension) through the one safe write path (a new file unless
     ``force``; never one the command reads)."""
@@ -102,12 +120,13 @@ def write_cells(fit, target: str, counts_plan, catalog, notes: list[str] | None 
 
 def run(args) -> int:
     from mediaplan.cli.common import note
-    from mediaplan.tasks.plasmolysis import fit_counts
     from mediaplan.views.safe_text import one_line
 
     catalog = catalog_from(args)
     plan, counts = load_counts(args, catalog)
-    fit = fit_counts(counts, args.link)
+    from mediaplan.tasks.uncertainty import fit_with_levels
+
+    fit = fit_with_levels(counts, args.link, catalog, levels=levels_uncertainty(args, plan, catalog))
     saved = []
     said: list[str] = []
     if args.plot:

@@ -91,21 +91,20 @@ def run(args) -> int:
 
     catalog = catalog_from(args)
     plan, recipe, design = build_design(args, catalog)
-    from mediaplan.tasks.uncertainty import level_budgets, level_potential_intervals
-
-    intervals = level_potential_intervals(design, level_budgets(design, recipe, catalog)) if not args.csv else None
     if args.json:
-        d = design.to_dict()
-        for lv, iv in zip(d["levels"], intervals, strict=True):
-            lv["water_potential_interval_mpa"] = iv.to_list() if iv is not None else None
-        d["uncertainty"] = {"level": 0.95, "method": "each level's budget as made by weight (tasks.uncertainty): "
-                                                     "linearised, sources independent, value ± 1.96 sd"}
-        print_json(d)
+        from mediaplan.tasks.uncertainty import with_level_intervals
+
+        print_json(with_level_intervals(design, recipe, catalog).to_dict())
     else:
         from mediaplan.files.output import write_output
         from mediaplan.views.series import design_csv, design_text
 
-        write_output(design_csv(design) if args.csv else design_text(design, intervals))
+        if args.csv:
+            write_output(design_csv(design))
+        else:
+            from mediaplan.tasks.uncertainty import with_level_intervals
+
+            write_output(design_text(design, with_level_intervals(design, recipe, catalog).level_intervals))
     if args.write:
         if plan is None:
             plan = Plan(recipe=recipe, title=f"Plasmolysis series: {design.osmoticum} in {design.background}")

@@ -69,10 +69,9 @@ def run(args) -> int:
     tol = cell_tolerance(args.tolerance, plan.cells)
     sol = solve_target(recipe, catalog, spec, args.osmotica, ratio=_ratio(args.ratio), hold=_hold(args.hold),
                        cell_reference_mosmol=ref, isotonic_tolerance=tol)
-    from mediaplan.tasks.uncertainty import budget, solve_ranges
+    from mediaplan.tasks.uncertainty import with_ranges
 
-    bud = budget(sol.recipe, catalog, evaluation=sol.evaluation)
-    ranges = solve_ranges(sol, catalog, budget_of_result=bud)
+    sol = with_ranges(sol, catalog)
     written = None
     said: list[str] = []
     if args.write and sol.status != "too_concentrated":
@@ -93,17 +92,13 @@ def run(args) -> int:
         written = planfile.write(new, out, force=args.force, catalog=catalog, notes=said)
     if args.json:
         d = sol.to_dict()
-        bd = bud.to_dict()
-        d["result"].update({k: v for k, v in bd.items() if k != "uncertainty"})
-        d["addition_ranges"] = [r.to_dict() for r in ranges]
-        d["uncertainty"] = bd["uncertainty"]
         d["written"] = str(written) if written else None
         print_json(d)
     else:
         from mediaplan.files.output import write_output
         from mediaplan.views.solve import solution_text
 
-        write_output(solution_text(sol, budget=bud, ranges=ranges))
+        write_output(solution_text(sol, budget=sol.budget, ranges=sol.ranges))
         if written:
             print("\n" + one_line(f"written: {written}"))
         elif args.write:

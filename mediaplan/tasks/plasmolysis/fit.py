@@ -9,6 +9,15 @@ replaces the normal one (Finney 1971). At psi50 turgor is taken as zero, so the 
 potential equals the solution's water potential; its osmolality follows from
 :mod:`mediaplan.thermo.potential` at the series temperature.
 
+The levels' own uncertainty (their water potentials as made, :mod:`mediaplan.tasks.uncertainty`) is
+carried into the 50 % point when the caller gives it (``level_uncertainty``): its standard uncertainty
+at psi50, u_L, is taken as wholly shared by the levels around psi50 (the model's error and a
+misread temperature move every level together, so psi50 moves with them; the weighing of each level is
+independent and would partly average out, so this is conservative), independent of the counts'
+sampling error. Each side of the Fieller interval is combined with it in quadrature:
+psi50 - sqrt((psi50 - lower)^2 + (z u_L)^2) to psi50 + sqrt((upper - psi50)^2 + (z u_L)^2), z the
+interval's own critical value.
+
 References
 ----------
 Fieller EC (1954) Some problems in interval estimation. J R Stat Soc B 16:175-185.
@@ -20,11 +29,12 @@ Albert A, Anderson JA (1984) Biometrika 71:1-10 (existence of the logistic MLE; 
 from __future__ import annotations
 
 import math
+from collections.abc import Callable, Sequence
 from dataclasses import asdict, dataclass, field
 
 import numpy as np
 
-from mediaplan.medium.errors import FitError
+from mediaplan.medium.errors import FitError, MediaplanError
 from mediaplan.medium.evaluate import finite
 from mediaplan.tasks.plasmolysis.counts import Counts
 from mediaplan.tasks.plasmolysis.glm import check_link, fit_glm, separation
@@ -63,6 +73,11 @@ class PlasmolysisFit:
     rows: list[dict]
     warnings: list[str] = field(default_factory=list)
     notes: list[str] = field(default_factory=list)
+    #: standard uncertainty of the levels' water potential at the 50 % point [MPa] (None: not given)
+    level_sd_mpa: float | None = None
+    #: the 95 % interval with the levels' uncertainty combined (None: not given, or unbounded) [MPa]
+    ci95_with_levels_mpa: list[float] | None = None
+    osmolality_ci95_with_levels_mosmol_per_kg: list[float] | None = None
 
     @property
     def coef(self) -> np.ndarray:
@@ -99,8 +114,16 @@ def fieller_interval(b0: float, b1: float, V: np.ndarray, q: float) -> tuple[flo
     return (float((-bh - r) / a), float((-bh + r) / a))
 
 
+def combine_with_levels(psi50: float, ci: Sequence[float], level_sd: float, q: float) -> list[float]:
+    """The interval ``ci`` of psi50 [MPa] with the levels' standard uncertainty ``level_sd`` [MPa]
+    combined in quadrature on each side, at critical value q."""
+    lo, hi = min(ci), max(ci)
+    w = q * level_sd
+    return [psi50 - math.hypot(psi50 - lo, w), psi50 + math.hypot(hi - psi50, w)]
+
+
 def fit_counts(counts: Counts, link: str = "logit", *, temperature_k: float | None = None,
-               alpha: float = 0.05) -> PlasmolysisFit:
+               alpha: float = 0.05, level_uncertainty: Callable[[float], float] | None = None) -> PlasmolysisFit:
     """Fit counts and find the incipient plasmolysis point with its interval.
 
     Parameters
@@ -109,6 +132,9 @@ def fit_counts(counts: Counts, link: str = "logit", *, temperature_k: float | No
     link : ``logit`` or ``probit``
     temperature_k : series temperature [K] for potential -> osmolality (default: the counts', else 25 °C)
     alpha : 1 - confidence level of the interval
+    level_uncertainty : psi [MPa] -> standard uncertainty [MPa] of a level's water potential made at psi
+        (:func:`mediaplan.tasks.uncertainty.level_uncertainty`), carried into the interval (see the
+        module's notes); None leaves the counts' interval alone
 
     Raises
     ------
@@ -166,6 +192,19 @@ def fit_counts(counts: Counts, link: str = "logit", *, temperature_k: float | No
     if not -3.5 <= psi50 <= -0.3:
         warnings.append(f"{psi50:.3g} MPa is outside the usual range of cell sap (about -0.6 to -3.0 MPa): "
                         "check the units of the level column")
+    level_sd = ci_levels = osm_ci_levels = None
+    if level_uncertainty is not None and math.isfinite(psi50) and psi50 < 0:
+        try:
+            sd = float(level_uncertainty(psi50))
+        except MediaplanError as exc:  # psi50 beyond what the osmoticum reaches: no level made there
+            sd = math.nan
+            warnings.append(f"the levels' own uncertainty is not included: {exc.message}")
+        if math.isfinite(sd):
+            level_sd = sd
+            if ci is not None:
+                ci_levels = combine_with_levels(psi50, ci, sd, q)
+                osm_ci_levels = sorted(float(potential.osmolality_from_potential(v * 1e6, T)) * 1000.0
+                                       for v in ci_levels)
     rows = [{"water_potential_mpa": float(xi), "plasmolysed": int(yi), "total": int(ni),
              "observed": float(yi / ni), "fitted": float(mi)} for xi, yi, ni, mi in zip(x, y, n, g.mu, strict=True)]
     return PlasmolysisFit(
@@ -175,7 +214,8 @@ def fit_counts(counts: Counts, link: str = "logit", *, temperature_k: float | No
         pearson_chi2=g.pearson_chi2, df=df, deviance_p=deviance_p, pearson_p=pearson_p, heterogeneity=het,
         overdispersed=overdispersed, widened=overdispersed, n_levels=counts.n_levels, n_rows=int(x.size),
         cells=int(n.sum()), iterations=g.iterations, source=file, rows=rows, warnings=warnings,
-        notes=list(counts.notes))
+        notes=list(counts.notes), level_sd_mpa=level_sd, ci95_with_levels_mpa=ci_levels,
+        osmolality_ci95_with_levels_mosmol_per_kg=osm_ci_levels)
 
 
 def _separation_message(sep: tuple[str, float, float]) -> str:
