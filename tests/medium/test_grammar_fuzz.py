@@ -30,6 +30,7 @@ from mediaplan.medium.units import (
     measure,
     normalise,
     parse_amount,
+    parse_fraction,
     parse_target,
     parse_temperature,
     parse_volume,
@@ -368,6 +369,25 @@ def test_a_cell_reference_in_osmoles_is_read_as_written(number, unit):
         assert got == pytest.approx(mosm, rel=1e-12)
     else:
         assert got is None
+
+
+# ---- fractions (water loss, isotonic band) --------------------------------------------------------
+
+
+@FUZZ
+@given(signs, numbers(max_int=3), st.sampled_from(["", " %", "%", "\u00a0%", "\u202f%"]),
+       st.sampled_from([1.0, 0.5]))
+@example(("\u2212", -1.0), ("10", 10.0), " %", 1.0)  # −10 % is refused, never read as 10 %
+def test_a_fraction_is_the_number_or_its_percent(sign, number, percent, upper):
+    (s, sgn), (digits, value) = sign, number
+    text = f"{s}{digits}{percent}"
+    expected = sgn * value / (100.0 if percent else 1.0)
+    assume(_clear_of(expected, 0.0, upper))
+    got = _read(lambda t: parse_fraction(t, field="projection.water_loss", upper=upper), text)
+    if 0 <= expected <= upper:
+        assert got == pytest.approx(expected, rel=1e-12, abs=1e-15), text
+    else:
+        assert got is None, (text, got)
 
 
 # ---- stock factors ----------------------------------------------------------------------------------
