@@ -349,10 +349,9 @@ def _variants(lines: list[Line], catalog: Catalog, stocks: list[tuple[str, list[
                 ratio = c.molar_mass / o.molar_mass  # moles of the substance per mole planned
                 s = ones.copy()
                 s[i] = ratio
-                what = ("anhydrous" if o.hydrate_water == 0 else o.display) if o.hydrate_water < c.hydrate_water \
-                    else o.display
+                what = _name(o)
                 out.append(_Variant("hydrate", [c.id, o.id], ratio,
-                                    f"{what} ({o.id}) weighed at the mass planned for {c.display}: "
+                                    f"{what[:1].upper()}{what[1:]} weighed at the mass planned for {c.display}: "
                                     f"{abs(ratio - 1) * 100:.0f} % {'more' if ratio > 1 else 'less'} of the substance.",
                                     s, PLAUSIBILITY["hydrate"]))
     index = {ln.component.id: i for i, ln in enumerate(lines)}
