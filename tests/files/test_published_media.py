@@ -194,3 +194,13 @@ def test_atoms_and_molar_masses_of_the_comparison():
     assert _anhydrous("MnSO4·4H2O") == _anhydrous("MnSO4·H2O") == _atoms("MnSO4")
     assert _anhydrous("C8H11NO3·HCl") == _atoms("C8H12ClNO3")
     assert _atoms("C12H22O11 (sucrose)") == _atoms("C12H22O11")
+
+
+def test_a_hydrate_other_than_the_catalogs_is_matched_by_moles(bundled):
+    """The shared data's MS note: 22.3 mg/L MnSO4·4H2O '= 16.9 mg/L MnSO4·H2O (vendor formulas use the
+    monohydrate)'. A transcription in the monohydrate finds the catalog's tetrahydrate line, same moles."""
+    monohydrate = {"name": "manganese sulfate monohydrate", "formula": "MnSO4·H2O", "mg_per_L": 16.9}
+    ((line, same_form),) = _candidates(bundled, bundled.medium("ms1962").lines, monohydrate)
+    assert (line.component, same_form) == ("manganese_sulfate_tetrahydrate", False)
+    mmol = line.amount.value * 1000.0 / _molar_mass(bundled.components[line.component].formula)
+    assert mmol == pytest.approx(16.9 / _molar_mass("MnSO4·H2O"), rel=0.025)  # rounding of 16.9 and 22.3
