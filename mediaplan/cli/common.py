@@ -142,7 +142,7 @@ FLAG_OF_FIELD = {
     "ratio": "--ratio", "hold": "--hold", "link": "--link", "format": "--format", "trust": "--trust",
     "series.first": "--from", "series.last": "--to", "series.step": "--step", "series.steps": "--steps",
     "series.stock": "--stock", "batch_volume": "--volume", "stock_volume": "--stock-volume",
-    "stock_factor": "--factor", "form": "--form", "force": "--force",
+    "stock_factor": "--factor", "form": "--form", "ph": "--ph", "force": "--force",
     "balance_readability": "--readability", "volume_tolerance": "--volume-tolerance",
     "instrument": "--instrument", "chamber_temperature": "--chamber", "repeatability": "--repeatability",
     "reading.date": "--date", "reading.record": "--record", "standards": "NOMINAL=DISPLAYED",

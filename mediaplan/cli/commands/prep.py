@@ -65,6 +65,7 @@ def run(args) -> int:
     from mediaplan.files.output import write_output
     from mediaplan.files.sharing import provenance_of, shadow_notes
     from mediaplan.tasks.prep import build_sheet, parse_factors, parse_pairs
+    from mediaplan.tasks.prep.options import parse_ph
     from mediaplan.views.export import prep_sheet
 
     plan, recipe, catalog, notes = load(args)
@@ -73,7 +74,8 @@ def run(args) -> int:
         recipe.check_plausible(catalog)
         sheet = build_sheet(recipe, catalog, volume=args.volume, stocks=args.stocks,
                             forms=parse_pairs(args.form, "--form"), factors=parse_factors(args.factor),
-                            stock_volume=args.stock_volume, title=plan.title if plan else None, ph=args.ph)
+                            stock_volume=args.stock_volume, title=plan.title if plan else None,
+                            ph=parse_ph(args.ph))
     except MediaplanError as exc:
         raise located_in_plan(exc, plan, catalog) from None
     sheet.provenance = provenance_of(recipe, catalog)
