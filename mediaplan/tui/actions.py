@@ -57,6 +57,9 @@ ACTIONS: tuple[UserAction, ...] = (
                "Notes on the figures in plain words, or with the models' details", rank=45),
     UserAction("compare", "v", "compare_plans", "Compare", "Compare with another plan…",
                "The open plan beside another plan file: figures, settings and components that differ", rank=47),
+    UserAction("reading", "g", "osmometer_reading", "Reading", "Check an osmometer reading of a batch",
+               "Compare what the osmometer displayed for a batch with the plan: verdict, interval, likely slips; "
+               "record it in the plan", where="app", show=False, rank=48),
     UserAction("prep", "m", "prep_sheet", "Prep", "Preparation sheet for a batch",
                "What to weigh for a batch volume, with or without stock solutions", rank=10),
     UserAction("undo", "u,ctrl+z", "undo", "Undo", "Undo the last change", "Undo the last change", key_display="u",

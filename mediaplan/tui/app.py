@@ -140,7 +140,7 @@ class MediaplanApp(App):
 
     # ---- file actions -------------------------------------------------------------------------
     def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
-        if action in ("save", "save_as", "open_plan", "new_plan"):
+        if action in ("save", "save_as", "open_plan", "new_plan", "osmometer_reading"):
             return isinstance(self.screen, MainScreen)
         return True
 
@@ -211,6 +211,11 @@ class MediaplanApp(App):
             self._replace_session(Session.new(self.catalog))
 
         self._if_saved(fresh)
+
+    def action_osmometer_reading(self) -> None:
+        from mediaplan.tui.screens.reading import ReadingScreen
+
+        self.push_screen(ReadingScreen(self.session), lambda _: self.main.refresh_all())
 
     def action_help(self) -> None:
         from mediaplan.tui.screens.help import HelpScreen

@@ -26,6 +26,9 @@ APP_LABELS: dict[str, str] = {
     # plasmolysis screen (p)
     "series.first": "first ψ", "series.last": "last ψ", "series.steps": "levels",
     "link": "link (l: logit or probit)",
+    # osmometer reading (g)
+    "reading": "reading", "instrument": "instrument", "chamber_temperature": "chamber",
+    "repeatability": "repeatability", "calibration": "calibration",
     # projection dialog (w: after autoclaving and culture)
     "projection": "projection", "projection.autoclave_hydrolysis": "sucrose hydrolysed",
     "projection.water_loss_per_week": "water lost per week", "projection.water_loss": "water lost per week",
