@@ -36,6 +36,7 @@ from mediaplan.medium.evaluate import Evaluation, evaluate, finite
 from mediaplan.medium.model import MIN_FREE_VOLUME, MediumModel, compiled
 from mediaplan.medium.recipe import Line, Recipe
 from mediaplan.medium.units import measure, parse_temperature
+from mediaplan.tasks.uncertainty import budget
 from mediaplan.thermo import potential
 from mediaplan.thermo.constants import T0
 
@@ -228,29 +229,19 @@ class Prediction:
         return (self.high - self.low) / 2.0 / self.value if self.value > 0 else 0.0
 
 
-#: TEMPORARY (until tasks/uncertainty.py lands): the model's relative error of an osmolality at 95 %
-#: [-] (from memory, unverified: ZSR with Pitzer reproduces measured osmolalities of mixed salt and sugar
-#: solutions to a few per cent; Stokes & Robinson 1966, J Phys Chem 70:2126)
-_FALLBACK_MODEL_ERROR = 0.03
-
-
 def predict(recipe: Recipe, catalog: Catalog, instrument: Instrument) -> Prediction:
-    """The instrument's predicted reading of a recipe with the model's 95 % interval [mOsm/kg]."""
+    """The instrument's predicted reading of a recipe with the 95 % interval of the uncertainty budget
+    (:func:`mediaplan.tasks.uncertainty.budget`: model error, weighing, volume, temperature) [mOsm/kg]:
+    its ``osmometer`` interval for a freezing-point osmometer, its ``osmolality`` interval at the chamber
+    temperature for a vapour-pressure one."""
     at = recipe
     if instrument.kind == "vapour-pressure" and instrument.chamber_temperature_k is not None:
         at = recipe.with_settings(temperature=f"{instrument.chamber_temperature_k - T0:.6g} degC")
     ev = evaluate(at, catalog)
     value = ev.osmometer_mosmol_per_kg if instrument.kind == "freezing-point" else ev.osmolality_mosmol_per_kg
-    try:
-        from mediaplan.tasks.uncertainty import budget  # type: ignore[import-not-found]
-    except ImportError:  # TEMPORARY fallback until the uncertainty budget lands
-        half = _FALLBACK_MODEL_ERROR * value
-        return Prediction(value, value - half, value + half, at, ev,
-                          "model error ±3 % (temporary stated value, from memory)")
     b = budget(at, catalog, evaluation=ev)
-    iv = b.osmometer if instrument.kind == "freezing-point" else b.osmolality
-    scale = value / iv.value if iv.value else 1.0
-    return Prediction(value, iv.low * scale, iv.high * scale, at, ev, "uncertainty budget")
+    iv = b.osmometer if instrument.kind == "freezing-point" else b.osmolality  # centred on the evaluation's value
+    return Prediction(value, iv.low, iv.high, at, ev, "uncertainty budget")
 
 
 def combined_interval(pred: Prediction, instrument: Instrument, value: float | None = None) -> tuple[float, float]:
