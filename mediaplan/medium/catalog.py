@@ -152,9 +152,8 @@ class Component:
                 return Saturation(None, None, None, T, note=(
                     f"the solubility of {self.name} is tabulated only from {celsius(lo)} to {celsius(hi)}"),
                     from_memory=False)
-            for a, b in zip(rows, rows[1:] or rows, strict=False):
-                if T <= b.temperature_k + 1e-6:
-                    break
+            k = next((i for i in range(1, len(rows)) if rows[i].temperature_k + 1e-6 >= T), len(rows) - 1)
+            a, b = rows[max(k - 1, 0)], rows[k]
             if b.temperature_k == a.temperature_k:
                 g, mem = a.g_per_100g_water, a.from_memory
             else:
@@ -168,6 +167,25 @@ class Component:
             f"only the solubility of {self.name} at 25 °C is known")
         mem = "from memory" in (self.sources.get("solubility") or "")
         return Saturation(self.solubility * 10.0 / M, self.solubility, SOLUBILITY_T_K, T, note=note, from_memory=mem)
+
+    def soluble_at(self, T: float) -> tuple[Component, str]:
+        """This component with ``solubility`` set to its figure at T [K] (what :meth:`Sweep.limit
+        <mediaplan.medium.model.Sweep.limit>` reads), and where that figure holds in words (``at 4 °C``).
+        Outside its table the nearest tabulated end is used and named as such; without a table the 25 °C
+        figure is, and named too. Nothing is extrapolated silently."""
+        from dataclasses import replace
+
+        sat = self.saturation_at(T)
+        if sat.at_asked:
+            return replace(self, solubility=sat.g_per_100g_water), f"at {celsius(T)}"
+        rows = self.solubility_table
+        if rows:
+            end = rows[0] if rows[0].temperature_k > T else rows[-1]
+            return (replace(self, solubility=end.g_per_100g_water),
+                    f"at {celsius(end.temperature_k)}, the nearest tabulated temperature to {celsius(T)}")
+        if sat.molality is not None:
+            return self, f"at 25 °C (only a 25 °C figure is known; asked at {celsius(T)})"
+        return self, ""
 
     def saturation_molality_at(self, T: float) -> float | None:
         """[mol/kg water] at saturation at temperature T [K], or None when the catalog has no figure that

@@ -270,7 +270,7 @@ def _figure(c, T: float) -> tuple[float, str, float] | None:
     rows = c.solubility_table
     if not rows:
         return None
-    end = rows[0] if T < rows[0].temperature_k else rows[-1]
+    end = rows[0] if rows[0].temperature_k > T else rows[-1]
     near = c.saturation_at(end.temperature_k)
     if near.molality is None:
         return None

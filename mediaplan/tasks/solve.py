@@ -48,7 +48,7 @@ from __future__ import annotations
 import math
 import re
 from collections.abc import Callable, Mapping, Sequence
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field
 from typing import Literal
 
 from mediaplan.medium import roots
@@ -586,7 +586,7 @@ def solve_target(recipe: Recipe, catalog: Catalog, target: TargetSpec | str, osm
                         reduction=red, message=msg, _start=start_ev, **common)
     # ---- bracket: solubility and volume ---------------------------------------------------
     path = s.path
-    capped = {c.id: _soluble_at(c, T_sol) for c in s.free}
+    capped = {c.id: c.soluble_at(T_sol) for c in s.free}
     limit = path.sweep.limit([cc for cc, _ in capped.values()])
     x_cap = limit.x
     limit_note = ("the space left for water" if limit.component is None else
@@ -625,23 +625,6 @@ def _solubility_temperature(recipe: Recipe) -> tuple[float, str]:
     if T_store is not None and T_store < T - 1e-9:
         return T_store, f", the plan's storage temperature (colder than the culture at {celsius(T)})"
     return T, ", the culture temperature" if T_store is None else ", the culture temperature (stored no colder)"
-
-
-def _soluble_at(c: Component, T: float) -> tuple[Component, str]:
-    """The component with its solubility at T [K] (for :meth:`Sweep.limit`) and where that figure holds in
-    words: at T when the catalog's table covers it; otherwise the 25 °C figure, or the table's end nearest T,
-    named as such (nothing is extrapolated)."""
-    sat = c.saturation_at(T)
-    if sat.at_asked:
-        return replace(c, solubility=sat.g_per_100g_water), f"at {celsius(T)}"
-    rows = c.solubility_table
-    if rows:
-        end = rows[0] if T < rows[0].temperature_k else rows[-1]
-        return (replace(c, solubility=end.g_per_100g_water),
-                f"at {celsius(end.temperature_k)}, the nearest tabulated temperature to {celsius(T)}")
-    if sat.molality is not None:
-        return c, f"at 25 °C (only a 25 °C figure is known; asked at {celsius(T)})" if not sat.at_asked else ""
-    return c, ""
 
 
 def _plain_path(recipe: Recipe, catalog: Catalog) -> _Path:

@@ -36,7 +36,11 @@ def design_text(design, intervals=None) -> str:
         rows.append(r)
     lines += text_table([Column(h, RIGHT) for h in head], rows, rule="─")
     lines.append("")
-    lines.append(f"By weight: dissolve the grams of {d.osmoticum} in the background and make up to {vol}.")
+    lines.append(getattr(d, "preparation_text", "") or
+                 f"By weight: dissolve the grams of {d.osmoticum} in the background and make up to {vol}.")
+    per_bg = [lv.grams_per_litre_of_background for lv in d.levels if getattr(lv, "grams_per_litre_of_background", None)]
+    if per_bg:
+        lines.append("  grams per litre of background, by level: " + ", ".join(f"{g:.3f}" for g in per_bg))
     if d.stock is not None:
         s = d.stock
         lines.append(f"By dilution: stock {s.amount} {d.osmoticum} in the background ({s.grams_per_litre:.2f} g/L, "
@@ -45,6 +49,12 @@ def design_text(design, intervals=None) -> str:
                      "background in all.")
         lines.append("  Volumes come from the water content of stock and diluent (not C1V1 = C2V2); the mixture "
                      f"makes {vol} after volume change on mixing.")
+        sat = [f"{s.saturation_percent:.0f} % of saturation at {d.temperature_c:g} °C"
+               if getattr(s, "saturation_percent", None) is not None else None,
+               f"{s.storage_saturation_percent:.0f} % at {s.storage_temperature_c:g} °C (storage)"
+               if getattr(s, "storage_saturation_percent", None) is not None else None]
+        if any(sat):
+            lines.append("  Stock: " + ", ".join(x for x in sat if x) + ".")
     if intervals is not None:
         lines.append("± MPa: 95 % interval of each level as made by weight (model, weighing for the level's volume, "
                      "making up to volume, temperature)")

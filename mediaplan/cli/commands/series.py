@@ -22,6 +22,10 @@ def add_arguments(p) -> None:
     p.add_argument("--steps", type=int, default=8, metavar="N", help="number of levels (default 8)")
     p.add_argument("--volume", metavar="V", help=f'volume of each level, e.g. "50 mL" (default {DEFAULT_VOLUME} or '
                                                 "the plan's volume)")
+    p.add_argument("--preparation", choices=("in-background", "weighed-together"), default="in-background",
+                   help="how each level is made: the osmoticum dissolved in the ready-made background and made up "
+                        "to volume with it (default), or the background's components and the osmoticum weighed "
+                        "together and made up to volume with water")
     p.add_argument("--stock", metavar="AMOUNT",
                    help='also give volumes of a stock of the osmoticum in the background, e.g. "1 mol/kg"')
     out = p.add_mutually_exclusive_group()
@@ -76,7 +80,8 @@ def build_design(args, catalog):
                               hint='e.g. --from "-0.2 MPa" --to "-1.6 MPa" --steps 8, or --around and --step')
         psi = potentials_between(_potential(args.start, "--from", T), _potential(args.stop, "--to", T), args.steps)
         spacing = f"{args.steps} levels evenly spaced in water potential from {args.start} to {args.stop}"
-    design = design_series(recipe, args.osmoticum, psi, catalog=catalog, stock=args.stock, spacing=spacing)
+    design = design_series(recipe, args.osmoticum, psi, catalog=catalog, stock=args.stock, spacing=spacing,
+                           preparation=getattr(args, "preparation", "in-background").replace("-", "_"))
     return plan, recipe, design
 
 

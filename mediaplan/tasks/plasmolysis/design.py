@@ -4,9 +4,18 @@ Levels evenly spaced in water potential (not in concentration). For each level t
 amount that brings the background (water, a buffer or a medium) to that potential is found with
 the full non-ideal model (the background plus the osmoticum as a :class:`~mediaplan.medium.model.Sweep`,
 ZSR mixing) and the root finder the solver uses too (:mod:`mediaplan.medium.roots`).
-Preparation is given by weight (osmoticum per litre of finished solution, everything made up
-to volume) and, when a stock is named, as volumes of stock and diluent. The stock is the
-osmoticum dissolved in the background; the diluent is the background. The mixture's composition
+Preparation is stated, and the levels are computed for exactly that preparation (``PREPARATIONS``):
+
+- ``in_background`` (the default): the osmoticum is dissolved in the ready-made background (water, a buffer or
+  a medium) and made up to volume with the same background. The background keeps its own composition per kg
+  of water; each level's grams per litre are of the finished solution, and ``grams_per_litre_of_background``
+  gives the same solution made by adding the osmoticum to a measured volume of the background.
+- ``weighed_together``: the background's components and the osmoticum are weighed into one flask and made
+  up to volume with water, so the background is at its nominal amount per litre of each level.
+
+In water the two are the same. When a stock is named, the levels are also given as volumes of stock and
+diluent. The stock is the osmoticum in the background (as the preparation says); the diluent is the
+background. The mixture's composition
 per kg of water follows from the water content per litre of stock and diluent (the model's
 solution density), not from C1V1 = C2V2; the mixing ratio is solved (brentq) so that the mixture
 has the level's water potential, which in water means the level's osmoticum molality exactly.
@@ -36,6 +45,14 @@ _XTOL = 1e-10
 _RTOL = 4 * np.finfo(float).eps
 #: error hint when a level lies beyond what the model reaches
 _HINT_LEVEL = "choose a less negative level"
+#: how the levels are made: name -> what it means (the design computes exactly the one it names)
+PREPARATIONS = {
+    "in_background": "the osmoticum dissolved in the ready-made background and made up to volume with it",
+    "weighed_together": "the background's components and the osmoticum weighed together and made up to volume "
+                        "with water (the background at its nominal amount per litre of each level)",
+}
+#: temperature [K] a stock is taken to be kept at when the background states none (common practice: 4 °C)
+DEFAULT_STORAGE_K = 277.15
 
 
 def potentials_between(start: float, stop: float, steps: int) -> np.ndarray:
@@ -85,6 +102,7 @@ class SeriesLevel:
     water_kg_per_l: float
     stock_ml: float | None = None
     diluent_ml: float | None = None
+    grams_per_litre_of_background: float | None = None  # osmoticum per litre of background taken (in_background)
 
     @property
     def amount(self) -> Amount:
@@ -104,6 +122,9 @@ class StockInfo:
     water_kg_per_l: float
     total_ml: float  # stock needed for the whole series
     diluent_total_ml: float
+    saturation_percent: float | None = None  # of the osmoticum's solubility at the series temperature
+    storage_temperature_c: float | None = None  # where the stock is kept (the background's, or 4 °C)
+    storage_saturation_percent: float | None = None  # of the solubility there (None: not known there)
 
 
 @dataclass
@@ -120,6 +141,8 @@ class SeriesDesign:
     levels: list[SeriesLevel]
     stock: StockInfo | None = None
     warnings: list[str] = field(default_factory=list)
+    preparation: str = "in_background"
+    preparation_text: str = ""
 
     def to_dict(self) -> dict:
         d = asdict(self)
@@ -156,7 +179,8 @@ class _Background:
     """The background compiled with one osmoticum: ``sweep`` is the background plus x mol of osmoticum
     per m^3 of solution (component ``k`` of the model)."""
 
-    def __init__(self, background: Recipe, osmoticum: Component, catalog: Catalog) -> None:
+    def __init__(self, background: Recipe, osmoticum: Component, catalog: Catalog,
+                 preparation: str = "in_background") -> None:
         lines = background.lines(catalog)
         #: amount of the same substance already in the background (the levels add to it), or None
         self.already = next((ln.amount.text for ln in lines if ln.component.id == osmoticum.id or (
@@ -168,6 +192,12 @@ class _Background:
         self.model = compiled(catalog, [ln.component for ln in lines] + [osmoticum], self.T)
         n, b = self.model.amounts_to_arrays([ln.amount for ln in lines] + [Amount(0.0, "molar", "0 mM")])
         self.k = len(lines)
+        #: kg water per litre of the ready-made background
+        self.water_kg_per_l = float(self.model.water(n, b)) / 1000.0
+        if preparation == "in_background" and self.k:
+            # the background as made keeps its molalities: every amount per kg of its water
+            b = n / (self.water_kg_per_l * 1000.0) + b
+            n = np.zeros_like(n)
         dn = np.zeros_like(n)
         dn[self.k] = 1.0
         self.sweep = self.model.along(n, b, dn, np.zeros_like(b))
@@ -179,7 +209,8 @@ class _Background:
 
 
 def design_series(background: Recipe, osmoticum: str, potentials_pa: Sequence[float], *,
-                  catalog: Catalog, stock: str | None = None, spacing: str = "") -> SeriesDesign:
+                  catalog: Catalog, stock: str | None = None, spacing: str = "",
+                  preparation: str = "in_background") -> SeriesDesign:
     """Design a plasmolysis series.
 
     Parameters
@@ -191,13 +222,20 @@ def design_series(background: Recipe, osmoticum: str, potentials_pa: Sequence[fl
     stock : amount of osmoticum in a stock made up in the background (``"1 mol/kg"``, ``"200 g/L"``),
         or None for preparation by weight only
     spacing : description of how the potentials were chosen (kept in the plan file)
+    preparation : how each level is made, one of :data:`PREPARATIONS` (``in_background``: dissolved in the
+        ready-made background and made up to volume with it; ``weighed_together``: the background's
+        components and the osmoticum made up to volume with water)
 
     Raises
     ------
-    InfeasibleError when a level is less negative than the background or beyond what dissolves.
+    InfeasibleError when a level is less negative than the background, lies beyond the osmoticum's
+    solubility at the series temperature, or beyond what the models reach; or when the stock cannot be made.
     """
+    if preparation not in PREPARATIONS:
+        raise AmountError(f"unknown preparation {preparation!r}", field="series.preparation",
+                          hint="one of " + ", ".join(PREPARATIONS))
     comp = catalog.resolve(osmoticum, field="osmoticum").component
-    mixer = _Background(background, comp, catalog)
+    mixer = _Background(background, comp, catalog, preparation)
     T = mixer.T
     psi = np.asarray(potentials_pa, dtype=float)
     y_target = potential.osmolality_from_potential(psi, T)
@@ -209,6 +247,7 @@ def design_series(background: Recipe, osmoticum: str, potentials_pa: Sequence[fl
         raise InfeasibleError(f"level {i + 1} ({psi[i] / 1e6:.4g} MPa) is not more negative than the background "
                               f"itself ({psi_bg / 1e6:.4g} MPa)", field="series.first",
                               hint="start the series below the background's potential, or dilute the background")
+    _refuse_beyond_solubility(mixer, comp, psi, y_target)
     hi = _upper_bound(mixer, float(y_target.max()), psi, comp)
     n_x = roots.increasing_roots(mixer.sweep.osmolality, y_target, 0.0, hi, what="level", hint=_HINT_LEVEL,
                                  xtol=_XTOL, rtol=_RTOL, x_floor=1e-9)
@@ -225,14 +264,84 @@ def design_series(background: Recipe, osmoticum: str, potentials_pa: Sequence[fl
             osmolality_mosmol_per_kg=y * 1000.0, water_activity=float(potential.water_activity(y)),
             molality_mol_per_kg=float(st.molality[i, mixer.k]), molarity_mmol_per_l=float(n_x[i]),
             grams_per_litre=gpl, grams=gpl * vol_l, density_kg_per_l=float(W[i] + solutes[i]) / 1000.0,
-            water_kg_per_l=float(W[i]) / 1000.0))
+            water_kg_per_l=float(W[i]) / 1000.0,
+            grams_per_litre_of_background=(float(st.molality[i, mixer.k]) * M * 1000.0 * mixer.water_kg_per_l
+                                           if preparation == "in_background" and mixer.k else None)))
     design = SeriesDesign(osmoticum=comp.id, osmoticum_name=comp.name, temperature_c=T - T0,
                           volume_ml=round(vol_l * 1000.0, 9), background=describe_background(background),
-                          background_potential_mpa=psi_bg / 1e6 + 0.0, spacing=spacing, levels=levels)
+                          background_potential_mpa=psi_bg / 1e6 + 0.0, spacing=spacing, levels=levels,
+                          preparation=preparation,
+                          preparation_text=preparation_sentence(preparation, design_background(background),
+                                                                comp.id, f"{vol_l * 1000.0:g} mL"))
     if stock is not None:
         _add_stock(design, mixer, stock, y_target, vol_l)
+        _stock_saturation(design, comp, mixer, background)
     design.warnings = _design_warnings(design, comp, mixer)
     return design
+
+
+def design_background(recipe: Recipe) -> str | None:
+    """The background's description, or None when it is water."""
+    text = describe_background(recipe)
+    return None if text == "water" else text
+
+
+def preparation_sentence(preparation: str, background: str | None, osmoticum: str, volume: str) -> str:
+    """How the levels are made, in one sentence (what the design computed)."""
+    if background is None:
+        return f"By weight: dissolve the grams of {osmoticum} in water and make up to {volume} with water."
+    if preparation == "weighed_together":
+        return (f"By weight: weigh the components of {background} and the grams of {osmoticum} together and make "
+                f"up to {volume} with water (the background at its nominal amount per litre of each level).")
+    return (f"By weight: dissolve the grams of {osmoticum} in ready-made {background} and make up to {volume} "
+            f"with the same {background}; or add the grams per litre of background to a measured volume of it "
+            "(the same solution). The background keeps its own composition per kg of water.")
+
+
+def _refuse_beyond_solubility(mixer: _Background, comp: Component, psi: np.ndarray, y_target: np.ndarray) -> None:
+    """A level that needs more of the osmoticum (with what the background holds of the same substance) than
+    dissolves at the series temperature cannot be made: refused, as the solver refuses it, naming the level
+    and the limit (:meth:`Component.soluble_at`: the figure at that temperature, or the nearest one, said)."""
+    capped, where = comp.soluble_at(mixer.T)
+    if capped.solubility is None:
+        return
+    lim = mixer.sweep.limit([capped])
+    if lim.component is None:
+        return
+    y_sat = float(mixer.sweep.osmolality(lim.x)[0])
+    over = np.nonzero(y_target > y_sat * (1 + 1e-9))[0]
+    if not over.size:
+        return
+    i = int(over[0])
+    psi_sat = float(potential.potential_from_osmolality(y_sat, mixer.T)) / 1e6
+    m_sat = capped.saturation_molality
+    raise InfeasibleError(
+        f"level {i + 1} ({psi[i] / 1e6:.4g} MPa) cannot be made with {comp.id}: it needs more than its solubility "
+        f"({capped.solubility:.3g} g/100 g water, {m_sat:.3g} mol/kg {where}); the most negative level that "
+        f"dissolves is {psi_sat:.4g} MPa", field="series.last",
+        hint="choose a less negative last level, or a more soluble osmoticum (sorbitol, sucrose) or PEG")
+
+
+def _stock_saturation(design: SeriesDesign, comp: Component, mixer: _Background, background: Recipe) -> None:
+    """The stock's share of the osmoticum's solubility at the series temperature (refused above it: it
+    cannot be made) and at the storage temperature (the background's, or :data:`DEFAULT_STORAGE_K`)."""
+    s = design.stock
+    m = s.molality_mol_per_kg
+    capped, where = comp.soluble_at(mixer.T)
+    m_sat = capped.saturation_molality
+    if m_sat:
+        if m > m_sat * (1 + 1e-9):
+            raise InfeasibleError(f"the stock ({s.amount}, {m:.3g} mol/kg) is above the solubility of {comp.id} "
+                                  f"({capped.solubility:.3g} g/100 g water, {m_sat:.3g} mol/kg {where}): it cannot "
+                                  "be made", field="series.stock",
+                                  hint="make the stock less concentrated: it need only pass the most negative level")
+        s.saturation_percent = 100.0 * m / m_sat
+    T_store = background.storage_temperature_k
+    T_store = DEFAULT_STORAGE_K if T_store is None else T_store
+    s.storage_temperature_c = T_store - T0
+    m_cold = comp.saturation_molality_at(T_store)
+    if m_cold:
+        s.storage_saturation_percent = 100.0 * m / m_cold
 
 
 def _upper_bound(mixer: _Background, y_max: float, psi: np.ndarray, comp: Component) -> float:
@@ -304,21 +413,22 @@ def _design_warnings(design: SeriesDesign, comp: Component, mixer: _Background) 
                    "recover from plasmolysis and the 50 % point drifts; count quickly or use mannitol or sorbitol")
     elif comp.reflection_coefficient is None and any(":" not in sp and "[" in sp for sp, _ in comp.species):
         out.append(f"{comp.id} is an electrolyte whose ions may enter the cells: plasmolysis can reverse with time")
-    m_sat = comp.saturation_molality
+    capped, where = comp.soluble_at(mixer.T)
+    m_sat = capped.saturation_molality
     if m_sat:
         top = max(lv.molality_mol_per_kg for lv in design.levels)
-        if top > m_sat:
-            out.append(f"the most concentrated level ({top:.3g} mol/kg) is above the solubility of {comp.id} "
-                       f"({m_sat:.3g} mol/kg at 25 °C): it will not dissolve")
-        elif top > 0.8 * m_sat:
-            out.append(f"the most concentrated level is at {100 * top / m_sat:.0f} % of the solubility of {comp.id}: "
-                       "it may crystallise in the cold")
-        if design.stock is not None and design.stock.molality_mol_per_kg > m_sat:
-            out.append(f"the stock ({design.stock.molality_mol_per_kg:.3g} mol/kg) is above the solubility of "
-                       f"{comp.id} ({m_sat:.3g} mol/kg at 25 °C): it will not dissolve")
-        elif design.stock is not None and design.stock.molality_mol_per_kg > 0.8 * m_sat:
+        if top > 0.8 * m_sat:
+            out.append(f"the most concentrated level is at {100 * top / m_sat:.0f} % of the solubility of {comp.id} "
+                       f"{where}: it may crystallise in the cold")
+        if design.stock is not None and design.stock.molality_mol_per_kg > 0.8 * m_sat:
             out.append(f"the stock is at {100 * design.stock.molality_mol_per_kg / m_sat:.0f} % of the solubility of "
-                       f"{comp.id}: keep it warm and check for crystals before use")
+                       f"{comp.id} {where}: keep it warm and check for crystals before use")
+    s = design.stock
+    if s is not None and s.storage_saturation_percent is not None and s.storage_saturation_percent > 100 \
+            and s.storage_temperature_c is not None and s.storage_temperature_c < design.temperature_c:
+        out.append(f"the stock is at {s.storage_saturation_percent:.0f} % of the solubility of {comp.id} at "
+                   f"{s.storage_temperature_c:g} °C: it crystallises if kept there; store it at the series "
+                   "temperature or make it fresh")
     model = mixer.model
     for sp, p in model.neutral_models.items():
         top = max(lv.molality_mol_per_kg for lv in design.levels) if sp in dict(comp.species) else 0
@@ -344,10 +454,11 @@ def describe_background(recipe: Recipe) -> str:
 
 
 def potential_of_amounts(background: Recipe, osmoticum: str, amounts: Sequence[Amount], *,
-                         catalog: Catalog) -> np.ndarray:
-    """Water potential [Pa] of the background with each amount of the osmoticum (one batched model call)."""
+                         catalog: Catalog, preparation: str = "in_background") -> np.ndarray:
+    """Water potential [Pa] of the background with each amount of the osmoticum (one batched model call),
+    made as ``preparation`` says (see :data:`PREPARATIONS`)."""
     comp = catalog.resolve(osmoticum, field="osmoticum").component
-    mixer = _Background(background, comp, catalog)
+    mixer = _Background(background, comp, catalog, preparation)
     model, k = mixer.model, mixer.k
     n = np.tile(mixer.sweep.n0, (len(amounts), 1))
     b = np.tile(mixer.sweep.b0, (len(amounts), 1))
