@@ -119,8 +119,10 @@ def test_counts_that_cannot_be_fitted_name_the_level(catalog, change, message, f
 
 def test_cells_record_feeds_tonicity(catalog):
     plan = planfile.loads(HEAD + '[cells]\npotential = "-0.55 MPa"\ntolerance = "15 %"\n')
-    # -0.55 MPa at 25 °C is 222 mOsm/kg (2.4726 MPa per osmol/kg, potential.py)
-    assert cell_reference(None, plan.cells, 298.15) == pytest.approx(0.55 / 2.4726 * 1000, rel=2e-3)
+    # -0.55 MPa at 25 °C is 222.5 mOsm/kg: R T rho_w = 8.314462618 (CODATA 2018) x 298.15 x 997.0476 kg/m^3
+    # (IAPWS-95, 0.101325 MPa) = 2.47164 MPa per osmol/kg; the engine's water density agrees to 1e-6
+    assert cell_reference(None, plan.cells, 298.15) == pytest.approx(
+        0.55 / (8.314462618 * 298.15 * 997.0476e-6) * 1000, rel=1e-5)
     assert cell_reference(None, plan, 298.15) == cell_reference(None, plan.cells, 298.15)  # a plan holding it
     assert cell_tolerance(None, plan.cells) == pytest.approx(0.15)
     assert cell_reference("300 mOsm/kg", plan.cells, 298.15) == pytest.approx(300.0)  # a typed value wins

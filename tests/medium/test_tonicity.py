@@ -58,8 +58,11 @@ def test_cli_cells_and_tolerance(capsys):
     args = ["calc", "mannitol=0.2 mol/kg", "--cells", "-0.55 MPa", "--json"]
     assert main(args) == 0
     t = json.loads(capsys.readouterr().out)["tonicity"]
-    # -0.55 MPa at 25 °C is 222 mOsm/kg (2.472 MPa per osmol/kg); 0.2 mol/kg mannitol about 201
-    assert t["reference_mosmol_per_kg"] == pytest.approx(0.55 / 2.4726 * 1000, rel=2e-3)
+    # -0.55 MPa at 25 °C is 222.5 mOsm/kg: R T rho_w = 8.314462618 (CODATA 2018) x 298.15 x 997.0476 kg/m^3
+    # (IAPWS-95, 0.101325 MPa) = 2.47164 MPa per osmol/kg; the engine's water density agrees to 1e-6.
+    # 0.2 mol/kg mannitol is about 201 mOsm/kg
+    assert t["reference_mosmol_per_kg"] == pytest.approx(0.55 / (8.314462618 * 298.15 * 997.0476e-6) * 1000,
+                                                         rel=1e-5)
     assert t["class"] == "hypotonic"
     assert main([*args, "--tolerance", "15 %"]) == 0
     assert json.loads(capsys.readouterr().out)["tonicity"]["class"] == "isotonic"

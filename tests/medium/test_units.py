@@ -130,3 +130,7 @@ def test_amount_parser_never_crashes(text):
 def test_amount_parser_numbers(x, unit):
     a = parse_amount(f"{x!r} {unit}")
     assert a.value > 0
+    # the value in the SI unit of its kind: kg/m^3 (= g/L), mol/m^3 (= mM), mol/kg; exact scaling
+    kind, factor = {"mg/L": ("mass_conc", 1e-3), "g/L": ("mass_conc", 1.0), "mM": ("molar", 1.0),
+                    "mol/kg": ("molal", 1.0), "uM": ("molar", 1e-3)}[unit]
+    assert a.kind == kind and a.value == pytest.approx(x * factor, rel=1e-12)
