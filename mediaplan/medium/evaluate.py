@@ -147,7 +147,9 @@ def evaluate(recipe: Recipe, catalog: Catalog, *, cell_reference_mosmol: float |
     density = (W + solute_mass) / 1000.0
     tonicity = None
     if cell_reference_mosmol is not None:
-        tonicity = classify_tonicity(eff * 1000.0, cell_reference_mosmol, isotonic_tolerance)
+        tonicity = classify_tonicity(eff * 1000.0, cell_reference_mosmol, isotonic_tolerance, permeants={
+            r.id: (r.reflection_coefficient, r.osmolality_mosmol_per_kg) for r in results
+            if r.reflection_coefficient is not None and r.reflection_coefficient < 1})
     ev = Evaluation(
         temperature_c=T - T0, volume_l=recipe.volume_m3 * 1000.0, base=recipe.base, strength=recipe.strength,
         components=results, osmolality_mosmol_per_kg=y * 1000.0, osmolality_ideal_mosmol_per_kg=ideal * 1000.0,
@@ -165,7 +167,8 @@ def evaluate(recipe: Recipe, catalog: Catalog, *, cell_reference_mosmol: float |
     return ev
 
 
-def classify_tonicity(effective_mosmol: float, reference_mosmol: float, tolerance: float) -> dict:
+def classify_tonicity(effective_mosmol: float, reference_mosmol: float, tolerance: float, *,
+                      permeants: dict[str, tuple[float, float]] | None = None) -> dict:
     """Hypotonic / isotonic / hypertonic toward cells of the given sap osmolality.
 
     Parameters
@@ -174,11 +177,26 @@ def classify_tonicity(effective_mosmol: float, reference_mosmol: float, toleranc
         osmolal share weighted by its reflection coefficient (1 = impermeant)
     reference_mosmol : osmolality of the cell sap [mOsm/kg] (typed in, or from a plasmolysis fit)
     tolerance : half-width of the isotonic band [fraction of the reference], 0 <= tolerance < 1
+    permeants : component id -> (reflection coefficient σ < 1 [-], its osmolal share [mOsm/kg]) of the
+        solutes known to enter the cells
 
     Returns
     -------
     dict with ``class``, ``ratio`` (effective / reference), ``difference_mosmol_per_kg`` (effective −
-    reference), the inputs, and ``water_flow`` (expected direction of net water movement).
+    reference), the inputs, ``water_flow`` (expected direction of net water movement), ``turgor`` (what
+    walled plant cells do: their wall resists swelling, so turgor changes rather than volume), and two
+    phases, ``first_minutes`` and ``steady_state``, each with ``class``, ``ratio``,
+    ``effective_mosmol_per_kg`` and ``turgor``; ``permeants`` lists the ids of the permeating solutes.
+
+    Notes
+    -----
+    In the first minutes, before a permeating solute has entered, water flow follows each solute's share
+    weighted by its reflection coefficient (Kedem & Katchalsky 1958, Biochim Biophys Acta 27:229): this is
+    ``effective_mosmol`` and the top-level class. A permeant then enters until its concentration inside
+    matches the medium's and no longer draws water: at the steady state only the solutes that do not enter
+    count, so a medium made hypertonic with glycerol plasmolyses cells at first and they recover (the
+    deplasmolysis of plasmolysis tests with permeating solutes). Ions and solutes without a reflection
+    coefficient are taken as impermeant in both phases (their uptake by transport is not modelled).
     """
     if not math.isfinite(reference_mosmol) or reference_mosmol <= 0:
         raise AmountError(f"the cell reference ({reference_mosmol:g} mOsm/kg) must be a positive osmolality",
@@ -186,13 +204,34 @@ def classify_tonicity(effective_mosmol: float, reference_mosmol: float, toleranc
     if isinstance(tolerance, bool) or not math.isfinite(tolerance) or not 0 <= tolerance < 1:
         raise AmountError(f"isotonic tolerance {tolerance!r} must be a fraction from 0 to below 1",
                           field="cells.tolerance", hint="e.g. 0.05 for ±5 %")
+    permeants = permeants or {}
     ratio = effective_mosmol / reference_mosmol
-    if abs(ratio - 1) <= tolerance * (1 + 1e-12):  # the band's edges count as isotonic
-        cls, flow = "isotonic", "no net water flow"
-    elif ratio < 1:
-        cls, flow = "hypotonic", "water moves into the cells (they swell; turgor rises)"
-    else:
-        cls, flow = "hypertonic", "water leaves the cells (they shrink; plasmolysis possible)"
+    cls = _tonicity_class(ratio, tolerance)
+    flow = {"isotonic": "no net water flow",
+            "hypotonic": "water moves into the cells (they swell; turgor rises)",
+            "hypertonic": "water leaves the cells (they shrink; plasmolysis possible)"}[cls]
+    steady = max(effective_mosmol - sum(sigma * share for sigma, share in permeants.values()), 0.0)
+    steady_cls = _tonicity_class(steady / reference_mosmol, tolerance)
     return {"class": cls, "ratio": ratio, "reference_mosmol_per_kg": reference_mosmol,
             "effective_mosmol_per_kg": effective_mosmol, "difference_mosmol_per_kg": effective_mosmol - reference_mosmol,
-            "tolerance": tolerance, "water_flow": flow}
+            "tolerance": tolerance, "water_flow": flow, "turgor": _TURGOR[cls],
+            "first_minutes": {"class": cls, "ratio": ratio, "effective_mosmol_per_kg": effective_mosmol,
+                              "turgor": _TURGOR[cls]},
+            "steady_state": {"class": steady_cls, "ratio": steady / reference_mosmol,
+                             "effective_mosmol_per_kg": steady, "turgor": _TURGOR[steady_cls]},
+            "permeants": sorted(permeants)}
+
+
+#: what walled plant cells do in each class: a wall resists swelling, so water taken up raises turgor
+#: rather than volume; water lost first lowers turgor, and past zero turgor the protoplast leaves the wall
+_TURGOR = {
+    "isotonic": "turgor stays as it is",
+    "hypotonic": "water enters until the wall resists: turgor rises, the cells barely swell",
+    "hypertonic": "water leaves: turgor falls, and past zero turgor the protoplasts plasmolyse",
+}
+
+
+def _tonicity_class(ratio: float, tolerance: float) -> str:
+    if abs(ratio - 1) <= tolerance * (1 + 1e-12):  # the band's edges count as isotonic
+        return "isotonic"
+    return "hypotonic" if ratio < 1 else "hypertonic"
