@@ -185,6 +185,44 @@ def budget(medium: Recipe | Plan, *, readability: str | float | None = None,
     return recipe_budget(recipe, cat, tolerances=tol, evaluation=evaluation)
 
 
+def check_reading(medium: Recipe | Plan, value: str | float, *, instrument: str = "freezing-point",
+                  chamber_temperature: str | None = None, repeatability: str | None = None,
+                  calibrated: bool = True, catalog: Catalog | None = None):
+    """An osmometer reading of a batch against its plan (what ``mediaplan reading`` prints).
+
+    Parameters
+    ----------
+    medium : a Recipe, or a Plan (its recipe; its target's and series' osmotica name the unlisted solutes)
+    value : what the osmometer displayed, ``"182 mOsm/kg"``, or a number [mOsm/kg]
+    instrument : ``"freezing-point"`` or ``"vapour-pressure"``
+    chamber_temperature : a vapour-pressure osmometer's chamber, ``"25 degC"`` (default: the recipe's)
+    repeatability : s.d. of one reading, ``"2 mOsm/kg"`` or ``"0.5 %"`` (default: the lab's, else common practice)
+    calibrated : apply the instrument's stored calibration (``mediaplan osmometer calibrate``)
+    catalog : see the module's notes
+
+    Returns
+    -------
+    :class:`mediaplan.tasks.reading.ReadingCheck`: ``verdict``, ``predicted_mosmol_per_kg``,
+    ``interval_mosmol_per_kg`` (95 %), ``reading_mosmol_per_kg``, ``deviation_percent``, ``explanations``
+    (ranked slips); ``to_dict()`` is the ``reading --json`` object
+    """
+    from mediaplan.files import osmometers
+    from mediaplan.medium.units import parse_temperature
+    from mediaplan.tasks.reading import check_reading as check
+
+    cat = _catalog(catalog)
+    plan, recipe = _plan_and_recipe(medium)
+    chamber = parse_temperature(chamber_temperature, field="chamber_temperature") if chamber_temperature else None
+    inst = osmometers.instrument(instrument, repeatability=repeatability, chamber_temperature_k=chamber)
+    named: list[str] = []
+    if plan is not None and plan.target is not None:
+        named += list(plan.target.osmotica or ())
+    if plan is not None and plan.series is not None and plan.series.osmoticum:
+        named.append(plan.series.osmoticum)
+    return check(recipe, cat, value, instrument=inst, osmotica_named=named,
+                 calibration=osmometers.calibration_of(instrument) if calibrated else None)
+
+
 def _ratio(ratio: str | Sequence[float] | None) -> list[float] | None:
     if ratio is None or not isinstance(ratio, str):
         return None if ratio is None else [float(r) for r in ratio]

@@ -197,3 +197,11 @@ def test_facility_report(plan, tmp_path, capsys, fmt, marks):
     text = out.read_text()
     assert all(m in text for m in marks)
     assert text.count("565") >= 1 and text.count("lower") == 1
+
+
+def test_api_gives_the_command_s_numbers(plan, capsys):
+    from mediaplan import api
+
+    assert main(["reading", str(plan), "300 mOsm/kg", "--json"]) == 1
+    d = _json(capsys)
+    assert api.check_reading(api.load_plan(plan), "300 mOsm/kg").to_dict() == d
