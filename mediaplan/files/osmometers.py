@@ -130,6 +130,19 @@ def save_calibration(cal: Calibration, *, path: Path | None = None) -> Path:
     return path
 
 
+def save_repeatability(kind: str, text: str, *, path: Path | None = None) -> Path:
+    """Store the lab's repeatability of an instrument (checked first: ``"2 mOsm/kg"`` or ``"0.5 %"``)."""
+    from mediaplan.files.planfile import atomic_write
+
+    parse_repeatability(text)
+    path = path or settings_path()
+    data = _load(path)
+    data[kind] = {**(data.get(kind) or {}), "repeatability": text.strip()}
+    path.parent.mkdir(parents=True, exist_ok=True)
+    atomic_write(path, tomli_w.dumps(data).encode("utf-8"), backup=False)
+    return path
+
+
 def forget_calibration(kind: str, *, path: Path | None = None) -> bool:
     """Remove an instrument's calibration (its repeatability kept); returns whether there was one."""
     from mediaplan.files.planfile import atomic_write
@@ -158,4 +171,4 @@ def calibrate(kind: str, standards: list[tuple[float, float]], *, date: str | No
 
 
 __all__ = ["FILE_NAME", "calibrate", "calibration_of", "forget_calibration", "instrument", "parse_repeatability",
-           "repeatability_of", "save_calibration", "settings_path"]
+           "repeatability_of", "save_calibration", "save_repeatability", "settings_path"]

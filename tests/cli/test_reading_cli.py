@@ -205,3 +205,16 @@ def test_api_gives_the_command_s_numbers(plan, capsys):
     assert main(["reading", str(plan), "300 mOsm/kg", "--json"]) == 1
     d = _json(capsys)
     assert api.check_reading(api.load_plan(plan), "300 mOsm/kg").to_dict() == d
+
+
+def test_lab_repeatability_is_stored_and_used(plan, predicted, capsys):
+    assert main(["reading", str(plan), f"{predicted} mOsm/kg", "--json"]) == 0
+    default = _json(capsys)["repeatability_sd_mosmol_per_kg"]
+    # freezing-point default: the larger of 2 mOsm/kg and 0.5 % (common practice)
+    assert default == pytest.approx(max(2.0, 0.005 * predicted))
+    assert main(["osmometer", "repeatability", "5 mOsm/kg"]) == 0
+    assert main(["reading", str(plan), f"{predicted} mOsm/kg", "--json"]) == 0
+    assert _json(capsys)["repeatability_sd_mosmol_per_kg"] == pytest.approx(5.0)
+    assert main(["reading", str(plan), f"{predicted} mOsm/kg", "--repeatability", "1 mOsm/kg", "--json"]) == 0
+    assert _json(capsys)["repeatability_sd_mosmol_per_kg"] == pytest.approx(max(1.0, 0.005 * predicted))
+    assert main(["osmometer", "repeatability", "3 MPa"]) == 2

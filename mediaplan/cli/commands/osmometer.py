@@ -2,7 +2,9 @@
 
 ``osmometer calibrate NOMINAL=DISPLAYED ...`` fits an offset and slope from readings of osmometer standards
 (100, 290 and 1000 mOsm/kg are the usual ones; common practice) and stores them in the user config; later
-readings of that instrument are corrected, with a note. ``osmometer show`` prints what is stored,
+readings of that instrument are corrected, with a note. ``osmometer repeatability SD`` sets the lab's own
+repeatability of an instrument (instead of the common-practice default); ``osmometer show`` prints what is
+stored,
 ``osmometer forget`` removes a calibration. ``osmometer report PLAN...`` checks every reading recorded in
 the plans (``[[readings]]``) against its plan: a facility's record of its batches and its instruments
 (Markdown, CSV or HTML with a measured-against-predicted plot).
@@ -14,13 +16,14 @@ import sys
 
 from mediaplan.cli.common import add_output_arguments, catalog_from, print_json
 
-_ACTIONS = ("calibrate", "show", "forget", "report")
+_ACTIONS = ("calibrate", "repeatability", "show", "forget", "report")
 
 
 def add_arguments(p) -> None:
     p.add_argument("action", choices=_ACTIONS, help="what to do")
     p.add_argument("items", nargs="*", metavar="ITEM",
-                   help="calibrate: NOMINAL=DISPLAYED pairs in mOsm/kg (e.g. 290=292.5); report: plan files")
+                   help="calibrate: NOMINAL=DISPLAYED pairs in mOsm/kg (e.g. 290=292.5); repeatability: the s.d. of "
+                        "one reading ('2 mOsm/kg' or '0.5 %%'); report: plan files")
     p.add_argument("--instrument", choices=("freezing-point", "vapour-pressure"), default="freezing-point",
                    help="kind of osmometer (default freezing-point)")
     p.add_argument("--date", metavar="YYYY-MM-DD", help="calibrate: day of the standard readings (default today)")
@@ -64,15 +67,26 @@ def run(args) -> int:
         else:
             print(cal.note().replace(" calibration applied", " calibration"))
         return 0
+    if args.action == "repeatability":
+        if len(args.items) != 1:
+            raise AmountError("give one repeatability", field="repeatability", hint='e.g. "2 mOsm/kg" or "0.5 %"')
+        path = osmometers.save_repeatability(args.instrument, args.items[0])
+        note(f"repeatability of the {args.instrument} osmometer stored in {path}")
+        return 0
     if args.items and args.action in ("show", "forget"):
         raise AmountError(f"{args.action} takes no items", field="standards", hint="leave them out")
     if args.action == "show":
         cals = {k: osmometers.calibration_of(k) for k in ("freezing-point", "vapour-pressure")}
         if args.json:
-            print_json({k: (c.to_dict() if c else None) for k, c in cals.items()})
+            print_json({k: (c.to_dict() if c else None) for k, c in cals.items()}
+                       | {f"{k} repeatability": osmometers.repeatability_of(k) for k in cals})
         else:
             for k, c in cals.items():
                 print(c.note().replace(" calibration applied", " calibration") if c else f"{k}: not calibrated")
+                inst = osmometers.instrument(k)
+                own = osmometers.repeatability_of(k)
+                print(f"{k}: repeatability {inst.sd_floor:g} mOsm/kg or {100 * inst.sd_fraction:g} % s.d."
+                      + (f" (the lab's: {own})" if own else " (common practice)"))
             print(f"settings: {osmometers.settings_path()}")
         return 0
     if args.action == "forget":
