@@ -20,6 +20,9 @@ T0 = 273.15
     # Wikipedia infobox of potassium nitrate (secondary copy): 316 g per 1000 g water at 20 °C, 133 at 0 °C
     ("potassium_nitrate", 20.0, 31.6, "wikipedia_kno3"),
     ("potassium_nitrate", 0.0, 13.3, "wikipedia_kno3"),
+    # J Chem 2018, 8749345, Table 2 (KNO3 + KH2PO4 + H2O): KNO3 17.29 mass % at 10 °C, KH2PO4 25.32 % at 40 °C
+    ("potassium_nitrate", 10.0, 100 * 17.29 / (100 - 17.29), "jchem2018_kno3_kh2po4"),
+    ("potassium_dihydrogen_phosphate", 40.0, 100 * 25.32 / (100 - 25.32), "jchem2018_kno3_kh2po4"),
     # CRC Handbook 98th ed., solubility of common salts at ambient temperatures: NH4NO3 21.163 mol/kg at 15 °C
     ("ammonium_nitrate", 15.0, 21.163 * 80.043 / 10, "crc_ambient"),
     # same table: NaCl 6.136 mol/kg at 20 °C
