@@ -17,7 +17,13 @@ def add_recipe_arguments(p: argparse.ArgumentParser, *, plan_option: bool = True
         p.add_argument("--plan", metavar="PLAN", help="start from a plan file")
     p.add_argument("--base", metavar="ID", help="published base formulation (e.g. ms1962)")
     p.add_argument("--strength", type=float, metavar="X", help="strength of the base (0.5 = half)")
+    p.add_argument("--strength-scope", choices=("all", "salts", "macro"),
+                   help="which lines of the base the strength scales: all (default), salts (mineral salts "
+                        "and iron) or macro (macro salts); the scaled lines are named in a note")
     p.add_argument("--temperature", metavar="T", help='temperature, e.g. "25 degC" (default 25 °C)')
+    p.add_argument("--storage-temperature", metavar="T",
+                   help='where the medium and its stocks are kept, e.g. "4 degC": solubility is checked there too '
+                        "(4 °C is assumed when neither this nor the plan says)")
 
 
 def catalog_from(args):
@@ -45,8 +51,12 @@ def recipe_from(args, catalog, *, notes: list[str] | None = None):
         changes["base"] = catalog.medium(args.base).id
     if getattr(args, "strength", None) is not None:
         changes["strength"] = args.strength
+    if getattr(args, "strength_scope", None):
+        changes["strength_scope"] = args.strength_scope
     if getattr(args, "temperature", None):
         changes["temperature"] = args.temperature
+    if getattr(args, "storage_temperature", None):
+        changes["storage_temperature"] = args.storage_temperature
     if changes:
         recipe = recipe.with_settings(**changes)
     for item in getattr(args, "amounts", []) or []:
@@ -57,6 +67,12 @@ def recipe_from(args, catalog, *, notes: list[str] | None = None):
         if res.note and notes is not None:
             notes.append(res.note)
         recipe = recipe.with_amount(res.component.id, parse_amount(text, field=key.strip()))
+    if notes is not None:
+        from mediaplan.medium.recipe import strength_note
+
+        said = strength_note(recipe, catalog)
+        if said:
+            notes.append(said)
     return plan, recipe
 
 
@@ -141,9 +157,10 @@ FLAG_OF_FIELD = {
     "osmoticum": "--with", "target": "--target", "cells": "--cells", "cells.tolerance": "--tolerance",
     "ratio": "--ratio", "hold": "--hold", "link": "--link", "format": "--format", "trust": "--trust",
     "series.first": "--from", "series.last": "--to", "series.step": "--step", "series.steps": "--steps",
+    "storage_temperature": "--storage-temperature",
     "series.stock": "--stock", "series.preparation": "--preparation", "batch_volume": "--volume",
     "stock_volume": "--stock-volume",
-    "stock_factor": "--factor", "form": "--form", "ph": "--ph", "force": "--force",
+    "stock_factor": "--factor", "form": "--form", "force": "--force",
     "balance_readability": "--readability", "volume_tolerance": "--volume-tolerance",
     "instrument": "--instrument", "chamber_temperature": "--chamber", "repeatability": "--repeatability",
     "reading.date": "--date", "reading.record": "--record", "standards": "NOMINAL=DISPLAYED",

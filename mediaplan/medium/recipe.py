@@ -27,6 +27,18 @@ PLAUSIBLE_SATURATION_FACTOR = 2.0
 #: model.MAX_MOLALITY, the top of every search (nothing in the catalog dissolves that far; common practice)
 PLAUSIBLE_MAX_MOLALITY = 50.0
 
+#: what the strength of a base formulation scales: scope -> catalog groups. "Half-strength MS" in most
+#: laboratories means the mineral salts at half their amounts, sugars, vitamins and regulators as published
+#: (common practice); "all" scales every line, "macro" the macro salts only. The default stays "all", what
+#: every release so far computed, so that a plan gives the numbers it gave; the command line says which
+#: scope it used and offers the others.
+STRENGTH_SCOPES: dict[str, frozenset[str] | None] = {
+    "salts": frozenset({"macro", "salt", "micro", "iron"}),
+    "macro": frozenset({"macro", "salt"}),
+    "all": None,
+}
+DEFAULT_STRENGTH_SCOPE = "all"
+
 
 @dataclass(frozen=True)
 class Line:
@@ -36,6 +48,7 @@ class Line:
     amount: Amount
     origin: Origin
     confidence: str | None = None  # of a published base line (A/B/C)
+    scaled: bool = False  # a base line whose amount the strength changed
 
 
 @dataclass(frozen=True)
@@ -48,6 +61,8 @@ class Recipe:
     temperature : text (e.g. ``25 degC``); temperature_k its value [K]
     base : id of a published medium in the catalog, or None
     strength : factor on the base formulation's amounts (0.5 for half strength)
+    strength_scope : which base lines the strength scales (:data:`STRENGTH_SCOPES`: ``all``, the default,
+        ``salts`` or ``macro``)
     amounts : component id -> Amount, in the user's order (overrides and additions)
     storage_temperature : text of the temperature the medium (or its stocks) is kept at (e.g. ``4 degC``),
         or None when the plan states none; storage_temperature_k its value [K] (None when not stated)
@@ -60,8 +75,13 @@ class Recipe:
     amounts: tuple[tuple[str, Amount], ...] = ()
     notes_for: dict[str, str] = field(default_factory=dict, compare=False)
     storage_temperature: str | None = None
+    strength_scope: str = DEFAULT_STRENGTH_SCOPE
 
     def __post_init__(self) -> None:
+        if self.strength_scope not in STRENGTH_SCOPES:
+            raise AmountError(f"strength scope {self.strength_scope!r} is not one of "
+                              f"{', '.join(STRENGTH_SCOPES)}", field="strength_scope",
+                              hint="all, salts (the usual meaning of half-strength) or macro")
         if isinstance(self.strength, bool) or not isinstance(self.strength, (int, float)) or not math.isfinite(
                 self.strength) or self.strength < 0:
             raise AmountError(f"strength {self.strength!r} must be a number of 0 or more", field="strength",
@@ -125,16 +145,23 @@ class Recipe:
         n, b = model.amounts_to_arrays([ln.amount for ln in lines])
         check_plausible(lines, model.molality(n, b))
 
+    def scales(self, component: Component) -> bool:
+        """True when the strength applies to this component's base line (by its catalog group)."""
+        groups = STRENGTH_SCOPES[self.strength_scope]
+        return groups is None or component.group in groups
+
     # ---- the effective component list ------------------------------------------------------
     def lines(self, catalog: Catalog) -> list[Line]:
-        """Base formulation × strength, then user amounts (override by component id; 0 removes)."""
+        """Base formulation × strength (on the lines of :attr:`strength_scope`, marked ``scaled``), then user
+        amounts (override by component id; 0 removes)."""
         out: dict[str, Line] = {}
         if self.base:
             medium = catalog.medium(self.base, field="base")
             for ml in medium.lines:
                 comp = catalog.components[ml.component]
-                amt = ml.amount if self.strength == 1 else ml.amount.scaled(self.strength)
-                out[comp.id] = Line(comp, amt, "base", ml.confidence)
+                scaled = self.strength != 1 and self.scales(comp)
+                amt = ml.amount.scaled(self.strength) if scaled else ml.amount
+                out[comp.id] = Line(comp, amt, "base", ml.confidence, scaled)
         for cid, amt in self.amounts:
             comp = catalog.resolve(cid, field=f"components.{cid}").component
             if comp.id in out:
@@ -195,3 +222,18 @@ def check_plausible(lines: list[Line], molality) -> None:
 
 def _field_of(ln: Line) -> str:
     return "medium.strength" if ln.origin == "base" else f"medium.components.{ln.component.id}"
+
+
+def strength_note(recipe: Recipe, catalog: Catalog) -> str | None:
+    """In words, what the strength of the base did (None at full strength or without a base)."""
+    if not recipe.base or recipe.strength == 1:
+        return None
+    lines = [ln for ln in recipe.lines(catalog) if ln.origin == "base"]
+    scaled = [ln for ln in lines if ln.scaled]
+    kept = [ln for ln in lines if not ln.scaled]
+    head = f"strength {recipe.strength:g} of {recipe.base} scales {len(scaled)} of its {len(lines)} lines"
+    if recipe.strength_scope == "all":
+        return head + " (salts, sugars, vitamins and regulators alike; scope salts scales only the salts)"
+    what = "the mineral salts" if recipe.strength_scope == "salts" else "the macro salts"
+    return head + f" ({what}; {len(kept)} kept as published: " + ", ".join(
+        ln.component.name for ln in kept[:4]) + (" …" if len(kept) > 4 else "") + ")"
