@@ -232,7 +232,7 @@ def solubility(ctx: Context) -> list[Warning_]:
     T = ctx.T
     stated = ctx.recipe.storage_temperature_k
     T_store = DEFAULT_STORAGE_K if stated is None else stated
-    kept = (f"kept at {celsius(T_store)}" + (" (the plan's storage temperature)" if stated is not None else
+    kept = (f"kept at {celsius(T_store)}" + (" (the stated storage temperature)" if stated is not None else
                                              " (a cold room; the plan states no storage temperature)"))
     out = []
     for sub, m in by_sub.items():

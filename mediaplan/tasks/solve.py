@@ -623,7 +623,7 @@ def _solubility_temperature(recipe: Recipe) -> tuple[float, str]:
     plan's storage temperature (when it states one), and in words which it is."""
     T, T_store = recipe.temperature_k, recipe.storage_temperature_k
     if T_store is not None and T_store < T - 1e-9:
-        return T_store, f", the plan's storage temperature (colder than the culture at {celsius(T)})"
+        return T_store, f", the stated storage temperature (colder than the culture at {celsius(T)})"
     return T, ", the culture temperature" if T_store is None else ", the culture temperature (stored no colder)"
 
 

@@ -124,7 +124,7 @@ def test_cold_storage_is_checked_by_default(catalog):
 def test_a_stated_storage_temperature_is_the_one_checked(catalog):
     warm = Recipe(storage_temperature="22 degC").with_amount("mannitol", "0.9 mol/kg")
     (w,) = _solubility_warnings(catalog, warm)
-    assert "22 °C" in w.message and "plan's storage temperature" in w.message
+    assert "22 °C" in w.message and "stated storage temperature" in w.message
     kept_at_culture = Recipe(storage_temperature="25 degC").with_amount("mannitol", "0.6 mol/kg")
     assert _solubility_warnings(catalog, kept_at_culture) == []
 

@@ -156,3 +156,11 @@ def test_the_stock_says_its_share_of_saturation_at_4_C(catalog):
     assert d.stock.storage_temperature_c == pytest.approx(4.0)
     assert d.stock.storage_saturation_percent > 100
     assert any("at 4 °C: it crystallises" in w for w in d.warnings)
+
+
+def test_a_stated_storage_temperature_is_the_stocks(catalog):
+    bg = Recipe(volume="50 mL", storage_temperature="20 degC")
+    d = design_series(bg, "mannitol", [-0.5 * MPA, -1.0 * MPA], catalog=catalog, stock="1 mol/kg")
+    # 1 mol/kg against 18.2 g per 100 g water at 20 °C (Merck Index, room temperature): 100.1 % of saturation
+    assert d.stock.storage_temperature_c == pytest.approx(20.0)
+    assert d.stock.storage_saturation_percent == pytest.approx(100 * 182.172 / 1000 / 0.182, rel=1e-3)

@@ -87,7 +87,7 @@ def test_a_plan_kept_at_4_C_is_not_offered_what_crystallises_there(catalog):
     warm = solve_target(Recipe(), catalog, f"{target:.5f} MPa", ["mannitol"])
     assert warm.solubility_temperature_c == pytest.approx(25.0)
     assert warm.evaluation.component("mannitol").molality_mmol_per_kg == pytest.approx(m * 1000, rel=1e-3)
-    with pytest.raises(InfeasibleError, match="at 4 °C, the plan's storage temperature"):
+    with pytest.raises(InfeasibleError, match="at 4 °C, the stated storage temperature"):
         solve_target(Recipe(storage_temperature="4 degC"), catalog, f"{target:.5f} MPa", ["mannitol"])
 
 
@@ -105,3 +105,17 @@ def test_cli_solve_on_a_wash_lowers_it(tmp_path, catalog, capsys):
     assert d["status"] == "added" and d["lowered"] == ["mannitol"]
     assert d["additions"][0]["added_g_per_l"] < 0
     assert d["solubility_temperature_c"] == pytest.approx(25.0)
+
+
+def test_cli_plan_kept_cold_caps_the_solve(tmp_path, catalog, capsys):
+    """A plan that says it is kept at 4 °C: about -2.7 MPa (1.09 mol/kg mannitol) is refused in one line
+    naming the temperature; the same plan without a storage temperature is solved."""
+    warm, cold = tmp_path / "warm.toml", tmp_path / "cold.toml"
+    planfile.write(Plan(recipe=Recipe(), title="Water (invented)"), warm, catalog=catalog)
+    planfile.write(Plan(recipe=Recipe(storage_temperature="4 degC"), title="Water, cold (invented)"), cold,
+                   catalog=catalog)
+    assert main(["solve", str(warm), "--target", "-2.7 MPa", "--with", "mannitol"]) == 0
+    capsys.readouterr()
+    assert main(["solve", str(cold), "--target", "-2.7 MPa", "--with", "mannitol"]) == 2
+    err = capsys.readouterr().err.strip()
+    assert "\n" not in err and "at 4 °C, the stated storage temperature" in err
