@@ -30,6 +30,10 @@ def add_arguments(p) -> None:
     loss.add_argument("--water-loss", metavar="FRACTION", help="water lost by the end of the culture (total)")
     loss.add_argument("--water-loss-per-week", metavar="FRACTION", help="water lost per week (of the water first present)")
     p.add_argument("--weeks", metavar="N", help="length of the culture in weeks (default 4)")
+    p.add_argument("--save", metavar="NEW.toml",
+                   help="save the medium as computed (plan, base, strength, temperature and ID=AMOUNT items, "
+                        "--cells) as a new plan; never over an existing file unless --force, never over the "
+                        "plan read")
     add_budget_arguments(p)
     add_output_arguments(p, ("text", "md", "csv", "html"), "text; md with -o",
                          format_help="report format (md, csv and html include provenance and a place to sign)")
@@ -92,8 +96,10 @@ def run(args) -> int:
     ev = with_budget(ev, recipe, catalog, tolerances=tolerances_from(args))
     bud = ev.budget
     reads = (getattr(args, "plan", None),)
+    saved = save_plan(args, plan, recipe, catalog, notes) if getattr(args, "save", None) else None
     if args.json:
         d = ev.to_dict()
+        d["saved"] = str(saved) if saved else None
         d["notes"] = notes
         d["title"] = plan.title if plan else None
         if proj is not None:
@@ -120,3 +126,45 @@ def run(args) -> int:
             text += "\n\n" + projection_text(proj)
         write_output(text)
     return 0
+
+
+def save_plan(args, plan, recipe, catalog, notes: list[str]):
+    """Write the recipe as computed (with the plan's other tables and ``--cells``) as a new plan file at
+    ``args.save``, atomically; returns the path written. Refuses the plan being read (even with --force:
+    an edit of that plan keeps its comments only through the commands that edit in place), an existing file
+    without --force, and a strength scope the plan format cannot record (the plan would reopen with other
+    numbers)."""
+    from pathlib import Path
+
+    from mediaplan.files import planfile
+    from mediaplan.medium.errors import ConflictError
+    from mediaplan.medium.recipe import DEFAULT_STRENGTH_SCOPE
+    from mediaplan.tasks.cells import CellReference
+
+    out = Path(args.save)
+    read = getattr(args, "plan", None)
+    if read and _same_file(out, Path(read)):
+        raise ConflictError("--save names the plan being read", file=str(out),
+                            hint="save the medium under a new name, then compare with mediaplan diff")
+    if recipe.base and recipe.strength != 1 and recipe.strength_scope != DEFAULT_STRENGTH_SCOPE:
+        raise MediaplanError(f"a plan does not yet record the strength scope ({recipe.strength_scope}): "
+                             "saved, it would reopen with every line scaled", field="strength_scope",
+                             hint="save without --strength-scope, or give the scaled amounts as ID=AMOUNT")
+    new = plan.with_recipe(recipe) if plan is not None else planfile.Plan(recipe=recipe, title="Medium")
+    new.path, new.disk_digest = None, None  # a new file: written whole and created exclusively
+    if getattr(args, "cells", None):
+        new.cells = (new.cells or CellReference()).with_reference(args.cells)
+    said: list[str] = []
+    written = planfile.write(new, out, force=args.force, catalog=catalog, notes=said)
+    notes += said
+    notes.append(f"saved the medium as a plan: {written}")
+    return written
+
+
+def _same_file(a, b) -> bool:
+    import os
+
+    try:
+        return os.path.samefile(a, b)
+    except OSError:
+        return os.path.abspath(a) == os.path.abspath(b)
