@@ -76,23 +76,78 @@ def _cells_of(cells) -> CellReference | None:
     return getattr(cells, "cells", None)
 
 
-def cell_reference(text: str | None, cells, T: float) -> float | None:
-    """Cell reference [mOsm/kg] from a typed value, else from the record (osmolality, else potential).
+@dataclass(frozen=True)
+class ReferenceInForce:
+    """The one cell reference a command uses, and where it came from.
 
-    cells : a CellReference, or a plan holding one as ``cells``; None for none
-    T : temperature [K] (a potential is converted at it)
+    mosmol : the cells' sap osmolality [mOsm/kg], or None when there is none
+    source : in words, which value was used (typed, the plan's osmolality, the plan's potential at T)
+    ignored : in words, a value that was given too and not used (the plan's when one was typed; the
+        plan's potential when it also holds an osmolality), with what it would have given; None otherwise
     """
-    field = "cells"
-    ref = _cells_of(cells)
-    if text is None and ref is not None and ref.reference is not None:
-        field, text = ref.reference
-    if not text:
-        return None
+
+    mosmol: float | None
+    source: str
+    ignored: str | None = None
+
+    @property
+    def words(self) -> str:
+        """One line for a note: the reference, its source, and what was not used."""
+        if self.mosmol is None:
+            return "no cell reference"
+        head = f"cell reference {self.mosmol:.1f} mOsm/kg from {self.source}"
+        return head + (f"; {self.ignored}" if self.ignored else "")
+
+
+def _mosmol(text: str, field: str, T: float) -> float:
     t = parse_target(str(text), field=field)
     value = t.value * 1000.0 if t.kind == "osmolality" else float(osmolality_from_potential(t.value, T)) * 1000.0
     if value <= 0:
         raise AmountError(f"cell reference {text!r} must be below 0 MPa or above 0 mOsm/kg", field=field)
     return value
+
+
+def reference_in_force(text: str | None, cells, T: float) -> ReferenceInForce:
+    """Decide the cell reference, the same way for every command and the app.
+
+    Order: a typed value (``--cells``, the app's cells field) wins over the plan's ``[cells]``; within
+    ``[cells]``, the osmolality wins over the potential, because an osmolality [mOsm/kg] does not depend on
+    temperature while a potential does; a potential is converted at ``T`` [K], the medium's temperature.
+
+    cells : a CellReference, or a plan holding one as ``cells``; None for none
+    """
+    ref = _cells_of(cells)
+    if text is not None:
+        if not text:
+            return ReferenceInForce(None, "nothing")  # an empty typed value clears the reference
+        value = _mosmol(text, "cells", T)
+        ignored = None
+        if ref is not None and ref.reference is not None:
+            ignored = f"the plan's [cells] {ref.reference[1]} not used (a typed value wins)"
+        return ReferenceInForce(value, f"the value typed ({text})", ignored)
+    if ref is None or ref.reference is None:
+        return ReferenceInForce(None, "nothing")
+    field, written = ref.reference
+    value = _mosmol(written, field, T)
+    source = f"the plan's [cells] {field.split('.')[-1]} {written}"
+    if field == "cells.potential":
+        source += f" at {T - 273.15:.4g} °C"
+    ignored = None
+    if field == "cells.osmolality" and ref.potential:
+        other = _mosmol(ref.potential, "cells.potential", T)
+        ignored = (f"its potential {ref.potential} not used (it is {other:.1f} mOsm/kg at {T - 273.15:.4g} °C, "
+                   f"{100 * (other / value - 1):+.1f} %)")
+    return ReferenceInForce(value, source, ignored)
+
+
+def cell_reference(text: str | None, cells, T: float) -> float | None:
+    """Cell reference [mOsm/kg] from a typed value, else from the record (osmolality, else potential):
+    the number of :func:`reference_in_force`.
+
+    cells : a CellReference, or a plan holding one as ``cells``; None for none
+    T : temperature [K] (a potential is converted at it)
+    """
+    return reference_in_force(text, cells, T).mosmol
 
 
 def cell_tolerance(text: str | None, cells) -> float:
@@ -108,4 +163,4 @@ def cell_tolerance(text: str | None, cells) -> float:
     return parse_fraction(text, field="cells.tolerance", upper=0.5)
 
 
-__all__ = ["CellReference", "cell_reference", "cell_tolerance"]
+__all__ = ["CellReference", "ReferenceInForce", "cell_reference", "cell_tolerance", "reference_in_force"]

@@ -82,10 +82,13 @@ def run(args) -> int:
     if plan is not None and plan.provenance:
         notes += [f"catalog differs from the plan's record: {d.text()}" for d in compare_provenance(plan, catalog)]
     cells = plan.cells if plan is not None else None
-    from mediaplan.tasks.cells import cell_reference, cell_tolerance
+    from mediaplan.tasks.cells import cell_tolerance, reference_in_force
 
     tol = cell_tolerance(args.tolerance, cells)
-    ref = cell_reference(args.cells, cells, recipe.temperature_k)
+    in_force = reference_in_force(args.cells, cells, recipe.temperature_k)
+    ref = in_force.mosmol
+    if in_force.ignored:  # more than one reference given: say which one counts
+        notes.append(in_force.words)
     try:
         ev = evaluate(recipe, catalog, cell_reference_mosmol=ref, isotonic_tolerance=tol)
     except MediaplanError as exc:
