@@ -58,9 +58,15 @@ def params_25c_only(params):
     return dataclasses.replace(params, binary=binary)
 
 
+_SYSTEMS: dict = {}
+
+
 def fpd(params, cation, anion, m):
     """Freezing-point depression [K] of a binary 1-1 salt solution of molality m [mol/kg], φ at 0 °C."""
-    phi = float(PitzerSystem([cation, anion], params).osmotic_coefficient(np.array([m, m]), T0))
+    key = (id(params), cation, anion)
+    if key not in _SYSTEMS:
+        _SYSTEMS[key] = (params, PitzerSystem([cation, anion], params))  # params kept alive: id stays unique
+    phi = float(_SYSTEMS[key][1].osmotic_coefficient(np.array([m, m]), T0))
     aw = float(potential.water_activity(phi * 2.0 * m))
     return float(potential.freezing_point_depression(aw))
 
