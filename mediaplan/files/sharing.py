@@ -62,20 +62,39 @@ class Difference:
     recorded: str | None  # digest in the plan
     local: str | None  # digest in the local catalog
     local_file: str | None = None
+    fields: tuple[tuple[str, Any, Any], ...] = ()  # (field, plan's value, local value) when a copy is embedded
 
     def text(self) -> str:
+        changed = "; ".join(f"{f} {_shown(a)} in the plan, {_shown(b)} here" for f, a, b in self.fields[:4])
+        if changed:
+            changed = f": {changed}" + (" …" if len(self.fields) > 4 else "")
         if self.status == "missing":
             return f"{self.kind} {self.id} is not in this catalog"
         if self.status == "embedded-only":
             return f"{self.kind} {self.id} is not in this catalog; the plan's embedded copy is used"
         if self.status == "conflict":
-            return f"{self.kind} {self.id}: the plan's embedded copy differs from {self.local_file or 'the local entry'}"
+            return (f"{self.kind} {self.id}: the plan's embedded copy differs from "
+                    f"{self.local_file or 'the local entry'}{changed}")
         return (f"{self.kind} {self.id} differs (plan {self.recorded}, here {self.local}"
-                + (f" from {self.local_file}" if self.local_file else "") + ")")
+                + (f" from {self.local_file}" if self.local_file else "") + ")" + changed)
 
     def to_dict(self) -> dict:
         return {"kind": self.kind, "id": self.id, "status": self.status, "recorded": self.recorded,
-                "local": self.local, "local_file": self.local_file, "message": self.text()}
+                "local": self.local, "local_file": self.local_file, "message": self.text(),
+                "fields": [{"field": f, "plan": a, "local": b} for f, a, b in self.fields]}
+
+
+def _shown(value: Any) -> str:
+    return "none" if value is None else str(value)
+
+
+def _field_changes(kind: str, entry: Any, local) -> tuple[tuple[str, Any, Any], ...]:
+    """(field, the plan's embedded value, the local value) for each field that differs."""
+    if not isinstance(entry, dict):
+        return ()
+    mine = embedded_entry(local) if kind == "component" else embedded_medium(local)
+    keys = list(mine) + [k for k in entry if k not in mine]
+    return tuple((k, entry.get(k), mine.get(k)) for k in keys if entry.get(k) != mine.get(k))
 
 
 # ---- recording --------------------------------------------------------------------------------------
@@ -181,10 +200,45 @@ def compare_provenance(plan, catalog: Catalog) -> list[Difference]:
             if local is None:
                 out.append(Difference(kind, eid, "embedded-only" if eid in embedded else "missing", str(digest), None))
             elif embedded.get(eid) is not None and _embedded_conflicts(kind, embedded[eid], local):
-                out.append(Difference(kind, eid, "conflict", str(digest), local.digest, local.file))
+                out.append(Difference(kind, eid, "conflict", str(digest), local.digest, local.file,
+                                      _field_changes(kind, embedded[eid], local)))
             elif str(digest) != local.digest:
-                out.append(Difference(kind, eid, "changed", str(digest), local.digest, local.file))
+                out.append(Difference(kind, eid, "changed", str(digest), local.digest, local.file,
+                                      _field_changes(kind, embedded.get(eid), local)))
     return out
+
+
+#: The one catalog-mismatch policy of every command that reads a plan (see :func:`mismatch_notes`).
+MISMATCH_POLICY = """A plan stamped with [provenance] records the catalog entries it used. Every command that reads a plan
+compares them with the catalog in force:
+- an entry the local catalog lacks is taken from the plan's embedded copy, and said so;
+- an embedded copy that differs from the local entry is refused until you say which one to trust
+  (--trust plan or --trust local);
+- a recorded entry that differs from the local one is a warning naming the entry, each field that differs
+  and both values (field values only when the plan embeds a copy), and the local entry is used;
+  with --strict the command refuses instead (exit 2);
+- components the stamp does not cover are named in a warning (stamp the plan again to cover them)."""
+
+
+def mismatch_notes(plan, catalog: Catalog, *, strict: bool = False) -> list[str]:
+    """The warnings of :data:`MISMATCH_POLICY` for ``plan`` read with ``catalog`` (the catalog in force,
+    embedded entries merged); with ``strict`` the first difference is raised instead (exit 2)."""
+    if plan is None or plan.provenance is None:
+        return []
+    diffs = [d for d in compare_provenance(plan, catalog) if d.status != "embedded-only"]
+    where = str(plan.path) if getattr(plan, "path", None) else None
+    if strict and diffs:
+        raise MediaplanError(f"catalog differs from the plan's record: {diffs[0].text()}"
+                             + (f" (and {len(diffs) - 1} more)" if len(diffs) > 1 else ""), file=where,
+                             field="provenance", hint="use the catalog the plan was stamped with, or stamp "
+                             "the plan again with this catalog (mediaplan check --stamp)")
+    notes = [f"catalog differs from the plan's record: {d.text()}" for d in diffs]
+    recorded = set(plan.provenance.components or {})
+    uncovered = [cid for cid, _ in plan.recipe.amounts if cid not in recorded]
+    if uncovered and recorded:
+        notes.append("not covered by the plan's [provenance] stamp: " + ", ".join(uncovered[:6])
+                     + (" …" if len(uncovered) > 6 else "") + " (stamp it again to record them)")
+    return notes
 
 
 def _embedded_conflicts(kind: str, entry: Any, local) -> bool:

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from mediaplan.cli.common import (
+    add_mismatch_arguments,
     add_output_arguments,
     add_recipe_arguments,
     catalog_from,
@@ -34,6 +35,7 @@ def add_arguments(p) -> None:
                    help="save the medium as computed (plan, base, strength, temperature and ID=AMOUNT items, "
                         "--cells) as a new plan; never over an existing file unless --force, never over the "
                         "plan read")
+    add_mismatch_arguments(p)
     add_budget_arguments(p)
     add_output_arguments(p, ("text", "md", "csv", "html"), "text; md with -o",
                          format_help="report format (md, csv and html include provenance and a place to sign)")
@@ -72,15 +74,17 @@ def projection_from(args, plan, recipe, catalog, ref: float | None, tol: float):
 
 def run(args) -> int:
     from mediaplan.files.output import write_output
-    from mediaplan.files.sharing import compare_provenance, shadow_notes
+    from mediaplan.files.sharing import mismatch_notes, read_plan, shadow_notes
     from mediaplan.medium.evaluate import evaluate
     from mediaplan.views.report import evaluation_text
 
     catalog = catalog_from(args)
     notes: list[str] = list(shadow_notes(catalog))
+    if getattr(args, "plan", None):  # the plan's embedded entries in force (files/sharing.MISMATCH_POLICY)
+        _, catalog, more = read_plan(args.plan, catalog, trust=args.trust)
+        notes += more
     plan, recipe = recipe_from(args, catalog, notes=notes)
-    if plan is not None and plan.provenance:
-        notes += [f"catalog differs from the plan's record: {d.text()}" for d in compare_provenance(plan, catalog)]
+    notes += mismatch_notes(plan, catalog, strict=args.strict)
     cells = plan.cells if plan is not None else None
     from mediaplan.tasks.cells import cell_tolerance, reference_in_force
 

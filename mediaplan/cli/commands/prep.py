@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from mediaplan.cli.common import (
+    add_mismatch_arguments,
     add_output_arguments,
     add_recipe_arguments,
     catalog_from,
@@ -27,8 +28,7 @@ def add_arguments(p) -> None:
                    help="weigh another form of the same substance (moles kept), e.g. "
                         "--form calcium_chloride_dihydrate=calcium_chloride_anhydrous")
     p.add_argument("--ph", metavar="PH", help="target pH printed on the sheet (default: the base medium's)")
-    p.add_argument("--trust", choices=("plan", "local"),
-                   help="which entry wins when the plan's embedded copy differs from the local catalog")
+    add_mismatch_arguments(p)
     add_output_arguments(p, ("md", "csv", "html"), "md", format_help="output format",
                          json_help="print the sheet as one JSON object")
 
@@ -47,7 +47,7 @@ def split_plan_argument(args) -> None:
 
 def load(args):
     """(plan, recipe, catalog, notes) from PLAN, embedded entries and inline arguments; notes include shadowing."""
-    from mediaplan.files.sharing import read_plan, shadow_notes
+    from mediaplan.files.sharing import mismatch_notes, read_plan, shadow_notes
 
     split_plan_argument(args)
     catalog = catalog_from(args)
@@ -58,6 +58,7 @@ def load(args):
         _, catalog, more = read_plan(args.plan, catalog, trust=getattr(args, "trust", None))
         notes += more
     plan, recipe = recipe_from(args, catalog, notes=notes)
+    notes += mismatch_notes(plan, catalog, strict=getattr(args, "strict", False))
     return plan, recipe, catalog, notes
 
 
