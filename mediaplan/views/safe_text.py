@@ -68,3 +68,30 @@ def markdown(text) -> str:
 def html_text(text) -> str:
     """Text for an HTML document: HTML and quotes escaped, control characters escaped."""
     return html.escape(terminal(str(text)))
+
+
+# ---- numbers as people read them ---------------------------------------------------------------------
+#: a zero with a minus sign in front (``-0.0000``, ``−0.000``, ``-0``): rounding left the sign of a tiny
+#: negative number, which reads as a value below zero
+_SIGNED_ZERO = re.compile(r"(?<![\w.])[-\u2212](0(?:\.0+)?)(?![\d.eE])")
+#: a number in exponent form in front of a percent sign or a times sign (``1e+02 %``, ``1e+06×``)
+_EXP_BEFORE_UNIT = re.compile(r"(?<![\w.])(\d(?:\.\d+)?[eE][+-]?\d+)(?=\s?[%×x])")
+#: a decimal with 15 or more digits after the point: binary float noise (``0.30000000000000004``)
+_FLOAT_NOISE = re.compile(r"(?<![\w.])(\d+\.\d{15,})(?![\d])")
+
+
+def _plain(m: re.Match) -> str:
+    x = float(m.group(1))
+    if not 1e-4 <= abs(x) < 1e9:
+        return m.group(1)
+    return f"{x:.6f}".rstrip("0").rstrip(".")
+
+
+def tidy_numbers(text: str) -> str:
+    """Numbers in ``text`` as people read them: no minus on a zero (``-0.0000`` → ``0.0000``), no exponent
+    before a percent or times sign (``1e+02 %`` → ``100 %``), no float noise (``0.30000000000000004`` →
+    ``0.3``). Digits that carry a value are never changed: only signs of zeros, the form of a number, and
+    digits past the 12th significant one."""
+    text = _SIGNED_ZERO.sub(r"\1", text)
+    text = _EXP_BEFORE_UNIT.sub(_plain, text)
+    return _FLOAT_NOISE.sub(lambda m: f"{float(m.group(1)):.12g}", text)

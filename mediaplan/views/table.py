@@ -13,7 +13,8 @@ Layout rules of :func:`text_table` (they keep the printed output stable):
   column is empty, in which case the separator before it stays);
 - columns are joined by ``sep`` (or a column's own ``sep``) and every line starts with ``indent``;
 - control characters in a cell are shown as escapes (:func:`mediaplan.views.safe_text.terminal`) before
-  the widths are measured.
+  the widths are measured, and numbers are tidied (:func:`mediaplan.views.safe_text.tidy_numbers`: no
+  ``-0.0000``, no ``1e+02 %``, no float noise).
 """
 
 from __future__ import annotations
@@ -21,7 +22,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass
 
-from mediaplan.views.safe_text import markdown, terminal
+from mediaplan.views.safe_text import markdown, terminal, tidy_numbers
 
 LEFT = "left"
 RIGHT = "right"
@@ -71,7 +72,7 @@ def text_table(columns: Sequence[Column], rows: Sequence[Sequence[str]], *, head
     for r in rows:
         if len(r) != len(columns):
             raise ValueError(f"a row has {len(r)} cells for {len(columns)} columns")
-    rows = [[terminal(c) for c in r] for r in rows]  # escapes first, so that the columns line up
+    rows = [[tidy_numbers(terminal(c)) for c in r] for r in rows]  # escapes first, so the columns line up
     widths = _widths(columns, rows, header)
     last = len(columns) - 1
 
@@ -106,7 +107,7 @@ def markdown_table(columns: Sequence[Column | str], rows: Sequence[Sequence[str]
     escaped, HTML and control characters too (:func:`mediaplan.views.safe_text.markdown`), and a newline
     becomes a space. Alignment is left to the Markdown reader."""
     def cell(x) -> str:
-        return markdown(x).replace("|", "\\|")
+        return tidy_numbers(markdown(x)).replace("|", "\\|")
 
     heads = [c.header if isinstance(c, Column) else c for c in columns]
     out = ["| " + " | ".join(cell(h) for h in heads) + " |", "|" + "|".join("---" for _ in heads) + "|"]
