@@ -12,7 +12,7 @@ from dataclasses import asdict, dataclass, field
 from mediaplan.medium.catalog import GROUP_LABELS, Catalog
 from mediaplan.medium.errors import AmountError, MediaplanError
 from mediaplan.medium.model import compiled
-from mediaplan.medium.recipe import Recipe, check_plausible
+from mediaplan.medium.recipe import Recipe, check_plausible, molality_of
 from mediaplan.medium.warnings import Context, Warning_, warnings_for
 from mediaplan.thermo import potential
 from mediaplan.thermo.constants import T0
@@ -108,7 +108,7 @@ def evaluate(recipe: Recipe, catalog: Catalog, *, cell_reference_mosmol: float |
     comps = [ln.component for ln in lines]
     model = compiled(catalog, comps, T)
     n, b = model.amounts_to_arrays([ln.amount for ln in lines])
-    check_plausible(lines, model.molality(n, b))
+    check_plausible(lines, molality_of(model, lines, n, b))
     st = model.solve(n[None, :], b[None, :])
     mix = st.mix
     y = float(mix.osmolality[0])

@@ -13,7 +13,7 @@ from dataclasses import dataclass, field, replace
 from typing import Literal
 
 from mediaplan.medium.catalog import Catalog, Component
-from mediaplan.medium.errors import AmountError
+from mediaplan.medium.errors import AmountError, MediaplanError
 from mediaplan.medium.units import Amount, parse_amount, parse_temperature, parse_volume
 
 Origin = Literal["base", "user", "override"]
@@ -143,7 +143,7 @@ class Recipe:
             return
         model = compiled(catalog, [ln.component for ln in lines], self.temperature_k)
         n, b = model.amounts_to_arrays([ln.amount for ln in lines])
-        check_plausible(lines, model.molality(n, b))
+        check_plausible(lines, molality_of(model, lines, n, b))
 
     def scales(self, component: Component) -> bool:
         """True when the strength applies to this component's base line (by its catalog group)."""
@@ -218,6 +218,24 @@ def check_plausible(lines: list[Line], molality) -> None:
             what = ln.amount.text if ln.amount.kind == "molal" else f"{ln.amount.text} ({m:.3g} mol/kg)"
             raise AmountError(f"{name} at {what} is past {limit:.3g} mol/kg, {why}",
                               field=_field_of(ln), hint="check the number and its unit")
+
+
+def molality_of(model, lines: list[Line], n, b):
+    """Molality of each line [mol/kg water] from the compiled model (``model.molality``), with n [mol per m^3
+    of medium] and b [mol per kg water]; when the solutes leave no water, the error names the line that takes
+    the most volume and its share of it."""
+    try:
+        return model.molality(n, b)
+    except AmountError:
+        raise
+    except MediaplanError as exc:
+        takes = [float(x) for x in n * model.v]
+        i = max(range(len(lines)), key=takes.__getitem__) if lines else None
+        if i is None or takes[i] <= 0:
+            raise
+        ln = lines[i]
+        raise AmountError(f"{ln.component.name} at {ln.amount.text} would take {100 * takes[i]:.0f} % of the "
+                          "volume: no water left", field=_field_of(ln), hint=exc.hint) from None
 
 
 def _field_of(ln: Line) -> str:

@@ -77,3 +77,11 @@ def test_cli_names_the_plan_line_and_exits_2(tmp_path, capsys):
         assert len(err.splitlines()) == 1 and "past 7.58 mol/kg" in err, err  # 2 x 3.79 mol/kg (38.3 g/100 g)
         if "--plan" in argv or "prep" in argv:
             assert f"{plan}:10" in err
+
+
+def test_no_water_left_names_the_component_that_fills_the_volume(catalog):
+    # 2530 g/L of KNO3 (a hypothesis case of the command-line fuzz): the solid alone would fill the litre
+    with pytest.raises(AmountError, match="no water left") as info:
+        evaluate(Recipe().with_amount("sucrose", "10 g/L").with_amount("potassium_nitrate", "253 % w/v"), catalog)
+    assert info.value.field == "medium.components.potassium_nitrate"
+    assert "potassium nitrate at 253 % w/v" in info.value.message
