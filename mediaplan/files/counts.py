@@ -3,6 +3,11 @@
 The header needs ``plasmolysed`` and ``total`` and a level column: ``water_potential_mpa`` (used as is),
 ``osmolality_mosmol_per_kg``, a potential with its unit (``psi (bar)``), or an osmoticum amount
 (``mannitol_mol_per_kg``, ``concentration (mM)``), converted to water potential with the full model.
+
+Comment lines before the header may state how the series was made, one ``# key: value`` each (written by
+:func:`header_comments`): ``osmoticum``, ``temperature``, ``base``, ``strength`` and ``plan``. A reader
+uses them where the caller gave nothing, and says so; a value the caller gives wins, and a different value
+in the file is named in a note.
 """
 
 from __future__ import annotations
@@ -118,6 +123,8 @@ def read_counts_csv(path: str | Path, *, osmoticum: str | None = None, backgroun
                        f"{found})", file=file, line=head_line,
                        hint=f"the header must be {POTENTIAL_COLUMN},plasmolysed,total")
     i_pl, i_tot = names.index("plasmolysed"), names.index("total")
+    notes: list[str] = []
+    osmoticum, background = _with_stated(stated_in(p), osmoticum, background, file, notes)
     cols = [c for c in (_classify_column(h, i, catalog or _lazy_catalog(header)) for i, h in enumerate(header))
             if c is not None]
     if not cols:
@@ -130,7 +137,8 @@ def read_counts_csv(path: str | Path, *, osmoticum: str | None = None, backgroun
     ys: list[int] = []
     ns: list[int] = []
     lines: list[int] = []
-    notes: list[str] = []
+    notes.insert(0, f"columns read: levels from '{col.header.strip()}' in {col.unit}, plasmolysed from "
+                    f"'{header[i_pl].strip()}', total from '{header[i_tot].strip()}'")
     skipped = 0
     for n_rows, (lineno, cells) in enumerate(rows, start=1):
         if n_rows > reading.COUNTS_MAX_ROWS:
@@ -192,6 +200,83 @@ def read_counts_csv(path: str | Path, *, osmoticum: str | None = None, backgroun
                     background.temperature_k if background is not None else None, notes)
     check_counts(counts, file)
     return counts
+
+
+#: the header comments a counts file may carry (``# key: value`` before the header)
+STATED_KEYS = ("plan", "osmoticum", "base", "strength", "temperature")
+_STATED = re.compile(r"^\s*#\s*(?P<key>[a-z_]+)\s*:\s*(?P<value>.*?)\s*$")
+
+
+def header_comments(*, osmoticum: str, temperature: str, base: str | None = None, strength: float = 1.0,
+                    plan: str | None = None) -> list[str]:
+    """The ``# key: value`` lines a series writes above its counts header, so that a fit reads the
+    series as it was made (osmoticum id, temperature text, background base and strength, plan file)."""
+    out = [f"# plan: {plan}"] if plan else []
+    out.append(f"# osmoticum: {osmoticum}")
+    if base:
+        out += [f"# base: {base}", f"# strength: {strength:g}"]
+    out.append(f"# temperature: {temperature}")
+    return out
+
+
+def stated_in(path: str | Path) -> dict[str, tuple[int, str]]:
+    """key -> (line, value) of the ``# key: value`` comments above the header (only :data:`STATED_KEYS`)."""
+    out: dict[str, tuple[int, str]] = {}
+    for lineno, raw in reading.iter_lines(Path(path), "counts"):
+        if not raw.strip():
+            continue
+        if not raw.lstrip().startswith("#"):
+            break
+        m = _STATED.match(raw)
+        if m and m.group("key") in STATED_KEYS and m.group("value"):
+            out.setdefault(m.group("key"), (lineno, m.group("value")))
+    return out
+
+
+def _with_stated(stated: dict[str, tuple[int, str]], osmoticum: str | None, background: Recipe | None,
+                 file: str, notes: list[str]) -> tuple[str | None, Recipe | None]:
+    """The osmoticum and background to read with: the caller's, else the file's header comments."""
+    if "osmoticum" in stated:
+        said = stated["osmoticum"][1]
+        if osmoticum is None:
+            osmoticum = said
+            notes.append(f"osmoticum {said} as the file states (line {stated['osmoticum'][0]})")
+        elif said != osmoticum:
+            notes.append(f"the file states osmoticum {said}; {osmoticum} used as asked")
+    changes: dict = {}
+    for key in ("base", "strength", "temperature"):
+        if key not in stated:
+            continue
+        line, said = stated[key]
+        mine = getattr(background, key) if background is not None else None
+        if key == "strength":
+            try:
+                value: object = float(said)
+            except ValueError:
+                raise FitError(f"strength {said!r} is not a number", file=file, line=line, field="strength",
+                               hint="write e.g. # strength: 0.5") from None
+        else:
+            value = said
+        if background is None:
+            changes[key] = value
+        elif mine != value and not (key == "temperature" and _same_temperature(mine, said)):
+            notes.append(f"the file states {key} {said}; {mine} used as asked")
+    if changes:
+        try:
+            background = Recipe(**changes)
+        except AmountError as exc:
+            key = (exc.field or "").split(".")[-1]
+            raise exc.located(file=file, line=stated.get(key, (None,))[0]) from None
+        said = ", ".join(f"{k} {v:g}" if isinstance(v, float) else f"{k} {v}" for k, v in changes.items())
+        notes.append(f"series made with {said}, as the file states")
+    return osmoticum, background
+
+
+def _same_temperature(a: str | None, b: str) -> bool:
+    try:
+        return a is not None and abs(Recipe(temperature=a).temperature_k - Recipe(temperature=b).temperature_k) < 1e-9
+    except AmountError:
+        return False
 
 
 def _rows(path: Path, file: str) -> Iterator[tuple[int, list[str]]]:
