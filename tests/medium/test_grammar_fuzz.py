@@ -37,7 +37,7 @@ from mediaplan.medium.units import (
     unit_dimension,
 )
 from mediaplan.tasks.cells import cell_reference
-from mediaplan.tasks.prep.options import parse_factors
+from mediaplan.tasks.prep.options import MAX_STOCK_FACTOR, parse_factors
 
 #: a pint power evaluation or a pathological regex takes seconds to hours; a reading takes microseconds.
 #: One second is generous for a shared 2-core machine and still catches a hang.
@@ -397,16 +397,22 @@ def test_a_fraction_is_the_number_or_its_percent(sign, number, percent, upper):
 @given(st.sampled_from([("", 1.0), ("+", 1.0), ("-", -1.0)]), numbers(max_int=4, minus=("-",)),
        st.sampled_from(["", "x", "X", "×"]), st.sampled_from(["", " "]))
 def test_a_stock_factor_is_the_number_written(sign, number, suffix, space):
+    """Read as written when it is a factor a stock can have (1 to MAX_STOCK_FACTOR), else refused."""
     (s, sgn), (digits, value) = sign, number
+    expected = sgn * value
+    assume(_clear_of(expected, 1.0, MAX_STOCK_FACTOR))
     got = _read(parse_factors, [f"macro={space}{s}{digits}{suffix}{space}"])
-    assert got == {"macro": pytest.approx(sgn * value, rel=1e-12)}
+    if 1.0 <= expected <= MAX_STOCK_FACTOR:
+        assert got == {"macro": pytest.approx(expected, rel=1e-12)}
+    else:
+        assert got is None, (digits, got)
 
 
 @FUZZ
 @given(st.sampled_from(["\u2212", "\u2013", *OTHER_DASHES]), numbers(max_int=3))
 def test_a_stock_factor_with_another_minus_is_refused_never_positive(dash, number):
-    """Stock factors are plain numbers: a typographic minus is refused there (and any factor below 1
-    is refused later), so no minus can turn into a factor of the same size."""
+    """A minus typed as U+2212 or an en dash is a minus (so the factor is below 1 and refused); any other
+    dash is no number: no minus can turn into a factor of the same size."""
     got = _read(parse_factors, [f"macro={dash}{number[0]}"])
     assert got is None or got["macro"] < 0
 
