@@ -12,6 +12,7 @@ temporary copy of the tree, never in the working tree, and reports the mutants t
     python3 tests/mutation/mutate.py -j 2          # two copies of the tree, two mutants at a time
     python3 tests/mutation/mutate.py -k pitzer     # only mutants whose name contains "pitzer"
     python3 tests/mutation/mutate.py --list        # list the mutants and their test subsets
+    python3 tests/mutation/mutate.py --without test_parameter_sources.py   # the model checks alone
 
 Exit status 0 when every mutant was killed, 1 when any survived, 2 when the unmutated copy fails its own
 subsets (nothing can be learned then) or a mutant's anchor is no longer found (update MUTANTS).
@@ -43,13 +44,13 @@ IGNORED = shutil.ignore_patterns("__pycache__", "*.pyc", ".hypothesis", ".pytest
 
 #: value tests per kind of number (paths relative to the tree); run with -x, so a killed mutant stops early
 SUBSETS = {
-    "pitzer": ["tests/thermo/test_pitzer.py", "tests/thermo/test_parameter_sources.py",
-               "tests/medium/test_engine_published.py"],
-    "neutral": ["tests/thermo/test_neutral.py", "tests/thermo/test_parameter_sources.py",
-                "tests/medium/test_engine_published.py"],
+    "pitzer": ["tests/thermo/test_parameter_sources.py", "tests/thermo/test_pitzer.py",
+               "tests/medium/test_zsr_independent.py", "tests/medium/test_engine_published.py"],
+    "neutral": ["tests/thermo/test_parameter_sources.py", "tests/medium/test_zsr_independent.py",
+                "tests/thermo/test_neutral.py", "tests/medium/test_engine_published.py"],
     "peg": ["tests/thermo/test_peg.py"],
-    "constants": ["tests/medium/test_figures.py", "tests/thermo/test_water.py", "tests/thermo/test_pitzer.py",
-                  "tests/thermo/test_neutral.py"],
+    "constants": ["tests/medium/test_figures.py", "tests/thermo/test_water.py", "tests/medium/test_snapshot_figures.py",
+                  "tests/thermo/test_neutral.py", "tests/thermo/test_pitzer.py"],
     "media": ["tests/files/test_published_media.py", "tests/tasks/test_prep.py"],
 }
 
@@ -220,18 +221,26 @@ def _copy_tree(dest: Path) -> None:
 
 
 def _run_subset(tree: Path, subset: str, timeout: float) -> tuple[int, str]:
-    files = [f for f in SUBSETS[subset] if (tree / f).is_file()]
+    """Run the subset's files one after the other (the likeliest killer first), stopping at the first failure:
+    a killed mutant costs one short run, a survivor all of them. Returns pytest's status and what failed."""
     env = dict(os.environ, PYTHONPATH=str(tree), PYTHONDONTWRITEBYTECODE="1")
     env.pop("PYTEST_XDIST_WORKER", None)
-    cmd = [sys.executable, "-m", "pytest", "-x", "-q", "-p", "no:randomly", "-p", "no:cacheprovider",
-           "--no-header", "-o", "addopts=", *files]
-    try:
-        r = subprocess.run(cmd, cwd=tree, env=env, capture_output=True, text=True, timeout=timeout)
-    except subprocess.TimeoutExpired:
-        return -1, "timeout"
-    last = [ln for ln in r.stdout.splitlines() if ln.strip()]
-    failed = next((ln.split(" ", 1)[1].split(" - ")[0] for ln in last if ln.startswith("FAILED ")), "")
-    return r.returncode, failed or (last[-1] if last else r.stderr.strip()[-200:])
+    code, info = 5, "no test file of the subset exists"
+    for f in SUBSETS[subset]:
+        if not (tree / f).is_file():
+            continue
+        cmd = [sys.executable, "-m", "pytest", "-x", "-q", "-p", "no:randomly", "-p", "no:cacheprovider",
+               "--no-header", "-o", "addopts=", f]
+        try:
+            r = subprocess.run(cmd, cwd=tree, env=env, capture_output=True, text=True, timeout=timeout)
+        except subprocess.TimeoutExpired:
+            return -1, f"timeout in {f}"
+        last = [ln for ln in r.stdout.splitlines() if ln.strip()]
+        failed = next((ln.split(" ", 1)[1].split(" - ")[0] for ln in last if ln.startswith("FAILED ")), "")
+        code, info = r.returncode, failed or (last[-1] if last else r.stderr.strip()[-200:])
+        if code != 0:
+            break
+    return code, info
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -240,7 +249,12 @@ def main(argv: list[str] | None = None) -> int:
     ap.add_argument("-k", dest="select", default="", help="only mutants whose name contains this text")
     ap.add_argument("--list", action="store_true", help="list the mutants and exit")
     ap.add_argument("--timeout", type=float, default=600.0, help="seconds per subset run")
+    ap.add_argument("--without", action="append", default=[], metavar="TEST_FILE",
+                    help="leave this test file out of every subset (e.g. to see what the model checks catch "
+                         "without the transcription checks)")
     args = ap.parse_args(argv)
+    for files in SUBSETS.values():
+        files[:] = [f for f in files if f not in args.without and Path(f).name not in args.without]
 
     todo = [m for m in mutants() if args.select in m.name]
     if args.list:
