@@ -226,6 +226,10 @@ def test_fit_json_contract(capsys, link):
     lo, hi = d["ci95_mpa"]
     assert lo < d["water_potential_50_mpa"] < hi
     assert d["osmolality_50_mosmol_per_kg"] > 0
+    # the cell sap figure is the potential at 50 % per R T rho_w (CODATA 2018 R; IAPWS-95 water, 997.0476
+    # kg/m^3 at 25 °C, 0.101325 MPa): 2.47164 MPa per osmol/kg; the engine's density agrees to 1e-6
+    assert d["osmolality_50_mosmol_per_kg"] == pytest.approx(
+        -d["water_potential_50_mpa"] / (8.314462618 * 298.15 * 997.0476e-6) * 1000.0, rel=1e-5)
 
 
 def test_fit_a_series_plan_and_store_the_cell_reference(tmp_path, capsys, catalog):
