@@ -136,6 +136,10 @@ def mutants() -> list[Mutant]:
     }
     for pair, (c, a, vals) in rows.items():
         out += _pitzer_row(pair, c, a, vals)
+    # --- Debye-Hueckel: A_phi's leading coefficient (Moller 1988) and b (Pitzer 1991) ---
+    out.append(Mutant("pitzer A_phi a0 +5%", "catalog/pitzer.yaml", "coefficients: [0.336901532", "0.336901532",
+                      "+5%", "pitzer"))
+    out.append(Mutant("pitzer b +5%", "catalog/pitzer.yaml", "b: 1.2  #", "1.2", "+5%", "pitzer", key="b: "))
     # --- mixing parameters (HMW84, PK74, PS76, HFM89) ---
     out += _mixing("theta", '"Ca[2+]", "K[+]"', "0.032")
     out += _mixing("theta", '"K[+]", "Na[+]"', "-0.012")
