@@ -171,7 +171,6 @@ FLAG_OF_FIELD = {
     "series.stock": "--stock", "batch_volume": "--volume",
     "stock_volume": "--stock-volume",
     "stock_factor": "--factor", "form": "--form", "force": "--force",
-    "balance_readability": "--readability", "volume_tolerance": "--volume-tolerance",
     "instrument": "--instrument", "chamber_temperature": "--chamber", "repeatability": "--repeatability",
     "reading.date": "--date", "reading.record": "--record", "standards": "NOMINAL=DISPLAYED",
 }

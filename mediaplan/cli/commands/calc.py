@@ -52,12 +52,23 @@ def add_budget_arguments(p) -> None:
                    help='tolerance of making up to volume: 0.002 or "0.2 %%" (default 1 %%; common practice)')
 
 
+#: the flag behind each field of the lab's tolerances (named here, not in the shared map, because only
+#: calc takes them: the app has no input for them)
+TOLERANCE_FLAGS = {"balance_readability": "--readability", "volume_tolerance": "--volume-tolerance"}
+
+
 def tolerances_from(args):
-    """The lab's tolerances: the defaults with --readability and --volume-tolerance applied."""
+    """The lab's tolerances: the defaults with --readability and --volume-tolerance applied (an error names
+    the flag)."""
+    from mediaplan.medium.errors import MediaplanError
     from mediaplan.tasks.uncertainty import Tolerances, tolerances_with
 
-    return tolerances_with(Tolerances(), balance_readability=getattr(args, "readability", None),
-                           volume_tolerance=getattr(args, "volume_tolerance", None))
+    try:
+        return tolerances_with(Tolerances(), balance_readability=getattr(args, "readability", None),
+                               volume_tolerance=getattr(args, "volume_tolerance", None))
+    except MediaplanError as exc:
+        exc.field = TOLERANCE_FLAGS.get(exc.field or "", exc.field)
+        raise
 
 
 def projection_from(args, plan, recipe, catalog, ref: float | None, tol: float):
