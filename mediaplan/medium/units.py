@@ -617,6 +617,7 @@ def _fmt(x: float) -> str:
     return f"{x:.4g}"
 
 
+@lru_cache(maxsize=1024)
 def _unit_hint(like: str) -> str:
     """The unit part of an amount text as written (normalised), or "" when there is none."""
     norm = normalise(like[: MAX_TEXT + 1])
@@ -624,22 +625,27 @@ def _unit_hint(like: str) -> str:
     return norm[m.end():] if m else ""
 
 
+@lru_cache(maxsize=4096)
 def format_amount(value: float, kind: AmountKind, *, like: str | None = None) -> str:
-    """Write an SI amount back as text, in the unit family of ``like`` where possible."""
+    """Write an SI amount back as text, in the unit family of ``like`` where possible.
+
+    A number times a conversion factor known once per unit (what pint's conversion computes, bit for bit);
+    the unit library is asked only the first time a unit is met, so scaled amounts (a base at half
+    strength) cost no unit parsing."""
     unit_hint = _unit_hint(like) if like else ""
     if kind == "mass_conc":
         if unit_hint.lower().replace(" ", "") in ("%w/v",):
             return f"{_fmt(value / 10.0)} % w/v"
         if unit_hint in ("mg/L", "g/L", "ug/L", "mg/mL", "g/mL"):
-            return f"{_fmt(Q_(value, 'kg/m^3').to(unit_hint).magnitude)} {unit_hint}"
+            return f"{_fmt(value * _factor('kg/m^3', unit_hint))} {unit_hint}"
         return f"{_fmt(value * 1000.0)} mg/L" if value < 1.0 else f"{_fmt(value)} g/L"
     if kind == "molar":
         if unit_hint in ("M", "mM", "uM", "mol/L", "mmol/L", "umol/L"):
-            return f"{_fmt(Q_(value, 'mol/m^3').to(unit_hint).magnitude)} {unit_hint}"
+            return f"{_fmt(value * _factor('mol/m^3', unit_hint))} {unit_hint}"
         return f"{_fmt(value)} mM"
     if kind == "molal":
         if unit_hint in ("mol/kg", "mmol/kg"):
-            return f"{_fmt(Q_(value, 'mol/kg').to(unit_hint).magnitude)} {unit_hint}"
+            return f"{_fmt(value * _factor('mol/kg', unit_hint))} {unit_hint}"
         return f"{_fmt(value)} mol/kg"
     if kind == "mass_per_water":
         return f"{_fmt(value * 1000.0)} g/kg"

@@ -242,7 +242,7 @@ def _one_row(inp: MixtureInput, start: tuple | None) -> _System:
     im = None
     if inp.pitzer is not None and inp.ion_m is not None:
         im = np.asarray(inp.ion_m, dtype=float).reshape(-1)
-    M_e = float(im.sum()) if im is not None else 0.0
+    M_e = _in_order(im.tolist()) if im is not None else 0.0
     has_e = M_e > 0
     nm = np.asarray(inp.neutral_m, dtype=float).reshape(1, -1) if len(inp.neutral) else _NO_COLUMNS
     pc = np.asarray(inp.peg_c, dtype=float).reshape(1, -1) if len(inp.peg_grades) else _NO_COLUMNS
@@ -251,7 +251,7 @@ def _one_row(inp: MixtureInput, start: tuple | None) -> _System:
                       [j for j, v in enumerate(pcl) if v > 0])
     for grp in groups:
         src = nml if grp.kind == "n" else pcl
-        grp.m = sum(src[j] for j in grp.members)
+        grp.m = _in_order([src[j] for j in grp.members])
     warm = start is not None and start[0] > 0 and len(start[1]) == len(groups)
     phi_at = None
     if im is None:
@@ -265,6 +265,15 @@ def _one_row(inp: MixtureInput, start: tuple | None) -> _System:
                    warm, nml, pcl)
 
 
+def _in_order(terms: list):
+    """terms[0] + terms[1] + ... in that order (floats, or arrays (B,)): a row and the same row inside a batch
+    get the same bits (numpy's reductions sum in an order that depends on the array's shape)."""
+    acc = terms[0] if terms else 0.0
+    for x in terms[1:]:
+        acc = acc + x
+    return float(acc) if isinstance(acc, float) else acc
+
+
 def _batch(inp: MixtureInput) -> _System:
     nm = np.atleast_2d(np.asarray(inp.neutral_m, dtype=float)) if len(inp.neutral) else None
     pc = np.atleast_2d(np.asarray(inp.peg_c, dtype=float)) if len(inp.peg_grades) else None
@@ -273,14 +282,14 @@ def _batch(inp: MixtureInput) -> _System:
     B = next(a.shape[0] for a in (im, nm, pc, np.zeros((1, 0))) if a is not None)
     nm = np.zeros((B, 0)) if nm is None else nm
     pc = np.zeros((B, 0)) if pc is None else pc
-    M_e = im.sum(axis=1) if im is not None else np.zeros(B)
+    M_e = _in_order(list(im.T)) if im is not None else np.zeros(B)
     phi_at = _phi_array(inp.pitzer, im, inp.T) if im is not None else None
     phi_own = phi_at(np.ones(B)) if im is not None else np.ones(B)
     groups = _grouped(inp.neutral, inp.peg_grades, [j for j in range(nm.shape[1]) if np.any(nm[:, j] > 0)],
                       [j for j in range(pc.shape[1]) if np.any(pc[:, j] > 0)])
     for grp in groups:
         src = nm if grp.kind == "n" else pc
-        grp.m = src[:, grp.members].sum(axis=1)
+        grp.m = _in_order([src[:, j] for j in grp.members])
         grp.on = grp.m > 0
     return _System(inp.T, inp.pitzer, im, M_e, M_e > 0, phi_own, phi_at, im is not None, groups, nm, pc,
                    inp.peg_grades, False, None, None)

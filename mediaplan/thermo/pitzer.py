@@ -380,7 +380,8 @@ class PitzerSystem:
         self.b = float(params.b)
         self._a_coeffs = tuple(params.a_phi_coeffs)
         self._a_cache: dict[float, float] = {}    # T [K] -> A_phi, a few temperatures (see _a_phi_scalar)
-        self._row_sums: tuple[bytes, _RowSums | None] = (b"", None)   # the last composition's full pass
+        self._row_sums: tuple[bytes, _Parts | None] = (b"", None)   # the last composition's full pass
+        self._entry_cache: dict[float, list] = {}   # T [K] -> nonzero pair-matrix entries (see _entries)
         zv = np.array(z, dtype=float)
         self.charges = np.array(z, dtype=int)
         n = len(ions)
@@ -454,6 +455,7 @@ class PitzerSystem:
                 ps_v.append(v)
         self._ps_idx = np.array([ps_i, ps_j, ps_k], dtype=np.intp).reshape(3, -1)
         self._ps_v = np.array(ps_v, dtype=float)
+        self._psi_list = list(zip(ps_i, ps_j, ps_k, [float(x) for x in ps_v], strict=True))
         self._has_psi = len(ps_v) > 0
 
         # --- unsymmetric mixing: groups of like sign and equal |z|; pair types of unlike |z| ---------------
@@ -467,6 +469,7 @@ class PitzerSystem:
         self._has_etheta = len(ptypes) > 0
         # one matrix for all linear maps of m: I = m·z²/2, Z = m·|z|, group totals
         self._lin = np.column_stack([self._z2h, self._absz, gmat])
+        self._group_members = [[i for i in range(n) if gmat[i, g]] for g in range(len(groups))]
         if self._has_etheta:
             prods = sorted({p for g1, g2 in ptypes for p in (g1[1] * g2[1], g1[1] ** 2, g2[1] ** 2)})
             pidx = {p: k for k, p in enumerate(prods)}
@@ -559,7 +562,37 @@ class PitzerSystem:
 
     def _phi_row(self, m: np.ndarray, T: float) -> np.float64:
         """One composition: the same sums as the batch path, with Python floats for the scalars."""
-        return np.float64(_RowSums(self, m, T).phi1)
+        mtot = float(m.sum())
+        if mtot <= 0.0:
+            return np.float64(1.0)
+        v = m @ self._lin
+        I = float(v[0])
+        sqI = math.sqrt(I)
+        A = self._a_phi_scalar(T)
+        q = (m @ self._mflat_at(T)).reshape(self._K, self._n) @ m
+        s = float(q[0]) + float(v[1]) * float(q[1]) - A * I * sqI / (1.0 + self.b * sqI)
+        if self._nalpha:
+            s += float(np.exp(self._neg_alphas * sqI) @ q[2:])
+        if self._has_psi:
+            s += float(m[self._ps_idx].prod(axis=0) @ self._ps_v)
+        if self._has_etheta:
+            G = v[2:]
+            s += float((_x_dj((A * sqI) * self._prods6) @ self._ew) @ (G[self._pt_a] * G[self._pt_b])) / I
+        return np.float64(1.0 + 2.0 * s / mtot)
+
+    def _entries(self, T: float) -> list[tuple[int, int, int, float]]:
+        """Nonzero (k, i, j, value) of the pair matrices at T [K] (k: beta0 + theta, C, one per alpha), in a
+        fixed order: the sums of :class:`_Parts` run over them the same way for one row and for a batch."""
+        T = float(T)
+        got = self._entry_cache.get(T)
+        if got is None:
+            M = self._mflat_at(T).reshape(self._n, self._K, self._n)
+            got = [(k, i, j, float(M[i, k, j])) for k in range(self._K) for i in range(self._n)
+                   for j in range(self._n) if M[i, k, j] != 0.0]
+            if len(self._entry_cache) >= _T_CACHE_SIZE:
+                self._entry_cache = {}
+            self._entry_cache[T] = got
+        return got
 
     def scaled(self, m0: np.ndarray, T: float) -> Callable:
         """The osmotic coefficient [-] of the ion composition m0 [mol/kg] scaled by t, as a function of t.
@@ -589,11 +622,11 @@ class PitzerSystem:
             key = m0.tobytes()
             last_key, sums = self._row_sums
             if last_key != key:
-                sums = _RowSums(self, m0, T)
+                sums = _Parts(self, m0.tolist(), T)
                 self._row_sums = (key, sums)
-            return _ScaledRow(self, sums, T)
+            return _Scaled(self, sums, T)
         if m0.ndim == 2 and np.ndim(T) == 0:
-            return _ScaledBatch(self, m0, float(T))
+            return _Scaled(self, _Parts(self, list(m0.T), float(T)), float(T))
         return lambda t: self.osmotic_coefficient(m0 * np.asarray(t, dtype=float)[..., None], T)
 
     def _mflat_at(self, T: float) -> np.ndarray:
@@ -661,132 +694,111 @@ def _x_dj_float(x: float) -> float:
     return x * (4.0 + ex * (1.0 + _J_C2 + _J_C4 * c3xc4)) / (d * d)
 
 
-class _RowSums:
-    """The full pass of :meth:`PitzerSystem.osmotic_coefficient` for one row m [mol/kg] at T [K]: its sums
-    (which scale with the composition), their temperature derivatives and φ itself (``phi1``)."""
+class _Parts:
+    """One full pass over the pairs and triplets of an ion composition at T [K], the sums that scale with it.
 
-    __slots__ = ("T", "phi1", "empty", "mtot", "I0", "Z0", "q", "dq", "psi", "W")
-
-    def __init__(self, system: PitzerSystem, m: np.ndarray, T: float) -> None:
-        self.T = float(T)
-        mtot = float(m.sum())
-        self.empty = mtot <= 0.0
-        if self.empty:
-            self.phi1 = 1.0
-            return
-        v = m @ system._lin
-        I = float(v[0])
-        sqI = math.sqrt(I)
-        A = system._a_phi_scalar(T)
-        q = (m @ system._mflat_at(T)).reshape(system._K, system._n) @ m
-        s = float(q[0]) + float(v[1]) * float(q[1]) - A * I * sqI / (1.0 + system.b * sqI)
-        if system._nalpha:
-            s += float(np.exp(system._neg_alphas * sqI) @ q[2:])
-        psi = 0.0
-        if system._has_psi:
-            psi = float(m[system._ps_idx].prod(axis=0) @ system._ps_v)
-            s += psi
-        W: list[tuple[float, float]] = []
-        if system._has_etheta:
-            G = v[2:]
-            S0 = G[system._pt_a] * G[system._pt_b]
-            s += float((_x_dj((A * sqI) * system._prods6) @ system._ew) @ S0) / I
-            W = list(zip(system._prods6.tolist(), (system._ew @ S0).tolist(), strict=True))
-        self.phi1 = 1.0 + 2.0 * s / mtot
-        self.mtot, self.I0, self.Z0, self.q, self.psi, self.W = mtot, I, float(v[1]), q, psi, W
-        # d(sums)/d(temperature basis): the sums at any other temperature without another pass
-        self.dq = (m @ system._dflat).reshape(5, system._K, system._n) @ m if system._has_dT else None
-
-
-class _ScaledRow:
-    """φ of one ion composition m0 [mol/kg] scaled by a float t, at T [K] (see :meth:`PitzerSystem.scaled`).
-
-    From the full pass of m0 (:class:`_RowSums`, made at this or another temperature); a call rescales the
-    sums on Python floats. At the full pass's own temperature and t = 1 it returns that pass's φ.
+    ``m`` is a list with one entry per ion: a float (one row) or an array (B,) (a batch, one array per
+    ion). Every sum runs over the ions, pairs and triplets in one fixed order with one operation per term,
+    so that a row and the same row inside a batch give the same bits (numpy's reductions and matrix
+    products sum in an order that depends on the batch's shape).
     """
 
-    __slots__ = ("phi1", "_empty", "_mtot", "_I0", "_q0", "_zq1", "_qa", "_na", "_psi", "_A", "_b", "_W")
+    __slots__ = ("T", "mtot", "I0", "Z0", "q", "dq", "psi", "S0", "empty")
 
-    def __init__(self, system: PitzerSystem, sums: _RowSums, T: float) -> None:
-        self._empty = sums.empty
-        if self._empty:
-            self.phi1 = 1.0
-            return
-        q = sums.q
+    def __init__(self, system: PitzerSystem, m: list, T: float) -> None:
+        self.T = float(T)
+        z2h, absz = system._z2h.tolist(), system._absz.tolist()
+        mtot, I0, Z0 = m[0], m[0] * z2h[0], m[0] * absz[0]
+        for j in range(1, system._n):
+            mtot = mtot + m[j]
+            I0 = I0 + m[j] * z2h[j]
+            Z0 = Z0 + m[j] * absz[j]
+        q = [0.0] * system._K
+        for k, i, j, val in system._entries(T):
+            q[k] = q[k] + (val * m[i]) * m[j]
+        psi = 0.0
+        for a, b, c, val in system._psi_list:
+            psi = psi + ((m[a] * m[b]) * m[c]) * val
+        S0 = []
+        if system._has_etheta:
+            G = []
+            for members in system._group_members:
+                g = m[members[0]]
+                for j in members[1:]:
+                    g = g + m[j]
+                G.append(g)
+            S0 = [G[a] * G[b] for a, b in zip(system._pt_a.tolist(), system._pt_b.tolist(), strict=True)]
+        self.mtot, self.I0, self.Z0, self.q, self.psi, self.S0 = mtot, I0, Z0, q, psi, S0
+        self.empty = mtot <= 0.0
+        self.dq = None
+        if system._has_dT and isinstance(mtot, float):  # one row: sums at other temperatures without a pass
+            mv = np.array(m)
+            self.dq = (mv @ system._dflat).reshape(5, system._K, system._n) @ mv
+
+
+class _Scaled:
+    """φ of an ion composition m0 scaled by t (a float, or an array (B,) for a batch), at T [K] (see
+    :meth:`PitzerSystem.scaled`): the sums of :class:`_Parts` (made at this or another temperature)
+    rescaled, with the same arithmetic for a row (Python floats) and a batch (numpy arrays)."""
+
+    __slots__ = ("phi1", "_row", "_empty", "_mtot", "_I0", "_q0", "_zq1", "_qa", "_na", "_psi", "_A", "_b",
+                 "_W")
+
+    def __init__(self, system: PitzerSystem, parts: _Parts, T: float) -> None:
+        q = parts.q
         T = float(T)
-        if T != sums.T and sums.dq is not None:
-            q = q + (temperature_basis(T) - temperature_basis(sums.T)) @ sums.dq
-        self._mtot, self._I0, self._A, self._b = sums.mtot, sums.I0, system._a_phi_scalar(T), system.b
-        self._q0, self._zq1 = float(q[0]), sums.Z0 * float(q[1])
-        self._qa = q[2:].tolist()
+        if T != parts.T and parts.dq is not None:
+            q = (np.array(q) + (temperature_basis(T) - temperature_basis(parts.T)) @ parts.dq).tolist()
+        self._row = isinstance(parts.mtot, float)
+        self._empty = parts.empty
+        row_empty = self._row and self._empty
+        self._mtot = 1.0 if row_empty else (np.where(parts.empty, 1.0, parts.mtot) if not self._row
+                                             else parts.mtot)
+        self._I0 = 1.0 if row_empty else (np.where(parts.empty, 1.0, parts.I0) if not self._row else parts.I0)
+        self._A, self._b = system._a_phi_scalar(T), system.b
+        self._q0, self._zq1 = q[0], parts.Z0 * q[1]
+        self._qa = q[2:]
         self._na = system._neg_alphas.tolist()
-        self._psi, self._W = sums.psi, sums.W
-        self.phi1 = sums.phi1 if T == sums.T else self._phi(1.0)
+        self._psi = parts.psi
+        self._W = list(zip(system._prods6.tolist(), _weights(system._ew, parts.S0), strict=True)) \
+            if parts.S0 else []
+        self.phi1 = 1.0 if row_empty else self._phi(1.0)
 
-    def __call__(self, t: float) -> float:
-        """φ [-] at the molalities t · m0 (t > 0 [-])."""
-        if self._empty:
-            return 1.0
-        if t == 1.0:
-            return self.phi1
-        return self._phi(t)
+    def __call__(self, t):
+        """φ [-] at the molalities t · m0 (t > 0 [-]; a float for one row, an array (B,) for a batch)."""
+        if self._row:
+            if self._empty:
+                return 1.0
+            return self.phi1 if t == 1.0 else self._phi(t)
+        phi = self._phi(np.asarray(t, dtype=float))
+        return np.where(self._empty, 1.0, phi)
 
-    def _phi(self, t: float) -> float:
+    def _phi(self, t):
+        exp, sqrt, xdj = (math.exp, math.sqrt, _x_dj_float) if self._row else (np.exp, np.sqrt, _x_dj)
         I = t * self._I0
-        sqI = math.sqrt(I)
+        sqI = sqrt(I)
         t2 = t * t
+        t3 = t2 * t
         A = self._A
-        s = t2 * self._q0 + (t2 * t) * self._zq1 - A * I * sqI / (1.0 + self._b * sqI)
-        if self._qa:
-            s += t2 * sum(qa * math.exp(na * sqI) for qa, na in zip(self._qa, self._na, strict=True))
-        s += (t2 * t) * self._psi
+        s = t2 * self._q0 + t3 * self._zq1 - A * I * sqI / (1.0 + self._b * sqI)
+        for qa, na in zip(self._qa, self._na, strict=True):
+            s = s + t2 * (qa * exp(na * sqI))
+        s = s + t3 * self._psi
         if self._W:
             x = A * sqI
-            s += t * sum(_x_dj_float(x * p6) * w for p6, w in self._W) / self._I0
+            acc = 0.0
+            for p6, w in self._W:
+                acc = acc + xdj(x * p6) * w
+            s = s + t * acc / self._I0
         return 1.0 + 2.0 * s / (t * self._mtot)
 
 
-class _ScaledBatch:
-    """φ of ion compositions m0 (B, n_ions) [mol/kg] scaled by t (B,), at one temperature T [K] (see
-    :meth:`PitzerSystem.scaled`): the batch path of :meth:`PitzerSystem.osmotic_coefficient`, with the pair,
-    triplet and group sums taken once at m0 and rescaled at each t (at t = 1, that method's numbers)."""
-
-    def __init__(self, system: PitzerSystem, m: np.ndarray, T: float) -> None:
-        self.system = system
-        mtot = m.sum(axis=-1)
-        v = m @ system._lin
-        I = v[..., 0]
-        self.empty = mtot <= 0.0
-        self.any_empty = bool(self.empty.any())
-        if self.any_empty:
-            I = np.where(self.empty, 1.0, I)
-            mtot = np.where(self.empty, 1.0, mtot)
-        self.mtot, self.I0 = mtot, I
-        self.A = system._a_phi_scalar(T)
-        q = ((m @ system._mflat_at(T)).reshape(m.shape[0], system._K, system._n) * m[:, None, :]).sum(axis=-1)
-        self.q0, self.q1, self.qa, self.Z0 = q[:, 0], q[:, 1], q[:, 2:], v[:, 1]
-        self.psi = m[:, system._ps_idx].prod(axis=-2) @ system._ps_v if system._has_psi else None
-        if system._has_etheta:
-            G = v[:, 2:]
-            self.S0 = G[:, system._pt_a] * G[:, system._pt_b]
-
-    def __call__(self, t: np.ndarray) -> np.ndarray:
-        """φ [-] at the molalities t[:, None] · m0, t > 0 (B,) [-]."""
-        sy = self.system
-        t = np.asarray(t, dtype=float)
-        I = t * self.I0
-        sqI = np.sqrt(I)
-        t2 = t * t
-        A = self.A
-        s = t2 * self.q0 + (t * self.Z0) * (t2 * self.q1) - A * I * sqI / (1.0 + sy.b * sqI)
-        if sy._nalpha:
-            s = s + (np.exp(sqI[:, None] * sy._neg_alphas) * (t2[:, None] * self.qa)).sum(axis=-1)
-        if self.psi is not None:
-            s = s + (t2 * t) * self.psi
-        if sy._has_etheta:
-            x = (A * sqI)[:, None] * sy._prods6
-            s = s + ((_x_dj(x) @ sy._ew) * (t2[:, None] * self.S0)).sum(axis=-1) / I
-        phi = 1.0 + 2.0 * s / (t * self.mtot)
-        if self.any_empty:
-            phi = np.where(self.empty, 1.0, phi)
-        return phi
+def _weights(ew: np.ndarray, S0: list) -> list:
+    """W_k = Σ_p ew[k, p] S0[p], summed in order p = 0, 1, ... (S0: floats, or arrays (B,))."""
+    out = []
+    for row in ew.tolist():
+        w = 0.0
+        for e, s0 in zip(row, S0, strict=True):
+            w = w + e * s0
+        out.append(w)
+    return out

@@ -5,8 +5,8 @@ rescales its sums (pairs as t², triplets and Z·pairs as t³, I and the group t
 to another temperature through their temperature derivatives. The ZSR solver asks it at every step. Here:
 
 - the scaled φ against a full pass at the scaled molalities, one row and batches, at 0, 25 and 40 °C, and a
-  pass made at 25 °C carried to 0 and 40 °C: 1e-12 relative (rounding is about 1e-15); at the pass's own
-  scale and temperature the very same number;
+  pass made at 25 °C carried to 0 and 40 °C: 1e-12 relative (rounding is about 1e-15); a row alone and
+  inside a batch: the same bits;
 - ZSR and ``evaluate()`` with the scaled kernel against the same solver with a full Pitzer pass at every
   step (the method before the kernel was added), over the media of the published-value checks
   (tests/medium/test_engine_published.py) and the compositions of tests/thermo/test_mixing.py: 1e-12.
@@ -62,16 +62,16 @@ def test_scaled_phi_is_the_full_pass(catalog, comp, T):
     system = PitzerSystem(list(IONS[comp]), catalog.pitzer)
     m0 = np.array(list(IONS[comp].values()))
     one = system.scaled(m0, T)
-    assert one(1.0) == float(system.osmotic_coefficient(m0, T))  # the pass's own number, bit for bit
     for t in SCALES:
         assert one(t) == pytest.approx(float(system.osmotic_coefficient(t * m0, T)), rel=AGREE, abs=0)
-    rows = np.vstack([m0, 0.5 * m0, np.zeros_like(m0)])
+    rows = np.vstack([m0, 0.5 * m0, np.zeros_like(m0), 3.0 * m0])
     batch = system.scaled(rows, T)
-    t = np.array([1.0, 1.0, 1.0])
-    np.testing.assert_array_equal(batch(t), system.osmotic_coefficient(rows, T))  # bit for bit at t = 1
     for s in SCALES:
-        t = np.array([s, 2.0 * s, s])
+        t = np.array([s, 2.0 * s, s, s / 3.0])
         np.testing.assert_allclose(batch(t), system.osmotic_coefficient(rows * t[:, None], T), rtol=AGREE, atol=0)
+        assert batch(t)[2] == 1.0  # pure water
+        # a row and the same row inside a batch: the same bits (the sums run in one fixed order)
+        assert batch(t)[0] == one(s) and batch(t)[1] == system.scaled(0.5 * m0, T)(2.0 * s)
 
 
 @pytest.mark.parametrize("T", [273.15, 277.15, 313.15])
