@@ -130,6 +130,17 @@ def test_main_panel_figures(demo, name):
     assert_shows(freezes, -demo["osmometer_mosmol_per_kg"] * 1.858 / 1000.0)
 
 
+@pytest.mark.parametrize("name", [n for n in MAIN_SNAPS if n != "test_component_picker.svg"]  # the picker covers it
+                         + ["test_amount_preview_at_80x24.svg"])
+def test_panel_interval(demo, preview, name):
+    """The 95 % interval: 1.96 x the root sum of squares of the sources' standard deviations (the method the
+    evaluation states; the sources are calibrated in tests/tasks/test_uncertainty.py)."""
+    pm_osm, pm_mpa = shown(snapshot_text(name), r"±([\d.]+) mOsm/kg ±([\d.]+) MPa")
+    sources = (preview if "preview" in name else demo)["uncertainty"]["sources"]
+    assert_shows(pm_osm, 1.959963984540054 * math.sqrt(sum(x["sd_osmolality_mosmol_per_kg"] ** 2 for x in sources)))
+    assert_shows(pm_mpa, 1.959963984540054 * math.sqrt(sum(x["sd_potential_mpa"] ** 2 for x in sources)))
+
+
 def test_main_panel_osmolality_is_its_groups_and_zsr_shares(demo):
     text = snapshot_text("test_main_screen_at[140x45].svg")
     groups = {g: (float(v), int(p)) for g, v, p in re.findall(
@@ -159,10 +170,13 @@ def test_main_panel_osmolality_is_its_groups_and_zsr_shares(demo):
 def test_main_table_molalities(demo, component, formula, mg_per_l):
     """mmol/kg shown = mg/L / molar mass (periodictable, IUPAC weights) / water per litre (test_figures)."""
     text = snapshot_text("test_main_screen_at[140x45].svg")
-    amount, molality = shown(text, re.escape(component) + r"\s+([\d.]+ (?:mg|g)/L)\s+([\d.]+)")
+    amount, molality, share = shown(text, re.escape(component) + r"\s+([\d.]+ (?:mg|g)/L)\s+([\d.]+)\s+([\d.]+)%")
     assert float(amount.split()[0]) * (1000.0 if amount.endswith(" g/L") else 1.0) == mg_per_l
     expected = mg_per_l / periodictable.formula(formula).mass / demo["water_kg_per_l"]
     assert_shows(molality, expected)
+    # share: the component's part of the osmolality shown in the panel
+    (comp,) = [c for c in demo["components"] if c["name"] == component]
+    assert_shows(share, 100.0 * comp["osmolality_mosmol_per_kg"] / demo["osmolality_mosmol_per_kg"])
 
 
 def test_amount_preview_figures(demo, preview):
