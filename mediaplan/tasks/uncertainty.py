@@ -47,8 +47,6 @@ from mediaplan.medium.catalog import Catalog
 from mediaplan.medium.evaluate import Evaluation, evaluate, finite
 from mediaplan.medium.model import compiled
 from mediaplan.medium.recipe import Recipe
-from mediaplan.tasks.plasmolysis.design import SeriesDesign
-from mediaplan.tasks.solve import Solution
 from mediaplan.thermo import potential
 from mediaplan.thermo.constants import K_F_OSMOMETER, M_WATER, T0
 
@@ -639,58 +637,20 @@ def with_budget(ev: Evaluation, recipe: Recipe, catalog: Catalog, *,
     return EvaluationWithBudget(**{f.name: getattr(ev, f.name) for f in fields(Evaluation)}, budget=b)
 
 
-@dataclass
-class SolutionWithRanges(Solution):
-    """A :class:`~mediaplan.tasks.solve.Solution` with the budget of its result and the range of each
-    addition: ``to_dict()`` adds the result's interval keys, ``addition_ranges`` and ``uncertainty``."""
-
-    budget: Budget | None = None
-    ranges: list = field(default_factory=list)
-
-    def to_dict(self) -> dict:
-        d = super().to_dict()
-        if self.budget is not None:
-            bd = self.budget.to_dict()
-            d["result"].update({k: v for k, v in bd.items() if k != "uncertainty"})
-            d["addition_ranges"] = [r.to_dict() for r in self.ranges]
-            d["uncertainty"] = bd["uncertainty"]
-        return d
-
-
 def with_ranges(solution, catalog: Catalog, *, tolerances: Tolerances = Tolerances()):
-    """The solution with the budget of its result and the range of each addition (:func:`solve_ranges`)."""
-    from dataclasses import fields
+    """The solution with the budget of its result and the range of each addition (:func:`solve_ranges`);
+    a :class:`mediaplan.tasks.uncertain_results.SolutionWithRanges`."""
+    from mediaplan.tasks.uncertain_results import with_ranges as attach
 
-    b = budget(solution.recipe, catalog, tolerances=tolerances, evaluation=solution.evaluation)
-    ranges = solve_ranges(solution, catalog, tolerances=tolerances, budget_of_result=b)
-    return SolutionWithRanges(**{f.name: getattr(solution, f.name) for f in fields(type(solution)) if f.init
-                  and f.name not in ("budget", "ranges")}, budget=b, ranges=ranges)
-
-
-@dataclass
-class SeriesWithIntervals(SeriesDesign):
-    """A :class:`~mediaplan.tasks.plasmolysis.design.SeriesDesign` with each level's water potential as a
-    95 % interval: ``to_dict()`` adds ``water_potential_interval_mpa`` to each level and ``uncertainty``."""
-
-    level_intervals: list = field(default_factory=list)
-
-    def to_dict(self) -> dict:
-        d = super().to_dict()
-        d.pop("level_intervals", None)
-        for lv, iv in zip(d["levels"], self.level_intervals, strict=True):
-            lv["water_potential_interval_mpa"] = iv.to_list() if iv is not None else None
-        d["uncertainty"] = {"level": 0.95, "method": "each level's budget as made by weight: linearised, "
-                                                     "sources independent, value ± 1.96 sd"}
-        return finite(d)
+    return attach(solution, catalog, tolerances=tolerances)
 
 
 def with_level_intervals(design, background: Recipe, catalog: Catalog, *, tolerances: Tolerances = Tolerances()):
-    """The design with each level's water potential interval (:func:`level_potential_intervals`)."""
-    from dataclasses import fields
+    """The design with each level's water potential interval (:func:`level_potential_intervals`); a
+    :class:`mediaplan.tasks.uncertain_results.SeriesWithIntervals`."""
+    from mediaplan.tasks.uncertain_results import with_level_intervals as attach
 
-    ivs = level_potential_intervals(design, level_budgets(design, background, catalog, tolerances=tolerances))
-    return SeriesWithIntervals(**{f.name: getattr(design, f.name) for f in fields(type(design)) if f.init
-                  and f.name != "level_intervals"}, level_intervals=ivs)
+    return attach(design, background, catalog, tolerances=tolerances)
 
 
 def series_level_uncertainty(osmoticum: str | None, background: Recipe, catalog: Catalog, *,
