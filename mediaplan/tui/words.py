@@ -43,6 +43,8 @@ PLAIN_WORDS: dict[str, str] = {
     "series.stock": "stock solution", "stock_volume": "stock volume", "stock_factor": "stock strength",
     "form": "form on the shelf", "format": "sheet format", "trust": "which catalog entry to trust",
     "force": "permission to replace the file",
+    "reading.date": "day of the reading", "reading.record": "record of the reading",
+    "standards": "readings of the osmometer standards",
 }
 
 #: labels of the plasmolysis screen, where one osmoticum is typed and the volume is that of each level
