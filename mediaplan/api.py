@@ -353,6 +353,24 @@ def design_series(osmoticum: str, *, first: str | None = None, last: str | None 
     return with_level_intervals(design(recipe, osmoticum, psi, catalog=cat, stock=stock, spacing=spacing), recipe, cat)
 
 
+def stated_series(path: str | os.PathLike, osmoticum: str | None, background: Recipe | None) -> tuple[str | None, Recipe]:
+    """The osmoticum and the background of the series behind a counts file: the caller's, else what the file's
+    ``# key: value`` comments state; the background at the level volume (for the levels' uncertainty)."""
+    from mediaplan.files.counts import stated_in
+    from mediaplan.tasks.uncertainty import LEVEL_VOLUME
+
+    stated = {k: v for k, (_, v) in stated_in(path).items()}
+    if background is None:
+        changes: dict = {k: stated[k] for k in ("base", "temperature") if k in stated}
+        try:
+            if "strength" in stated:
+                changes["strength"] = float(stated["strength"])
+            background = Recipe(**changes)
+        except (ValueError, MediaplanError):
+            background = Recipe()  # the reader names a bad value in its own words
+    return osmoticum or stated.get("osmoticum"), background.with_settings(volume=LEVEL_VOLUME)
+
+
 def _counts_from_rows(rows: Iterable[Sequence[float]], temperature_k: float | None) -> Counts:
     from mediaplan.tasks.plasmolysis.counts import counts_from_rows
 
@@ -407,8 +425,9 @@ def fit_counts(counts: str | os.PathLike | Plan | Counts | Iterable[Sequence[flo
     if isinstance(counts, (str, os.PathLike)) and not str(counts).lower().endswith(".toml"):
         from mediaplan.files.counts import read_counts_csv
 
-        return fit_with_levels(read_counts_csv(counts, osmoticum=osmoticum, background=background, catalog=cat),
-                               link, cat, levels=levels)
+        read = read_counts_csv(counts, osmoticum=osmoticum, background=background, catalog=cat)
+        levels = series_level_uncertainty(*stated_series(counts, osmoticum, background), cat)
+        return fit_with_levels(read, link, cat, levels=levels)
     if isinstance(counts, (str, os.PathLike)):
         counts = planfile.read(counts, catalog=cat)
     if isinstance(counts, Plan):

@@ -57,18 +57,21 @@ def levels_uncertainty(args, plan, catalog):
     """psi [MPa] -> standard uncertainty [MPa] of a level made at psi, for the series behind the counts (the
     plan's [series], or --with in --base); None when the osmoticum is not known."""
     from mediaplan.medium.recipe import Recipe
-    from mediaplan.tasks.uncertainty import LEVEL_VOLUME, plan_series_uncertainty, series_level_uncertainty
+    from mediaplan.tasks.uncertainty import plan_series_uncertainty, series_level_uncertainty
 
     if plan is not None:
         return plan_series_uncertainty(plan.series, plan.recipe, catalog)
-    changes = {"volume": LEVEL_VOLUME}
+    from mediaplan.api import stated_series
+
+    changes = {}
     if args.base:
         changes["base"] = catalog.medium(args.base, field="--base").id
     if args.strength is not None:
         changes["strength"] = args.strength
     if args.temperature:
         changes["temperature"] = args.temperature
-    return series_level_uncertainty(args.osmoticum, Recipe(**changes), catalog)
+    osmoticum, background = stated_series(args.counts, args.osmoticum, Recipe(**changes) if changes else None)
+    return series_level_uncertainty(osmoticum, background, catalog)
 
 
 def save_plot(fit, out: str, *, force: bool = False, reads: tuple = ()) -> str:
