@@ -32,16 +32,19 @@ def _cells(r: dict) -> list[str]:
 
 
 def summary(rows: list[dict]) -> list[tuple[str, str]]:
-    """Per instrument: readings, how many consistent, mean and s.d. of the deviation [%] (the instrument's
-    bias and scatter against the plans, or the kitchen's)."""
+    """Per instrument: readings, how many consistent, and the mean and s.d. of the deviation [%] of the
+    consistent ones (the instrument's bias and scatter against the plans; batches with a slip left out)."""
     out = []
     for inst in sorted({r["instrument"] for r in rows if not r.get("error") and r.get("instrument")}):
-        devs = [r["deviation_percent"] for r in rows if not r.get("error") and r["instrument"] == inst]
-        ok = sum(1 for r in rows if not r.get("error") and r["instrument"] == inst and r["verdict"] == "consistent")
-        mean = sum(devs) / len(devs)
-        sd = math.sqrt(sum((d - mean) ** 2 for d in devs) / (len(devs) - 1)) if len(devs) > 1 else math.nan
-        out.append((inst, f"{len(devs)} readings, {ok} consistent; deviation {mean:+.1f} % on average"
-                          + (f" (s.d. {sd:.1f} %)" if math.isfinite(sd) else "")))
+        mine = [r for r in rows if not r.get("error") and r["instrument"] == inst]
+        devs = [r["deviation_percent"] for r in mine if r["verdict"] == "consistent"]
+        text = f"{len(mine)} reading{'s' if len(mine) != 1 else ''}, {len(devs)} consistent"
+        if devs:
+            mean = sum(devs) / len(devs)
+            sd = math.sqrt(sum((d - mean) ** 2 for d in devs) / (len(devs) - 1)) if len(devs) > 1 else math.nan
+            text += f"; those read {mean:+.1f} % from the plans on average" + (
+                f" (s.d. {sd:.1f} %)" if math.isfinite(sd) else "")
+        out.append((inst, text))
     bad = sum(1 for r in rows if r.get("error"))
     if bad:
         out.append(("not checked", f"{bad} reading{'s' if bad != 1 else ''}"))
