@@ -108,7 +108,7 @@ def evaluate(recipe: Recipe, catalog: Catalog, *, cell_reference_mosmol: float |
     comps = [ln.component for ln in lines]
     model = compiled(catalog, comps, T)
     n, b = model.amounts_to_arrays([ln.amount for ln in lines])
-    check_plausible(lines, molality_of(model, lines, n, b))
+    check_plausible(lines, molality_of(model, lines, n, b), catalog.pitzer)
     st = model.solve(n[None, :], b[None, :])
     mix = st.mix
     y = float(mix.osmolality[0])

@@ -39,6 +39,13 @@ STRENGTH_SCOPES: dict[str, frozenset[str] | None] = {
 }
 DEFAULT_STRENGTH_SCOPE = "all"
 
+#: a salt past this multiple of the top molality its Pitzer parameters were fitted to (``max_m`` of the
+#: catalog's pitzer.yaml) is refused: a little past it the figures still follow the data's trend, far past
+#: it the osmotic coefficient turns negative or the terms overflow (KNO3 at 7.5 mol/kg, twice its max_m of
+#: 3.8, gives 0 mOsm/kg at 0 °C and no answer at 25 °C). 1.25 keeps every salt of the catalog usable up to
+#: its 25 °C solubility or beyond (common practice: a quarter past the data is the most any fit is trusted)
+PITZER_RANGE_FACTOR = 1.25
+
 
 @dataclass(frozen=True)
 class Line:
@@ -143,7 +150,7 @@ class Recipe:
             return
         model = compiled(catalog, [ln.component for ln in lines], self.temperature_k)
         n, b = model.amounts_to_arrays([ln.amount for ln in lines])
-        check_plausible(lines, molality_of(model, lines, n, b))
+        check_plausible(lines, molality_of(model, lines, n, b), catalog.pitzer)
 
     def scales(self, component: Component) -> bool:
         """True when the strength applies to this component's base line (by its catalog group)."""
@@ -176,13 +183,14 @@ class Recipe:
         return [ln for ln in out.values() if not ln.amount.is_zero]
 
 
-def check_plausible(lines: list[Line], molality) -> None:
+def check_plausible(lines: list[Line], molality, pitzer=None) -> None:
     """Refuse amounts no medium can hold, before any model is asked about them.
 
     Parameters
     ----------
     lines : the effective recipe (:meth:`Recipe.lines`)
     molality : molality of each line's component [mol/kg water], same order
+    pitzer : the catalog's Pitzer parameters (``Catalog.pitzer``), for the range of each salt's own pair
 
     Raises
     ------
@@ -213,11 +221,29 @@ def check_plausible(lines: list[Line], molality) -> None:
         else:
             limit = PLAUSIBLE_MAX_MOLALITY
             why = "the most any medium or stock holds"
+        pair = _pair_range(c, pitzer)
+        if pair is not None and PITZER_RANGE_FACTOR * pair[1] < limit:
+            limit = PITZER_RANGE_FACTOR * pair[1]
+            why = (f"{PITZER_RANGE_FACTOR:g} times the top of the data its Pitzer parameters were fitted to "
+                   f"({pair[0]}, {pair[1]:g} mol/kg); past it no figure of the model can be trusted")
         if m > limit:
             name = c.name if not c.formula or c.formula == c.name else f"{c.name} ({c.formula})"
             what = ln.amount.text if ln.amount.kind == "molal" else f"{ln.amount.text} ({m:.3g} mol/kg)"
             raise AmountError(f"{name} at {what} is past {limit:.3g} mol/kg, {why}",
                               field=_field_of(ln), hint="check the number and its unit")
+
+
+def _pair_range(c: Component, pitzer) -> tuple[str, float] | None:
+    """(pair in words, max_m [mol/kg]) of a salt made of one cation and one anion with Pitzer parameters."""
+    if pitzer is None or len(c.species) != 2:
+        return None
+    (a, _), (b, _) = c.species
+    binary = getattr(pitzer, "binary", {}) or {}
+    p = binary.get((a, b)) or binary.get((b, a))
+    max_m = getattr(p, "max_m", None)
+    if not max_m:
+        return None
+    return f"{p.cation.split('[')[0]}–{p.anion.split('[')[0]}", float(max_m)
 
 
 def molality_of(model, lines: list[Line], n, b):

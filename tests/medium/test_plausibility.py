@@ -21,9 +21,17 @@ from mediaplan.medium.recipe import (
     ("potassium_nitrate", "150 mol/kg"),  # gave a freezing point of −10361 °C with exit 0 (issue 17)
     ("calcium_chloride_anhydrous", "190 mol/kg"),  # overflowed in the Pitzer terms (issue 17)
     ("calcium_chloride_anhydrous", "2000 g/L"),  # a per-litre amount: its molality is past the limit too
-    ("sucrose", "1500 g/L"),
-    ("mannitol", "3 mol/kg"),
 ])
+def test_a_salt_past_its_limit_is_refused_with_the_limit(catalog, cid, amount):
+    comp = catalog.components[cid]
+    with pytest.raises(AmountError) as info:
+        evaluate(Recipe().with_amount(cid, amount), catalog)
+    assert info.value.field == f"medium.components.{cid}"
+    assert "past" in info.value.message and "Pitzer parameters" in info.value.message
+    assert comp.saturation_molality is not None
+
+
+@pytest.mark.parametrize("cid, amount", [("sucrose", "1500 g/L"), ("mannitol", "3 mol/kg")])
 def test_past_twice_the_solubility_is_refused_with_the_limit(catalog, cid, amount):
     comp = catalog.components[cid]
     limit = PLAUSIBLE_SATURATION_FACTOR * comp.saturation_molality
@@ -36,7 +44,7 @@ def test_past_twice_the_solubility_is_refused_with_the_limit(catalog, cid, amoun
 
 def test_forms_of_one_substance_count_together(catalog):
     # each form alone below the limit, together above it
-    half = PLAUSIBLE_SATURATION_FACTOR * catalog.components["calcium_chloride_anhydrous"].saturation_molality * 0.6
+    half = 1.25 * 5.0 * 0.6  # 0.6 of the Ca–Cl limit: 1.25 x max_m 5 mol/kg (May et al. 2011)
     r = Recipe().with_amount("calcium_chloride_anhydrous", f"{half:.4g} mol/kg")
     evaluate(r, catalog)
     with pytest.raises(AmountError, match="past"):
@@ -60,7 +68,7 @@ def test_a_base_line_past_the_limit_names_the_strength(catalog):
 
 
 def test_above_the_solubility_but_within_the_limit_still_warns(catalog):
-    m = 1.5 * catalog.components["potassium_nitrate"].saturation_molality
+    m = 1.2 * catalog.components["potassium_nitrate"].saturation_molality  # past 3.79, below 4.75 mol/kg
     with warnings.catch_warnings():
         warnings.simplefilter("error", RuntimeWarning)
         ev = evaluate(Recipe().with_amount("potassium_nitrate", f"{m:.4g} mol/kg"), catalog)
@@ -74,7 +82,7 @@ def test_cli_names_the_plan_line_and_exits_2(tmp_path, capsys):
     for argv in (["calc", "--plan", str(plan)], ["calc", "KNO3=150 mol/kg"], ["prep", str(plan)]):
         assert main(argv) == 2
         err = capsys.readouterr().err.strip()
-        assert len(err.splitlines()) == 1 and "past 7.58 mol/kg" in err, err  # 2 x 3.79 mol/kg (38.3 g/100 g)
+        assert len(err.splitlines()) == 1 and "past 4.75 mol/kg" in err, err  # 1.25 x max_m 3.8 (May 2011)
         if "--plan" in argv or "prep" in argv:
             assert f"{plan}:10" in err
 
@@ -85,3 +93,13 @@ def test_no_water_left_names_the_component_that_fills_the_volume(catalog):
         evaluate(Recipe().with_amount("sucrose", "10 g/L").with_amount("potassium_nitrate", "253 % w/v"), catalog)
     assert info.value.field == "medium.components.potassium_nitrate"
     assert "potassium nitrate at 253 % w/v" in info.value.message
+
+
+def test_a_salt_far_past_its_pitzer_data_is_refused(catalog):
+    # KNO3 at 7.5 mol/kg gave 0 mOsm/kg at 0 °C and no answer at 25 °C; max_m 3.8 (May et al. 2011)
+    for T in ("0 degC", "25 degC"):
+        with pytest.raises(AmountError, match=r"past 4.75 mol/kg, 1.25 times the top of the data") as info:
+            evaluate(Recipe(temperature=T).with_amount("potassium_nitrate", "7.5 mol/kg"), catalog)
+        assert info.value.field == "medium.components.potassium_nitrate"
+    ev = evaluate(Recipe().with_amount("potassium_nitrate", "4.7 mol/kg"), catalog)
+    assert ev.osmolality_mosmol_per_kg > 0
