@@ -42,8 +42,9 @@ DEFAULT_STRENGTH_SCOPE = "all"
 #: a salt past this multiple of the top molality its Pitzer parameters were fitted to (``max_m`` of the
 #: catalog's pitzer.yaml) is refused: a little past it the figures still follow the data's trend, far past
 #: it the osmotic coefficient turns negative or the terms overflow (KNO3 at 7.5 mol/kg, twice its max_m of
-#: 3.8, gives 0 mOsm/kg at 0 °C and no answer at 25 °C). 1.25 keeps every salt of the catalog usable up to
-#: its 25 °C solubility or beyond (common practice: a quarter past the data is the most any fit is trusted)
+#: 3.8, gives 0 mOsm/kg at 0 °C and no answer at 25 °C). 1.25 keeps the salts of the catalog usable up to
+#: their 25 °C solubility, all but CaCl2 (to 6.25 of its 7.5 mol/kg) (common practice: a quarter past the
+#: data is the most any fit is trusted)
 PITZER_RANGE_FACTOR = 1.25
 
 
