@@ -222,6 +222,20 @@ def _copy_tree(dest: Path) -> None:
             shutil.copytree(src, dest / name, ignore=IGNORED, symlinks=True)
         elif src.is_file():
             shutil.copy2(src, dest / name)
+    # the bundled catalog is the package data mediaplan._catalog: an editable install maps that name onto the
+    # checkout's catalog/, so the copy gets its own mediaplan/_catalog pointing at the copied (mutated) folder
+    (dest / "mediaplan" / "_catalog").symlink_to(Path("..") / "catalog", target_is_directory=True)
+
+
+def _check_tree(tree: Path) -> None:
+    """The copy imports its own package and reads its own catalog (else no mutant could be seen)."""
+    code = ("import mediaplan, pathlib; from mediaplan.files.catalog import bundled_folder; "
+            "print(pathlib.Path(mediaplan.__file__).resolve().parent.parent); print(bundled_folder().resolve())")
+    env = dict(os.environ, PYTHONPATH=str(tree))
+    out = subprocess.run([sys.executable, "-c", code], cwd=tree, env=env, capture_output=True, text=True).stdout.split()
+    want = [str(tree.resolve()), str((tree / "catalog").resolve())]
+    if out != want:
+        raise SystemExit(f"the copy in {tree} does not use its own package and catalog: {out} (expected {want})")
 
 
 def _run_subset(tree: Path, subset: str, timeout: float) -> tuple[int, str]:
@@ -281,6 +295,7 @@ def main(argv: list[str] | None = None) -> int:
             tree = work / f"tree{j}"
             tree.mkdir()
             _copy_tree(tree)
+            _check_tree(tree)
             trees.append(tree)
         # the unmutated copy must pass every subset used, else a failure says nothing about a mutant
         for subset in sorted({m.subset for m in todo}):
