@@ -246,12 +246,12 @@ def predict(recipe: Recipe, catalog: Catalog, instrument: Instrument) -> Predict
 
 def combined_interval(pred: Prediction, instrument: Instrument, value: float | None = None) -> tuple[float, float]:
     """The 95 % interval of a reading [mOsm/kg]: the model interval (scaled to ``value`` when given)
-    and the instrument's repeatability, combined in quadrature on each side."""
+    and the instrument's repeatability, combined in quadrature on each side; never below zero."""
     v = pred.value if value is None else value
     k = v / pred.value if pred.value > 0 else 1.0
     lo_m, hi_m = (pred.value - pred.low) * k, (pred.high - pred.value) * k
     inst = Z95 * instrument.sd(v)
-    return v - math.hypot(lo_m, inst), v + math.hypot(hi_m, inst)
+    return max(v - math.hypot(lo_m, inst), 0.0), v + math.hypot(hi_m, inst)
 
 
 # ---- slips ----------------------------------------------------------------------------------------

@@ -23,7 +23,8 @@ def reading_text(d: dict, *, title: str | None = None) -> str:
                                f"±{d['repeatability_sd_mosmol_per_kg']:.1f} mOsm/kg s.d.)"),
              ("Reading", f"{d['reading_mosmol_per_kg']:.1f} mOsm/kg"
               + (f" (displayed {d['displayed_mosmol_per_kg']:.1f}, calibrated)" if d.get("calibration") else "")),
-             ("Deviation", f"{d['deviation_mosmol_per_kg']:+.1f} mOsm/kg ({d['deviation_percent']:+.1f} %)"),
+             ("Deviation", f"{d['deviation_mosmol_per_kg']:+.1f} mOsm/kg"
+              + (f" ({d['deviation_percent']:+.1f} %)" if d.get("deviation_percent") is not None else "")),
              ("Verdict", f"{d['verdict']}: {_VERDICT[d['verdict']]}")]
     out = [title] if title else []
     out += pairs_table(pairs)

@@ -27,7 +27,9 @@ def _cells(r: dict) -> list[str]:
                 str(r.get("value") or ""), "", "", "", "not checked", r["error"], str(r.get("note") or "")]
     return [r["plan"], str(r.get("date") or ""), r["instrument"], str(r.get("operator") or ""),
             f"{r['reading_mosmol_per_kg']:.1f}", f"{r['predicted_mosmol_per_kg']:.1f}",
-            f"{r['low']:.1f}–{r['high']:.1f}", f"{r['deviation_percent']:+.1f}", r["verdict"], r.get("slip") or "",
+            f"{r['low']:.1f}–{r['high']:.1f}",
+            f"{r['deviation_percent']:+.1f}" if r["deviation_percent"] == r["deviation_percent"] else "",
+            r["verdict"], r.get("slip") or "",
             str(r.get("note") or "")]
 
 
@@ -37,7 +39,8 @@ def summary(rows: list[dict]) -> list[tuple[str, str]]:
     out = []
     for inst in sorted({r["instrument"] for r in rows if not r.get("error") and r.get("instrument")}):
         mine = [r for r in rows if not r.get("error") and r["instrument"] == inst]
-        devs = [r["deviation_percent"] for r in mine if r["verdict"] == "consistent"]
+        devs = [r["deviation_percent"] for r in mine if r["verdict"] == "consistent"
+                and r["deviation_percent"] == r["deviation_percent"]]
         text = f"{len(mine)} reading{'s' if len(mine) != 1 else ''}, {len(devs)} consistent"
         if devs:
             mean = sum(devs) / len(devs)

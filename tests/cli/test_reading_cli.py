@@ -218,3 +218,17 @@ def test_lab_repeatability_is_stored_and_used(plan, predicted, capsys):
     assert main(["reading", str(plan), f"{predicted} mOsm/kg", "--repeatability", "1 mOsm/kg", "--json"]) == 0
     assert _json(capsys)["repeatability_sd_mosmol_per_kg"] == pytest.approx(max(1.0, 0.005 * predicted))
     assert main(["osmometer", "repeatability", "3 MPa"]) == 2
+
+
+def test_a_plan_without_solutes(tmp_path, capsys):
+    empty = tmp_path / "water.toml"
+    empty.write_text('[mediaplan]\nformat = "mediaplan-plan"\nversion = "1.0"\n[medium]\nvolume = "1 L"\n')
+    assert main(["reading", str(empty), "0 mOsm/kg"]) == 0
+    assert main(["reading", str(empty), "12 mOsm/kg", "--record"]) == 1
+    out = capsys.readouterr().out
+    assert "Predicted      0.0 mOsm/kg" in out and "no single slip explains" in out
+    assert main(["reading", str(empty), "12 mOsm/kg", "--json"]) == 1
+    d = _json(capsys)
+    assert d["deviation_percent"] is None and d["interval_mosmol_per_kg"][0] == 0.0
+    assert main(["osmometer", "report", str(empty), "--json"]) == 0
+    assert _json(capsys)[0]["deviation_percent"] is None

@@ -97,7 +97,9 @@ def run(args) -> int:
         raise AmountError("no plans given", field="plans", hint="name the plan files whose readings to report")
     rows = report_rows(args.items, catalog_from(args), raw=args.raw)
     if args.json:
-        print_json(rows, args.output, force=args.force, reads=tuple(args.items))
+        from mediaplan.medium.evaluate import finite
+
+        print_json(finite(rows), args.output, force=args.force, reads=tuple(args.items))
     else:
         from mediaplan.files.output import write_output
         from mediaplan.views.readings_report import facility_report

@@ -43,7 +43,9 @@ def verdict_text(result) -> Text:
     out.append(result.verdict.upper(), style=style)
     out.append(f"  reading {result.reading_mosmol_per_kg:.1f} mOsm/kg, predicted "
                f"{result.predicted_mosmol_per_kg:.1f} (95 % {lo:.1f}–{hi:.1f}), deviation "
-               f"{result.deviation_mosmol_per_kg:+.1f} mOsm/kg ({result.deviation_percent:+.1f} %)")
+               f"{result.deviation_mosmol_per_kg:+.1f} mOsm/kg"
+               + (f" ({result.deviation_percent:+.1f} %)" if result.deviation_percent == result.deviation_percent
+                  else ""))
     if result.verdict != "consistent":
         out.append("\nno single slip explains it" if result.none_explains else "\nslips that would explain it:")
     return out
