@@ -458,11 +458,98 @@ _CACHE: dict[tuple, Catalog] = {}
 
 
 def get_catalog(extra: Iterable[Path | str] = ()) -> Catalog:
-    """The default catalog (cached per process and per set of extra folders)."""
+    """The default catalog (cached per process and per set of extra folders, and on disk: see
+    :func:`_load_through_disk_cache`)."""
+    extra = tuple(extra)
     key = (tuple(str(p) for p in default_folders()), tuple(str(e) for e in extra))
     if key not in _CACHE:
-        _CACHE[key] = load_catalog(extra=extra)
+        _CACHE[key] = _load_through_disk_cache(extra)
     return _CACHE[key]
+
+
+#: the catalog files of a folder that load_catalog reads, and the code whose parsing a stored catalog holds
+_CODE_FILES = ("files/catalog.py", "files/reading.py", "files/yamlio.py", "medium/catalog.py", "medium/units.py",
+               "medium/errors.py", "thermo/params.py", "thermo/pitzer.py", "thermo/neutral.py", "thermo/ions.py")
+#: largest catalog file hashed for the disk cache [bytes] (larger ones are left to load_catalog to refuse)
+_CACHE_MAX_FILE = 4 * 1024 * 1024
+
+
+def _cache_key(paths: list[Path]) -> str | None:
+    """A digest of every file load_catalog would read in ``paths`` (names and bytes), of the code that
+    parses them and of the Python version; None when any of them is not a plain small file (load_catalog
+    then reads the folders and says what is wrong, nothing is stored)."""
+    import stat
+    import sys
+
+    h = hashlib.blake2b(digest_size=20)
+    h.update(sys.version.encode())
+    here = Path(__file__).resolve().parents[1]
+    files = [here / c for c in _CODE_FILES]
+    for folder in paths:
+        h.update(b"\0folder\0" + str(folder).encode())
+        if not folder.is_dir():
+            return None
+        files += _component_files(folder) + _medium_files(folder)
+        files += [f for f in (folder / "pitzer.yaml", folder / "neutral.yaml") if os.path.lexists(f)]
+    for f in files:
+        try:
+            st = os.stat(f)
+            if not stat.S_ISREG(st.st_mode) or st.st_size > _CACHE_MAX_FILE:
+                return None
+            with open(f, "rb") as fh:
+                data = fh.read(_CACHE_MAX_FILE + 1)
+        except OSError:
+            return None
+        h.update(b"\0file\0" + str(f).encode() + b"\0" + len(data).to_bytes(8, "little") + data)
+    return h.hexdigest()
+
+
+def _load_through_disk_cache(extra: tuple) -> Catalog:
+    """load_catalog(extra=extra), served from the user's cache folder when every file it reads (and the code
+    that parses them) is byte for byte what it was when that catalog was stored.
+
+    Start-up of a command otherwise spends most of its time parsing the YAML and the amounts of every
+    medium. The cache is a pickle in ``<cache dir>/catalog/`` named by the digest of those files; a catalog
+    that fails to load is never stored; any trouble with the cache folder falls back to loading afresh.
+    """
+    import pickle
+
+    from mediaplan.files.paths import user_cache_dir
+
+    paths = list(default_folders()) + [Path(e) for e in extra]
+    try:
+        key = _cache_key(paths)
+        folder = user_cache_dir() / "catalog"
+    except Exception:  # noqa: BLE001 - a cache must never stop the program
+        key = None
+    if key is not None:
+        try:
+            with open(folder / f"{key}.pickle", "rb") as fh:
+                got = pickle.load(fh)  # the user's own cache folder, written by the code below
+            if isinstance(got, Catalog):
+                return got
+        except Exception:  # noqa: BLE001 - missing, stale or unreadable: load afresh
+            pass
+    cat = load_catalog(extra=extra)
+    if key is not None:
+        try:
+            import tempfile
+
+            folder.mkdir(parents=True, exist_ok=True)
+            fd, tmp = tempfile.mkstemp(dir=folder, suffix=".tmp")
+            try:
+                with os.fdopen(fd, "wb") as fh:
+                    pickle.dump(cat, fh, protocol=pickle.HIGHEST_PROTOCOL)
+                os.replace(tmp, folder / f"{key}.pickle")
+            finally:
+                if os.path.exists(tmp):
+                    os.unlink(tmp)
+            stored = sorted(folder.glob("*.pickle"), key=lambda f: f.stat().st_mtime, reverse=True)
+            for old in stored[8:]:  # keep the latest few
+                old.unlink(missing_ok=True)
+        except Exception:  # noqa: BLE001 - a cache must never stop the program
+            pass
+    return cat
 
 
 

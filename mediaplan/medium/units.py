@@ -50,8 +50,9 @@ _CACHE_FOLDER: Path | None = None
 def use_cache_folder(folder: Path | None) -> None:
     """Keep pint's parsed definitions in ``folder`` (start-up 0.3 s -> 0.02 s). The front ends call this
     with the user's cache folder before the first parse; the medium layer itself chooses no folder."""
-    global _CACHE_FOLDER
+    global _CACHE_FOLDER, _FACTS
     _CACHE_FOLDER = folder
+    _FACTS = None  # read again from the new folder (see _unit_facts)
 
 
 def registry() -> pint.UnitRegistry:
@@ -388,15 +389,99 @@ def _read(text: str, ctx: _Context, field: str | None, *, temperature: bool = Fa
 
 
 @lru_cache(maxsize=256)
-def _dims(unit_text: str) -> pint.util.UnitsContainer:
-    """Dimensionality of a unit text of our own or built by the grammar."""
-    return registry().parse_units(unit_text).dimensionality
+def _dims(unit_text: str) -> frozenset:
+    """Dimensionality of a unit text of our own or built by the grammar: frozenset of (dimension, power)."""
+    facts = _unit_facts()
+    got = facts["dims"].get(unit_text)
+    if got is None:
+        got = sorted((str(k), int(v)) for k, v in registry().parse_units(unit_text).dimensionality.items())
+        _learn("dims", unit_text, got)
+    return frozenset((k, v) for k, v in got)
 
 
 @lru_cache(maxsize=512)
 def _factor(unit_text: str, to: str) -> float:
     """How many ``to`` one ``unit_text`` is (both of our own or built by the grammar; multiplicative)."""
-    return float(Q_(1.0, unit_text).to(to).magnitude)
+    facts = _unit_facts()
+    key = f"{unit_text}|{to}"
+    got = facts["factors"].get(key)
+    if got is None:
+        got = float(Q_(1.0, unit_text).to(to).magnitude)
+        _learn("factors", key, got)
+    return float(got)
+
+
+# What pint answered about a unit (its dimensions, a conversion factor) is kept in the cache folder, so that
+# a later run of the program need not import pint at all for units it has met (most start-ups meet only
+# the units of the catalog and of one plan). The file names the pint version and this module's digest it
+# was learnt under and is ignored when either differs; a float survives JSON exactly (repr).
+_FACTS: dict | None = None
+_FACTS_DIRTY = False
+
+
+def _facts_key() -> str:
+    """Which pint (its package file, as installed: a reinstall changes it) and which version of this module."""
+    import hashlib
+    import importlib.util
+    import os
+
+    spec = importlib.util.find_spec("pint")  # finds pint without importing it
+    st = os.stat(spec.origin) if spec and spec.origin else None
+    pint_id = f"{spec.origin if spec else None} {st.st_size if st else 0} {st.st_mtime_ns if st else 0}"
+    return f"pint {pint_id}; {hashlib.blake2b(Path(__file__).read_bytes(), digest_size=12).hexdigest()}"
+
+
+def _unit_facts() -> dict:
+    global _FACTS
+    if _FACTS is None:
+        facts = {"dims": {}, "factors": {}}
+        if _CACHE_FOLDER is not None:
+            try:
+                import json
+
+                key = _facts_key()
+                stored = json.loads((_CACHE_FOLDER / "unit_facts.json").read_text(encoding="utf-8"))
+                if stored.get("key") == key and isinstance(stored.get("dims"), dict) and isinstance(
+                        stored.get("factors"), dict):
+                    facts = {"dims": stored["dims"], "factors": stored["factors"]}
+            except Exception:  # noqa: BLE001 - missing or unreadable: pint answers, as without a cache
+                pass
+        _FACTS = facts
+    return _FACTS
+
+
+def _learn(table: str, key: str, value) -> None:
+    global _FACTS_DIRTY
+    _unit_facts()[table][key] = value
+    if _CACHE_FOLDER is not None and not _FACTS_DIRTY:
+        import atexit
+
+        _FACTS_DIRTY = True
+        atexit.register(_save_facts)
+
+
+def _save_facts() -> None:
+    """Write what was learnt (atomically: a temporary file in the folder, then a rename)."""
+    global _FACTS_DIRTY
+    if _FACTS is None or _CACHE_FOLDER is None:
+        return
+    try:
+        import json
+        import os
+        import tempfile
+
+        _CACHE_FOLDER.mkdir(parents=True, exist_ok=True)
+        fd, tmp = tempfile.mkstemp(dir=_CACHE_FOLDER, suffix=".tmp")
+        try:
+            with os.fdopen(fd, "w", encoding="utf-8") as fh:
+                json.dump({"key": _facts_key(), **_FACTS}, fh)
+            os.replace(tmp, _CACHE_FOLDER / "unit_facts.json")
+        finally:
+            if os.path.exists(tmp):
+                os.unlink(tmp)
+        _FACTS_DIRTY = False
+    except Exception:  # noqa: BLE001 - a cache must never stop the program
+        pass
 
 
 _AMOUNT_KINDS = {("mass", "volume"): "mass_conc", ("substance", "volume"): "molar",
@@ -441,6 +526,8 @@ def _si(number: float, unit: _Unit, kind: str) -> float:
     if unit.percent is not None:
         return number / 100.0
     if kind == "temperature":
+        if unit.text in ("degC", "K"):  # pint's offset conversion, x * 1 + 273.15, without pint
+            return float(number + 273.15) if unit.text == "degC" else float(number)
         return float(Q_(number, unit.text).to("K").magnitude)
     return number * _factor(unit.text, MEASURE_SI_UNIT[kind])
 
