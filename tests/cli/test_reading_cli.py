@@ -212,7 +212,7 @@ def test_lab_repeatability_is_stored_and_used(plan, predicted, capsys):
     default = _json(capsys)["repeatability_sd_mosmol_per_kg"]
     # freezing-point default: the larger of 2 mOsm/kg and 0.5 % (common practice)
     assert default == pytest.approx(max(2.0, 0.005 * predicted))
-    assert main(["osmometer", "repeatability", "5 mOsm/kg"]) == 0
+    assert main(["osmometer", "repeatability", "5 mOsm/kg"]) == 0  # an invented lab's figure
     assert main(["reading", str(plan), f"{predicted} mOsm/kg", "--json"]) == 0
     assert _json(capsys)["repeatability_sd_mosmol_per_kg"] == pytest.approx(5.0)
     assert main(["reading", str(plan), f"{predicted} mOsm/kg", "--repeatability", "1 mOsm/kg", "--json"]) == 0
@@ -221,6 +221,7 @@ def test_lab_repeatability_is_stored_and_used(plan, predicted, capsys):
 
 
 def test_a_plan_without_solutes(tmp_path, capsys):
+    # pure water reads 0 (by definition); 12 mOsm/kg is an invented reading
     empty = tmp_path / "water.toml"
     empty.write_text('[mediaplan]\nformat = "mediaplan-plan"\nversion = "1.0"\n[medium]\nvolume = "1 L"\n')
     assert main(["reading", str(empty), "0 mOsm/kg"]) == 0

@@ -27,6 +27,7 @@ volume = "1 L"
 sucrose = "30 g/L"
 """
 
+# invented readings of an invented batch (the figures only need to be read and written back)
 READINGS = """
 # first batch of the week
 [[readings]]
