@@ -173,6 +173,8 @@ FLAG_OF_FIELD = {
     "stock_factor": "--factor", "form": "--form", "force": "--force",
     "instrument": "--instrument", "chamber_temperature": "--chamber", "repeatability": "--repeatability",
     "reading.date": "--date", "reading.record": "--record", "standards": "NOMINAL=DISPLAYED",
+    "storage_temperature": "--storage-temperature", "strength_scope": "--strength-scope",
+    "series.preparation": "--preparation", "ph": "--ph",
 }
 
 

@@ -57,6 +57,8 @@ ACTIONS: tuple[UserAction, ...] = (
                "Notes on the figures in plain words, or with the models' details", rank=45),
     UserAction("compare", "v", "compare_plans", "Compare", "Compare with another plan…",
                "The open plan beside another plan file: figures, settings and components that differ", rank=47),
+    UserAction("reading", "g", "osmometer_reading", "Reading", "Check an osmometer reading of a batch",
+               "Osmometer reading of a batch against the plan; record it", where="app", rank=48),
     UserAction("prep", "m", "prep_sheet", "Prep", "Preparation sheet for a batch",
                "What to weigh for a batch volume, with or without stock solutions", rank=10),
     UserAction("undo", "u,ctrl+z", "undo", "Undo", "Undo the last change", "Undo the last change", key_display="u",
@@ -75,13 +77,6 @@ ACTIONS: tuple[UserAction, ...] = (
                where="app", key_display="q", rank=2),
 )
 
-#: actions with a key and a palette entry that the help screen does not list yet (it is full at 100x32: one
-#: more row hides the last key); they join ACTIONS when the help screen scrolls or lays out in columns
-MORE_ACTIONS: tuple[UserAction, ...] = (
-    UserAction("reading", "g", "osmometer_reading", "Reading", "Check an osmometer reading of a batch",
-               "Osmometer reading of a batch against the plan; record it", where="app", show=False, rank=48),
-)
-
 #: rank of a binding in the key bar by its id (the actions above, and the keys of the other screens)
 RANK: dict[str, int] = {f"mediaplan.{a.id}": a.rank for a in ACTIONS}
 #: the key bar's short labels by binding id
@@ -90,5 +85,5 @@ SHORT: dict[str, str] = {f"mediaplan.{a.id}": a.short for a in ACTIONS if a.shor
 
 def bindings(where: str) -> list[Binding]:
     return [Binding(a.keys, a.action, a.label, show=a.show, key_display=a.key_display, tooltip=a.tooltip,
-                    id=f"mediaplan.{a.id}") for a in (*ACTIONS, *MORE_ACTIONS) if a.where == where]
+                    id=f"mediaplan.{a.id}") for a in ACTIONS if a.where == where]
 

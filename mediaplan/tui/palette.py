@@ -11,7 +11,7 @@ from functools import partial
 from textual.command import DiscoveryHit, Hit, Hits, Provider
 from textual.content import Content
 
-from mediaplan.tui.actions import ACTIONS, MORE_ACTIONS
+from mediaplan.tui.actions import ACTIONS
 
 
 class PlanCommands(Provider):
@@ -25,7 +25,7 @@ class PlanCommands(Provider):
         main = self._main()
         if main is None:
             return
-        for a in (*ACTIONS, *MORE_ACTIONS):
+        for a in ACTIONS:
             target = main if a.where == "screen" else self.app
             if target.check_action(a.action, ()):
                 yield a.title, a.tooltip, partial(target.run_action, a.action)

@@ -51,9 +51,11 @@ def _screens(recipe: Recipe, catalog: Catalog) -> None:
     import textual_plotext  # noqa: F401
     from textual.widgets import DataTable, Markdown  # noqa: F401
 
+    import mediaplan.tui.screens.compare  # noqa: F401
     import mediaplan.tui.screens.plasmolysis  # noqa: F401
     import mediaplan.tui.screens.prep  # noqa: F401
     import mediaplan.tui.screens.projection  # noqa: F401
+    import mediaplan.tui.screens.reading  # noqa: F401
     import mediaplan.tui.screens.target  # noqa: F401
 
 

@@ -45,6 +45,8 @@ PLAIN_WORDS: dict[str, str] = {
     "force": "permission to replace the file",
     "reading.date": "day of the reading", "reading.record": "record of the reading",
     "standards": "readings of the osmometer standards",
+    "storage_temperature": "storage temperature of the plan", "strength_scope": "which lines the strength scales",
+    "series.preparation": "how the levels are made", "ph": "pH on the sheet",
 }
 
 #: labels of the plasmolysis screen, where one osmoticum is typed and the volume is that of each level

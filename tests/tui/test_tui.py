@@ -21,6 +21,7 @@ from mediaplan.tui.dialogs.picker import PickerScreen
 from mediaplan.tui.screens.main import MainScreen
 from mediaplan.tui.session import Session, find_recoveries
 from mediaplan.tui.widgets.relations import RelationsPanel, figures
+from tests.tui.tui_helpers import screen_lines
 
 SIZE = (100, 32)
 
@@ -243,6 +244,12 @@ async def test_palette_offers_state_dependent_commands(catalog):
         assert "add D-mannitol" in hits
 
 
+def _help_keys(keys: str) -> str:
+    from mediaplan.tui.screens.help import _keys
+
+    return _keys(keys)
+
+
 @run_async
 async def test_help_lists_every_binding(catalog):
     from mediaplan.tui.actions import ACTIONS
@@ -251,9 +258,12 @@ async def test_help_lists_every_binding(catalog):
     async with app.run_test(size=SIZE) as pilot:
         await pilot.press("question_mark")
         await pilot.pause()
-        shown = screen_text(app)
-        for a in ACTIONS:
-            assert a.tooltip.split()[0] in shown
+        shown = screen_lines(app)
+        text = "\n".join(shown)
+        for a in ACTIONS:  # every action on a line of its own with its keys, none below the window's edge
+            row = re.compile(rf"│ {re.escape(_help_keys(a.keys))} +{re.escape(a.title)}")
+            assert any(row.search(ln) for ln in shown), a
+        assert "Command palette" in text
         ids = {b.id for b in app.screen.query_one("Static").screen.app.BINDINGS}
         assert "mediaplan.save" in ids
 

@@ -39,8 +39,8 @@ def bindings_table() -> Table:
     table = Table.grid(padding=(0, 2))
     table.add_column(style="bold", no_wrap=True)
     table.add_column()
-    for a in ACTIONS:
-        table.add_row(_keys(a.keys), a.tooltip)
+    for a in ACTIONS:  # one line each (the title); the tooltip says more where the key is shown
+        table.add_row(_keys(a.keys), a.title)
     table.add_row("Ctrl+P", "Command palette")
     table.add_row("Tab", "Move between table, panels and dialog fields")
     return table
