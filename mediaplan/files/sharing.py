@@ -155,6 +155,10 @@ def embedded_entry(c: Component) -> dict:
     raw["species"] = {s: n for s, n in c.species}
     raw["hydrate_water"] = c.hydrate_water
     raw["source"] = dict(sorted(c.sources.items()))
+    if c.solubility_table:  # the rows with their sources written out (a plan kept cold needs them)
+        raw["solubility_table"] = [{"temperature_c": round(p.temperature_k - 273.15, 9),
+                                    "g_per_100g_water": p.g_per_100g_water, "source": p.source}
+                                   for p in c.solubility_table]
     return _drop_none(raw)
 
 

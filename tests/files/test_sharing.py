@@ -117,3 +117,18 @@ def test_malformed_embedded_entry_is_one_clear_line(catalog, tmp_path, capsys):
     assert main(["prep", str(path)]) == 2
     err = capsys.readouterr().err
     assert err.count("\n") == 1 and "provenance.embedded.components" in err
+
+
+def test_an_embedded_copy_carries_the_solubility_table(catalog, tmp_path):
+    """A plan kept cold must be capped at the same solubility wherever it is opened: the rows travel."""
+    r = Recipe(storage_temperature="4 degC").with_amount("mannitol", "0.3 mol/kg")
+    plan = Plan(recipe=r, title="Cold wash (invented)")
+    plan.provenance = provenance_record(r, catalog, embed=True)
+    planfile.write(plan, tmp_path / "cold.toml")
+    bare = planfile.read(tmp_path / "cold.toml")
+    smaller = load_catalog([bundled_folder()])
+    del smaller.components["mannitol"]
+    merged, _ = catalog_for(bare, smaller)
+    here, there = catalog.components["mannitol"], merged.components["mannitol"]
+    assert here.solubility_table and there.solubility_table == here.solubility_table
+    assert there.saturation_molality_at(277.15) == here.saturation_molality_at(277.15)
