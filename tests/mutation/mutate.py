@@ -49,8 +49,8 @@ SUBSETS = {
     "neutral": ["tests/thermo/test_parameter_sources.py", "tests/medium/test_zsr_independent.py",
                 "tests/thermo/test_neutral.py", "tests/medium/test_engine_published.py"],
     "peg": ["tests/thermo/test_peg.py"],
-    "constants": ["tests/medium/test_figures.py", "tests/thermo/test_water.py", "tests/medium/test_snapshot_figures.py",
-                  "tests/thermo/test_neutral.py", "tests/thermo/test_pitzer.py"],
+    "constants": ["tests/medium/test_figures.py", "tests/thermo/test_water.py", "tests/thermo/test_neutral.py",
+                  "tests/thermo/test_pitzer.py"],
     "media": ["tests/files/test_published_media.py", "tests/tasks/test_prep.py"],
 }
 
