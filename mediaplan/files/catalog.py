@@ -511,11 +511,15 @@ def _load_through_disk_cache(extra: tuple) -> Catalog:
     Start-up of a command otherwise spends most of its time parsing the YAML and the amounts of every
     medium. The cache is a pickle in ``<cache dir>/catalog/`` named by the digest of those files; a catalog
     that fails to load is never stored; any trouble with the cache folder falls back to loading afresh.
+    Only when a front end has turned the caches on (``files.paths.use_unit_cache``, as for the units).
     """
     import pickle
 
     from mediaplan.files.paths import user_cache_dir
+    from mediaplan.medium.units import cache_folder
 
+    if cache_folder() is None:  # the front ends turn the caches on (files.paths.use_unit_cache)
+        return load_catalog(extra=extra)
     paths = list(default_folders()) + [Path(e) for e in extra]
     try:
         key = _cache_key(paths)

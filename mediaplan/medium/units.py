@@ -55,6 +55,11 @@ def use_cache_folder(folder: Path | None) -> None:
     _FACTS = None  # read again from the new folder (see _unit_facts)
 
 
+def cache_folder() -> Path | None:
+    """The folder the front ends gave :func:`use_cache_folder` (None: no caches on disk this run)."""
+    return _CACHE_FOLDER
+
+
 def registry() -> pint.UnitRegistry:
     """The one registry, built on first use; any trouble with the cache folder falls back to parsing the
     definitions afresh."""
