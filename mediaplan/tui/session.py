@@ -173,13 +173,16 @@ class Session:
         self.set_recipe(self.recipe.without(component_id))
 
     def set_conditions(self, title: str, volume: str, temperature: str, cells: str, *,
-                       notes: str | None = None) -> None:
+                       notes: str | None = None, storage: str | None = None) -> None:
         """Title, batch volume, temperature and the cells' reference (``""`` removes it; other [cells]
-        fields such as the tolerance are kept); the plan's notes when given. Raises AmountError for bad
-        text."""
+        fields such as the tolerance are kept); the plan's notes and storage temperature (``""``: not
+        stated) when given. Raises AmountError for bad text."""
         plan = self.plan
         reference = (plan.cells or CellReference()).with_reference(cells)
-        recipe = plan.recipe.with_settings(volume=volume, temperature=temperature)
+        settings = {"volume": volume, "temperature": temperature}
+        if storage is not None:
+            settings["storage_temperature"] = storage or None
+        recipe = plan.recipe.with_settings(**settings)
         self.change(replace(plan, title=title, recipe=recipe, cells=None if reference.empty else reference,
                             notes=plan.notes if notes is None else notes))
 

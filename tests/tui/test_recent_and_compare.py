@@ -124,3 +124,40 @@ async def test_the_panel_shows_the_95_percent_interval_of_the_budget(size):
         await pilot.pause()
         b2 = budget(recipe.with_amount("sucrose", "60 g/L"), cat)
         assert f"±{b2.osmolality.half_width():.1f} mOsm/kg" in "\n".join(screen_lines(app))
+
+
+@pytest.mark.parametrize("size", SIZES, ids=SIZE_IDS)
+@run_async
+async def test_the_storage_temperature_is_set_in_the_conditions_and_checks_solubility_there(size):
+    from mediaplan.tui.dialogs.conditions import ConditionsScreen
+
+    cat = get_catalog()
+    # 0.8 mol/kg mannitol: soluble at 25 °C, not when the medium is kept at 4 °C (catalog solubility table)
+    recipe = Recipe().with_amount("mannitol", "0.8 mol/kg")
+    app = app_for(Session(Plan(recipe=recipe, title="Cold wash (invented)"), cat))
+    async with app.run_test(size=size) as pilot:
+        await pilot.press("c")
+        await pilot.pause()
+        assert isinstance(app.screen, ConditionsScreen)
+        lines = screen_lines(app)
+        assert any("Apply" in ln for ln in lines) and any("kept at" in ln for ln in lines)  # nothing clipped
+        app.screen.query_one("#cond-storage").value = "-300 °C"
+        await pilot.pause()
+        await pilot.click("#cond-apply")
+        await pilot.pause()
+        assert isinstance(app.screen, ConditionsScreen)  # refused inline, nothing applied
+        app.screen.query_one("#cond-storage").value = "4 °C"
+        await pilot.pause()
+        await pilot.click("#cond-apply")
+        await pilot.pause()
+        assert isinstance(app.screen, MainScreen)
+        assert app.session.recipe.storage_temperature == "4 °C"
+        ev = evaluate(app.session.recipe, cat)
+        assert any(w.code == "solubility" and "4 °C (the stated storage temperature)" in w.message
+                   for w in ev.warnings)
+        # the plan stating none is checked at a cold room's 4 °C, and says that it states none
+        assert any("the plan states no storage temperature" in w.message for w in evaluate(recipe, cat).warnings)
+        # undo gives the plan back without a stated storage temperature
+        await pilot.press("u")
+        await pilot.pause()
+        assert app.session.recipe.storage_temperature is None

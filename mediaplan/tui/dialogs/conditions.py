@@ -1,4 +1,4 @@
-"""Plan conditions: title, notes, batch volume, temperature and the cell reference for tonicity.
+"""Plan conditions: title, notes, batch volume, temperature, storage temperature and the cell reference.
 
 The fields come in the order they are shown, the title first. Esc after a change asks before the typed
 text is dropped.
@@ -31,6 +31,7 @@ class Conditions:
     temperature: str
     cells: str  # "" = no cell reference
     notes: str = ""
+    storage: str = ""  # "" = the plan states none (solubility is then checked at 4 °C for cold storage)
 
 
 def shown_temperature(text: str) -> str:
@@ -63,13 +64,17 @@ class ConditionsScreen(ModalScreen[Conditions | None]):
                 yield Label("temperature", classes="field-label")
                 yield Input(shown_temperature(c.temperature), id="cond-temperature",
                             validators=[TemperatureValidator()], placeholder="e.g. 25 °C")
+                yield Label("kept at", classes="field-label")
+                yield Input(shown_temperature(c.storage), id="cond-storage",
+                            validators=[TemperatureValidator(allow_empty=True)],
+                            placeholder="e.g. 4 °C")
                 yield Label("cells", classes="field-label")
                 yield Input(c.cells, id="cond-cells", validators=[TargetValidator(allow_empty=True)],
-                            placeholder="cells' sap, e.g. 450 mOsm/kg (empty: none)")
+                            placeholder="e.g. 450 mOsm/kg")
             yield Label("notes (kept in the plan file)", classes="field-label", id="cond-notes-label")
             yield TextArea(c.notes, id="cond-notes", soft_wrap=True, show_line_numbers=False,
                            placeholder="what this medium is for, who made it, what to watch")
-            yield FieldMessage("cells: the sap of the cells you culture, for tonicity · Enter applies",
+            yield FieldMessage("kept at: storage · cells: their sap, for tonicity · Enter applies",
                                id="cond-message")
             with Horizontal(classes="buttons"):
                 yield Button("Apply", variant="primary", id="cond-apply")
@@ -86,7 +91,7 @@ class ConditionsScreen(ModalScreen[Conditions | None]):
     @on(Button.Pressed, "#cond-apply")
     def _apply(self) -> None:
         msg = self.query_one(FieldMessage)
-        for key in ("volume", "temperature", "cells"):
+        for key in ("volume", "temperature", "storage", "cells"):
             inp = self.query_one(f"#cond-{key}", Input)
             if validated_value(inp, msg) is None:
                 inp.focus()
@@ -100,7 +105,8 @@ class ConditionsScreen(ModalScreen[Conditions | None]):
                           self.query_one("#cond-volume", Input).value.strip(),
                           kept_temperature(self.query_one("#cond-temperature", Input).value, c.temperature),
                           self.query_one("#cond-cells", Input).value.strip(),
-                          self.query_one("#cond-notes", TextArea).text.strip())
+                          self.query_one("#cond-notes", TextArea).text.strip(),
+                          kept_temperature(self.query_one("#cond-storage", Input).value, c.storage).strip())
 
     @on(Button.Pressed, "#cond-cancel")
     def action_cancel(self) -> None:

@@ -279,12 +279,12 @@ class MainScreen(Screen):
         plan = self.session.plan
         reference = plan.cells.reference if plan.cells is not None else None
         current = Conditions(plan.title, plan.recipe.volume, plan.recipe.temperature,
-                             reference[1] if reference else "", plan.notes)
+                             reference[1] if reference else "", plan.notes, plan.recipe.storage_temperature or "")
 
         def done(c: Conditions | None) -> None:
             if c is not None:
                 self._apply(lambda: self.session.set_conditions(c.title, c.volume, c.temperature, c.cells,
-                                                                notes=c.notes))
+                                                                notes=c.notes, storage=c.storage))
 
         self.app.push_screen(ConditionsScreen(current), done)
 

@@ -56,10 +56,10 @@ class VolumeValidator(ParsedValidator):
 
 
 class TemperatureValidator(ParsedValidator):
-    def __init__(self) -> None:
+    def __init__(self, *, allow_empty: bool = False) -> None:
         from mediaplan.medium.units import parse_temperature
 
-        super().__init__(lambda text: parse_temperature(text))
+        super().__init__(lambda text: parse_temperature(text), allow_empty=allow_empty)
 
 
 class TargetValidator(ParsedValidator):

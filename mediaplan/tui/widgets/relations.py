@@ -197,7 +197,8 @@ PLAIN_NOTES: dict[str, str] = {
     "pitzer_default": "{n} pairs of ions in this medium have no measured data; a general estimate is used for "
                       "them, so the figures are a little less certain.",
     "ideal_fallback": "Some solutes have no published model and are counted as ideal.",
-    "peg_mixture": "PEG with other solutes: the real water potential is lower than shown. Measure it.",
+    "peg_mixture": "PEG with other solutes: the true water potential lies between the figure shown and a less "
+                   "negative one (the solutes' effects simply added). Measure it.",
     "validity": "{who} is beyond the range its model was measured for; its figure is an extrapolation.",
     "reflection_unknown": "Tonicity counts some solutes as staying outside the cells; any that enter the cells "
                           "make the medium less hypertonic than shown.",
