@@ -17,8 +17,8 @@ __version__ = "0.1.0"
 # the same list as mediaplan.api.__all__ (tests/test_api.py checks it)
 __all__ = [
     "Catalog", "Evaluation", "MediaplanError", "Plan", "PlasmolysisFit", "PrepSheet", "Recipe", "SeriesDesign",
-    "Solution", "design_series", "evaluate", "fit_counts", "load_catalog", "load_plan", "prep_sheet",
-    "solve_target",
+    "Solution", "budget", "check_reading", "design_series", "evaluate", "fit_counts", "load_catalog", "load_plan",
+    "prep_sheet", "solve_target",
 ]
 
 

@@ -38,8 +38,8 @@ from mediaplan.tasks.solve import Solution
 
 __all__ = [
     "Catalog", "Evaluation", "MediaplanError", "Plan", "PlasmolysisFit", "PrepSheet", "Recipe", "SeriesDesign",
-    "Solution", "design_series", "evaluate", "fit_counts", "load_catalog", "load_plan", "prep_sheet",
-    "solve_target",
+    "Solution", "budget", "check_reading", "design_series", "evaluate", "fit_counts", "load_catalog", "load_plan",
+    "prep_sheet", "solve_target",
 ]
 
 #: volume of each level of a series designed without a plan (the command line's default too)
