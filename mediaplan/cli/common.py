@@ -82,8 +82,8 @@ def recipe_from(args, catalog, *, notes: list[str] | None = None):
         from mediaplan.medium.recipe import strength_note
 
         said = strength_note(recipe, catalog)
-        if said:
-            notes.append(said)
+        if said:  # on standard error only: the JSON and the sheet keep the notes they always had
+            note(said)
     return plan, recipe
 
 

@@ -137,8 +137,9 @@ def read_counts_csv(path: str | Path, *, osmoticum: str | None = None, backgroun
     ys: list[int] = []
     ns: list[int] = []
     lines: list[int] = []
-    notes.insert(0, f"columns read: levels from '{col.header.strip()}' in {col.unit}, plasmolysed from "
-                    f"'{header[i_pl].strip()}', total from '{header[i_tot].strip()}'")
+    if [n for n in names if n] != [POTENTIAL_COLUMN, "plasmolysed", "total"]:  # said unless the usual three
+        notes.insert(0, f"columns read: levels from '{col.header.strip()}' in {col.unit}, plasmolysed from "
+                        f"'{header[i_pl].strip()}', total from '{header[i_tot].strip()}'")
     skipped = 0
     for n_rows, (lineno, cells) in enumerate(rows, start=1):
         if n_rows > reading.COUNTS_MAX_ROWS:

@@ -46,5 +46,6 @@ def test_an_unknown_scope_is_refused():
 
 def test_the_command_line_names_the_scope_it_used(capsys):
     assert main(["calc", "--base", "ms1962", "--strength", "0.5", "--strength-scope", "salts", "--json"]) == 0
-    notes = json.loads(capsys.readouterr().out)["notes"]
-    assert any("scales 14 of its 20 lines (the mineral salts" in n for n in notes)  # MS: 14 salts, 6 organics
+    out, err = capsys.readouterr()
+    assert json.loads(out)["strength"] == 0.5
+    assert "note: strength 0.5 of ms1962 scales 14 of its 20 lines (the mineral salts" in err  # 14 salts, 6 organics

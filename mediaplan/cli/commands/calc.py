@@ -117,7 +117,8 @@ def run(args) -> int:
     saved = save_plan(args, plan, recipe, catalog, notes) if getattr(args, "save", None) else None
     if args.json:
         d = ev.to_dict()
-        d["saved"] = str(saved) if saved else None
+        if saved:  # the key only when --save was given: the JSON of calc stays as it was otherwise
+            d["saved"] = str(saved)
         d["notes"] = notes
         d["title"] = plan.title if plan else None
         if proj is not None:
