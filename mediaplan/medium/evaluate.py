@@ -115,6 +115,8 @@ def evaluate(recipe: Recipe, catalog: Catalog, *, cell_reference_mosmol: float |
     ideal = float(mix.ideal[0])
     # freezing-point osmometer: the same medium at 0 °C
     y0 = float(model.mixture(st.species_m, T0, start=mix.state).osmolality[0]) if lines else y
+    if not math.isfinite(y0):  # the warm start can lie too far away (concentrated PEG): solve from cold
+        y0 = float(model.mixture(st.species_m, T0).osmolality[0])
     aw = float(potential.water_activity(y))
     aw0 = float(potential.water_activity(y0))
     theta = float(potential.freezing_point_depression(aw0))
@@ -160,6 +162,11 @@ def evaluate(recipe: Recipe, catalog: Catalog, *, cell_reference_mosmol: float |
         effective_osmolality_mosmol_per_kg=eff * 1000.0, tonicity=tonicity,
     )
     ev.warnings = warnings_for(Context(recipe, catalog, lines, model, st, ev, T))
+    if not math.isfinite(theta):  # said in words, never a silent blank where a figure should be
+        ev.warnings.insert(0, Warning_(
+            "no_freezing_point", "no freezing-point or osmometer figure: at 0 °C the models have no solution for "
+            "this medium (a solute's model is past its range there, e.g. far beyond its solubility); the "
+            "figures at the medium's temperature stand"))
     ev.cautions = [{"component": c.id, "caution": c.hazard} for c in comps if c.hazard]
     if not all(math.isfinite(v) for v in (ev.osmolality_mosmol_per_kg, ev.water_activity, ev.osmotic_potential_mpa)):
         raise MediaplanError("the models gave no finite answer for this medium",

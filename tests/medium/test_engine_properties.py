@@ -46,7 +46,10 @@ def test_dilution_tends_to_vant_hoff(catalog, d):
         ev = evaluate(make(d, scale), catalog)
         ratios.append(ev.osmolality_mosmol_per_kg / ev.osmolality_ideal_mosmol_per_kg)
     assert abs(ratios[-1] - 1) < 2e-3  # Debye–Hückel limiting law: 2:2 salts at ~1e-4 mol/kg still ~0.1 %
-    assert abs(ratios[-1] - 1) <= abs(ratios[0] - 1) + 1e-9
+    # nearer ideal when diluted, except that salts (φ < 1) and sugars (φ > 1) can cancel at full strength;
+    # 1e-4 is the residue of the Debye–Hückel limiting law left at this dilution (a few nmol/kg of ions;
+    # Pitzer 1991, ch. 3), so a cancelled full-strength medium is not read as a failure
+    assert abs(ratios[-1] - 1) <= abs(ratios[0] - 1) + 1e-4
 
 
 @settings(max_examples=30, deadline=None)
@@ -71,9 +74,13 @@ def test_invariant_to_how_the_same_moles_are_written(catalog, mg_dihydrate):
 def test_outputs_are_finite_and_shares_add_up(catalog, d):
     ev = evaluate(make(d), catalog)
     out = ev.to_dict()
-    for key in ("osmolality_mosmol_per_kg", "water_activity", "osmotic_potential_mpa",
-                "freezing_point_depression_k", "osmometer_mosmol_per_kg"):
+    for key in ("osmolality_mosmol_per_kg", "water_activity", "osmotic_potential_mpa"):
         assert out[key] is not None and math.isfinite(out[key])
+    # the 0 °C figures exist, or the evaluation says in words why not (a model past its range at 0 °C,
+    # e.g. KNO3 beside 690 g/kg PEG 8000: its ZSR reference solution would be far past saturation)
+    said = any(w.code == "no_freezing_point" for w in ev.warnings)
+    for key in ("freezing_point_depression_k", "osmometer_mosmol_per_kg"):
+        assert (out[key] is not None and math.isfinite(out[key])) != said
     assert sum(c.osmolality_mosmol_per_kg for c in ev.components) == pytest.approx(ev.osmolality_mosmol_per_kg,
                                                                                    rel=1e-9)
     assert 0 < ev.water_activity < 1
