@@ -61,3 +61,15 @@ def test_probit_link_functions_import_no_scipy_stats():
             "sys.stderr.write(repr((bool(g.converged), 'scipy.stats' in sys.modules)))\n")
     r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=60)
     assert r.stderr.strip().endswith("(True, False)"), r.stderr[-500:]
+
+
+@pytest.mark.parametrize("link", ["logit", "probit"])
+def test_fit_imports_no_scipy_stats(tmp_path, link):
+    """``fit`` imports no more of scipy than its link and interval functions need (issue goal: no more than
+    calc): its p-values and quantiles come from scipy.special, as scipy.stats computes them."""
+    from pathlib import Path
+
+    counts = Path(__file__).resolve().parents[2] / "plans" / "demo_plasmolysis_counts.csv"
+    out, mods = _run_imports(["fit", str(counts), "--link", link, "--json"], tmp_path / "cache", tmp_path)
+    assert '"water_potential_50_mpa"' in out
+    assert "scipy.stats" not in mods, sorted(m for m in mods if m.startswith("scipy.stats"))
