@@ -18,8 +18,9 @@ def add_recipe_arguments(p: argparse.ArgumentParser, *, plan_option: bool = True
     p.add_argument("--base", metavar="ID", help="published base formulation (e.g. ms1962)")
     p.add_argument("--strength", type=float, metavar="X", help="strength of the base (0.5 = half)")
     p.add_argument("--strength-scope", choices=("all", "salts", "macro"),
-                   help="which lines of the base the strength scales: all (default), salts (mineral salts "
-                        "and iron) or macro (macro salts); the scaled lines are named in a note")
+                   help="which lines of the base the strength scales: salts (mineral salts and iron; the "
+                        "default, and what a saved plan records), macro (macro salts) or all (a plan that "
+                        "states no scope); the scaled lines are named in a note")
     p.add_argument("--temperature", metavar="T", help='temperature, e.g. "25 degC" (default 25 °C)')
     p.add_argument("--storage-temperature", metavar="T",
                    help='where the medium and its stocks are kept, e.g. "4 degC": solubility is checked there too '

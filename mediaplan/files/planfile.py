@@ -16,6 +16,7 @@ temperature = "25 degC"
 storage_temperature = "4 degC"   # optional: where the medium and its stocks are kept (solubility checks)
 base = "ms1962"            # optional published formulation
 strength = 1.0
+strength_scope = "salts"   # which base lines the strength scales: salts, macro or all (absent: all)
 
 [medium.components]        # id, formula or name = amount (overrides the base; "0 g/L" removes)
 sucrose = "30 g/L"
@@ -57,7 +58,12 @@ from mediaplan.files import plan_tables, reading
 from mediaplan.files.plan_tables import Layout, Provenance, TargetRecord
 from mediaplan.medium.catalog import Catalog
 from mediaplan.medium.errors import AmountError, ConflictError, MediaplanError, PlanFileError
-from mediaplan.medium.recipe import Recipe
+from mediaplan.medium.recipe import (
+    DEFAULT_STRENGTH_SCOPE,
+    PLAN_FILE_STRENGTH_SCOPE,
+    STRENGTH_SCOPES,
+    Recipe,
+)
 from mediaplan.medium.units import parse_amount
 from mediaplan.tasks.cells import CellReference
 from mediaplan.tasks.plasmolysis.counts import SeriesRecord
@@ -71,7 +77,7 @@ _KNOWN_TOP = {"mediaplan", "plan", "medium", "target", "cells", "projection", "s
 #: keys are in :mod:`mediaplan.files.plan_tables`)
 SCHEMA: dict[str, tuple[str, ...]] = {"mediaplan": ("format", "version"), "plan": ("title", "author", "notes"),
                                       "medium": ("volume", "temperature", "storage_temperature", "base", "strength",
-                                                 "components")}
+                                                 "strength_scope", "components")}
 
 
 @dataclass
@@ -243,6 +249,11 @@ def from_dict(data: dict, *, text: str = "", file: str | None = None, catalog: C
     strength = med.get("strength", 1.0)
     if isinstance(strength, bool) or not isinstance(strength, (int, float)):
         raise err("strength must be a number (1 = full, 0.5 = half)", "strength", "medium")
+    scope = med.get("strength_scope", file_strength_scope(med.get("base") or None))
+    if not isinstance(scope, str) or scope not in STRENGTH_SCOPES:
+        raise err(f"strength_scope must be one of {', '.join(f'{s!r}' for s in STRENGTH_SCOPES)}",
+                  "strength_scope", "medium",
+                  hint='"salts" scales the mineral salts (the usual half-strength), "all" every line')
     comps = med.get("components", {})
     if not isinstance(comps, dict):
         raise err("[medium.components] must be a table of id = \"amount\"", "components", "medium")
@@ -274,7 +285,7 @@ def from_dict(data: dict, *, text: str = "", file: str | None = None, catalog: C
     try:
         recipe = Recipe(volume=med.get("volume", "1 L"), temperature=med.get("temperature", "25 degC"),
                         base=med.get("base") or None, strength=float(strength), amounts=tuple(amounts),
-                        storage_temperature=med.get("storage_temperature"))
+                        storage_temperature=med.get("storage_temperature"), strength_scope=scope)
     except AmountError as exc:
         key = (exc.field or "").split(".")[-1] or "volume"
         raise exc.located(file=file, line=_line_of(text, key, "medium")) from None
@@ -294,6 +305,12 @@ def from_dict(data: dict, *, text: str = "", file: str | None = None, catalog: C
                       f"{', '.join(kept)} kept as written, not used",)
     return Plan(recipe=recipe, title=title, author=author, notes=notes, **tables, extra=extra, layout=layout,
                 version=version if newer else VERSION, extra_keys=extra_keys, read_notes=read_notes)
+
+
+def file_strength_scope(base: str | None) -> str:
+    """The strength scope of a plan file that states none: ``all`` with a base (what the releases that wrote
+    such a file computed, so its numbers stay), the default of a new recipe without one (no line to scale)."""
+    return PLAN_FILE_STRENGTH_SCOPE if base else DEFAULT_STRENGTH_SCOPE
 
 
 def migrate(data: dict, major: int) -> dict:
@@ -321,6 +338,8 @@ def to_dict(plan: Plan) -> dict:
         med["strength"] = r.strength
     elif r.strength != 1.0:
         med["strength"] = r.strength
+    if r.strength_scope != file_strength_scope(r.base):
+        med["strength_scope"] = r.strength_scope
     med["components"] = {cid: a.text for cid, a in r.amounts}
     d["medium"] = med
     for table, keys in plan.extra_keys.items():  # keys of a newer minor version, kept as read

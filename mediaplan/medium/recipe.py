@@ -29,15 +29,18 @@ PLAUSIBLE_MAX_MOLALITY = 50.0
 
 #: what the strength of a base formulation scales: scope -> catalog groups. "Half-strength MS" in most
 #: laboratories means the mineral salts at half their amounts, sugars, vitamins and regulators as published
-#: (common practice); "all" scales every line, "macro" the macro salts only. The default stays "all", what
-#: every release so far computed, so that a plan gives the numbers it gave; the command line says which
-#: scope it used and offers the others.
+#: (common practice); "all" scales every line, "macro" the macro salts only. A new recipe scales the salts
+#: (DEFAULT_STRENGTH_SCOPE); a plan file records its scope (``[medium] strength_scope``) and one without the
+#: key reads as "all" (PLAN_FILE_STRENGTH_SCOPE), what the releases that wrote it computed, so that it gives
+#: the numbers it gave; the command line says which scope it used and offers the others.
 STRENGTH_SCOPES: dict[str, frozenset[str] | None] = {
     "salts": frozenset({"macro", "salt", "micro", "iron"}),
     "macro": frozenset({"macro", "salt"}),
     "all": None,
 }
-DEFAULT_STRENGTH_SCOPE = "all"
+DEFAULT_STRENGTH_SCOPE = "salts"
+#: the scope of a plan file with a base that states none (written before plans recorded it)
+PLAN_FILE_STRENGTH_SCOPE = "all"
 
 #: a salt past this multiple of the top molality its Pitzer parameters were fitted to (``max_m`` of the
 #: catalog's pitzer.yaml) is refused: a little past it the figures still follow the data's trend, far past
@@ -69,8 +72,8 @@ class Recipe:
     temperature : text (e.g. ``25 degC``); temperature_k its value [K]
     base : id of a published medium in the catalog, or None
     strength : factor on the base formulation's amounts (0.5 for half strength)
-    strength_scope : which base lines the strength scales (:data:`STRENGTH_SCOPES`: ``all``, the default,
-        ``salts`` or ``macro``)
+    strength_scope : which base lines the strength scales (:data:`STRENGTH_SCOPES`: ``salts``, the default,
+        ``all`` or ``macro``)
     amounts : component id -> Amount, in the user's order (overrides and additions)
     storage_temperature : text of the temperature the medium (or its stocks) is kept at (e.g. ``4 degC``),
         or None when the plan states none; storage_temperature_k its value [K] (None when not stated)

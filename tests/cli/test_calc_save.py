@@ -43,11 +43,15 @@ def test_the_plan_read_is_never_the_one_saved(tmp_path, capsys):
     assert plan.read_bytes() == before
 
 
-def test_a_scope_the_plan_cannot_record_is_not_saved(tmp_path, capsys):
-    out = tmp_path / "scoped.toml"
-    assert main(["calc", "--base", "ms1962", "--strength", "0.5", "--strength-scope", "salts",
-                 "--save", str(out)]) == 2
-    assert "strength scope" in capsys.readouterr().err and not out.exists()
+def test_the_strength_scope_is_saved_and_gives_the_same_figures(tmp_path, capsys):
+    for scope in ("macro", "all"):
+        out = tmp_path / f"scoped_{scope}.toml"
+        args = ["calc", "--base", "ms1962", "--strength", "0.5", "--strength-scope", scope]
+        assert main(args + ["--save", str(out)]) == 0
+        capsys.readouterr()
+        # "all" is what a plan with a base reads when it states no scope: the key is left out
+        assert (f'strength_scope = "{scope}"' in out.read_text(encoding="utf-8")) == (scope != "all")
+        assert _osmolality(["calc", "--plan", str(out)], capsys) == _osmolality(args, capsys)
 
 
 def test_json_names_the_file_saved(tmp_path, capsys):

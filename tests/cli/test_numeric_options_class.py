@@ -73,7 +73,7 @@ def same_figures(base_argv):
 
 # id -> (argv with {v} for the value, {value: check of the JSON answer} for the values that may be accepted)
 CASES = {
-    "calc --strength": (["calc", "--base", "ms1962", "--strength={v}", "--json"], {
+    "calc --strength": (["calc", "--base", "ms1962", "--strength={v}", "--strength-scope=all", "--json"], {
         "0": lambda d, f: d["strength"] == 0 and d["osmolality_mosmol_per_kg"] == 0 and d["components"] == []}),
     "calc --temperature": (["calc", "sucrose=30 g/L", "--temperature={v} degC", "--json"], {
         "0": lambda d, f: d["temperature_c"] == 0}),
@@ -139,10 +139,11 @@ CASES = {
         "0": lambda d, f: d["temperature_c"] == 0}),
     "fit --temperature": (["fit", "{counts}", "--temperature={v} degC", "--json"], {
         "0": lambda d, f: d["temperature_c"] == 0}),
-    "fit --strength": (["fit", "{counts}", "--base", "ms1962", "--strength={v}", "--json"], {
+    "fit --strength": (["fit", "{counts}", "--base", "ms1962", "--strength={v}", "--strength-scope=all", "--json"], {
         "0": lambda d, f: run(["fit", f["counts"], "--json"])[1] and d["water_potential_50_mpa"]
         == pytest.approx(json.loads(run(["fit", f["counts"], "--json"])[1])["water_potential_50_mpa"], rel=1e-9)}),
-    "prep --strength": (["prep", "--base", "ms1962", "sucrose=30 g/L", "--strength={v}", "--json"], {
+    "prep --strength": (["prep", "--base", "ms1962", "sucrose=30 g/L", "--strength={v}", "--strength-scope=all",
+                        "--json"], {
         "0": lambda d, f: [r["id"] for r in d["rows"]] == ["sucrose"]}),
     "prep --volume": (["prep", "--base", "ms1962", "--volume={v} L", "--json"], {}),
     "prep --stock-volume": (["prep", "--base", "ms1962", "--stocks", "--stock-volume={v} mL", "--json"], {}),

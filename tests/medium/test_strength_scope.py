@@ -32,9 +32,10 @@ def test_salts_scope_leaves_the_sucrose_of_ms_as_published(catalog):
     assert {ln.component.group for ln in lines.values() if ln.scaled} <= SALT_GROUPS
 
 
-def test_the_default_scope_is_every_line_as_before(catalog):
-    r = Recipe(base="ms1962", strength=0.5)
-    assert r.strength_scope == "all" and all(ln.scaled for ln in r.lines(catalog))
+def test_a_new_recipe_scales_the_salts_and_scope_all_every_line(catalog):
+    assert Recipe(base="ms1962", strength=0.5).strength_scope == "salts"
+    r = Recipe(base="ms1962", strength=0.5, strength_scope="all")
+    assert all(ln.scaled for ln in r.lines(catalog))
     assert "alike" in strength_note(r, catalog)
     assert strength_note(Recipe(base="ms1962"), catalog) is None
 

@@ -151,13 +151,12 @@ def save_plan(args, plan, recipe, catalog, notes: list[str]):
     """Write the recipe as computed (with the plan's other tables and ``--cells``) as a new plan file at
     ``args.save``, atomically; returns the path written. Refuses the plan being read (even with --force:
     an edit of that plan keeps its comments only through the commands that edit in place), an existing file
-    without --force, and a strength scope the plan format cannot record (the plan would reopen with other
-    numbers)."""
+    without --force. The strength scope is recorded (``[medium] strength_scope``), so the plan reopens with
+    the same numbers."""
     from pathlib import Path
 
     from mediaplan.files import planfile
     from mediaplan.medium.errors import ConflictError
-    from mediaplan.medium.recipe import DEFAULT_STRENGTH_SCOPE
     from mediaplan.tasks.cells import CellReference
 
     out = Path(args.save)
@@ -165,10 +164,6 @@ def save_plan(args, plan, recipe, catalog, notes: list[str]):
     if read and _same_file(out, Path(read)):
         raise ConflictError("--save names the plan being read", file=str(out),
                             hint="save the medium under a new name, then compare with mediaplan diff")
-    if recipe.base and recipe.strength != 1 and recipe.strength_scope != DEFAULT_STRENGTH_SCOPE:
-        raise MediaplanError(f"a plan does not yet record the strength scope ({recipe.strength_scope}): "
-                             "saved, it would reopen with every line scaled", field="strength_scope",
-                             hint="save without --strength-scope, or give the scaled amounts as ID=AMOUNT")
     new = plan.with_recipe(recipe) if plan is not None else planfile.Plan(recipe=recipe, title="Medium")
     new.path, new.disk_digest = None, None  # a new file: written whole and created exclusively
     if getattr(args, "cells", None):

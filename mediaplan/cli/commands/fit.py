@@ -15,6 +15,8 @@ def add_arguments(p) -> None:
                    help="osmoticum of a concentration column (when its header does not name it)")
     p.add_argument("--base", metavar="ID", help="background medium of a concentration column (default water)")
     p.add_argument("--strength", type=float, metavar="X", help="strength of the background medium")
+    p.add_argument("--strength-scope", choices=("all", "salts", "macro"),
+                   help="which lines of the background's base the strength scales (default salts)")
     p.add_argument("--temperature", metavar="T",
                    help='series temperature, e.g. "25 degC" (default: the plan\'s, else 25 °C)')
     p.add_argument("--json", action="store_true", help="print one JSON object")
@@ -47,6 +49,8 @@ def load_counts(args, catalog):
         changes["base"] = catalog.medium(args.base, field="--base").id
     if args.strength is not None:
         changes["strength"] = args.strength
+    if getattr(args, "strength_scope", None):
+        changes["strength_scope"] = args.strength_scope
     if args.temperature:
         changes["temperature"] = args.temperature
     background = Recipe(**changes) if changes else None
@@ -68,6 +72,8 @@ def levels_uncertainty(args, plan, catalog):
         changes["base"] = catalog.medium(args.base, field="--base").id
     if args.strength is not None:
         changes["strength"] = args.strength
+    if getattr(args, "strength_scope", None):
+        changes["strength_scope"] = args.strength_scope
     if args.temperature:
         changes["temperature"] = args.temperature
     osmoticum, background = stated_series(args.counts, args.osmoticum, Recipe(**changes) if changes else None)
