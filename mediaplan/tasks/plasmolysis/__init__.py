@@ -6,19 +6,16 @@ Modules: :mod:`.design` (levels evenly spaced in water potential, by weight or f
 :mod:`mediaplan.files.counts`.
 """
 
-from mediaplan.tasks.plasmolysis.counts import POTENTIAL_COLUMN, Counts, check_counts, counts_from_series
-from mediaplan.tasks.plasmolysis.design import (
-    SeriesDesign,
-    SeriesLevel,
-    StockInfo,
-    describe_background,
-    design_series,
-    potential_of_amounts,
-    potentials_around,
-    potentials_between,
-)
-from mediaplan.tasks.plasmolysis.fit import PlasmolysisFit, fieller_interval, fit_counts
-from mediaplan.tasks.plasmolysis.glm import LINKS, GLMResult, fit_glm, inverse_link, link_fn, separation
+#: where each public name lives; resolved on first use (PEP 562), so that reading a plan's [series] table
+#: (counts only) does not import the designer, the GLM and the fit
+_HOME = {
+    "POTENTIAL_COLUMN": "counts", "Counts": "counts", "check_counts": "counts", "counts_from_series": "counts",
+    "SeriesDesign": "design", "SeriesLevel": "design", "StockInfo": "design", "describe_background": "design",
+    "design_series": "design", "potential_of_amounts": "design", "potentials_around": "design",
+    "potentials_between": "design",
+    "PlasmolysisFit": "fit", "fieller_interval": "fit", "fit_counts": "fit",
+    "LINKS": "glm", "GLMResult": "glm", "fit_glm": "glm", "inverse_link": "glm", "link_fn": "glm", "separation": "glm",
+}
 
 __all__ = [
     "LINKS", "POTENTIAL_COLUMN", "Counts", "GLMResult", "PlasmolysisFit", "SeriesDesign", "SeriesLevel", "StockInfo",
@@ -26,3 +23,18 @@ __all__ = [
     "fit_glm", "inverse_link", "link_fn", "potential_of_amounts", "potentials_around", "potentials_between",
     "separation",
 ]
+
+
+def __getattr__(name: str):
+    home = _HOME.get(name)
+    if home is None:
+        raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+    import importlib
+
+    value = getattr(importlib.import_module(f"{__name__}.{home}"), name)
+    globals()[name] = value
+    return value
+
+
+def __dir__() -> list[str]:
+    return sorted(set(globals()) | set(__all__))
