@@ -653,9 +653,15 @@ def _additions(recipe: Recipe, new: Recipe, s: _Setup, ev: Evaluation, held: dic
 
 
 # ---- less concentrated: strength and dilution ------------------------------------------------------
-def _scaled_recipe(recipe: Recipe, f: float) -> Recipe:
-    """Every amount of the recipe times f (the medium mixed with water, f = fraction of medium)."""
+def _scaled_recipe(recipe: Recipe, f: float, catalog: Catalog | None = None) -> Recipe:
+    """Every amount of the recipe times f (the medium mixed with water, f = fraction of medium). The base
+    lines its strength scope leaves as published (vitamins under scope salts) are written out times f, since
+    a strength would not scale them (needs ``catalog`` when the recipe has such lines)."""
     amounts = tuple((cid, Amount(a.value * f, a.kind, amount_text(a.value * f, a.kind))) for cid, a in recipe.amounts)
+    if recipe.base and catalog is not None:
+        amounts += tuple((ln.component.id, Amount(ln.amount.value * f, ln.amount.kind,
+                                                  amount_text(ln.amount.value * f, ln.amount.kind)))
+                         for ln in recipe.lines(catalog) if ln.origin == "base" and not recipe.scales(ln.component))
     return recipe.with_settings(strength=recipe.strength * f, amounts=amounts)
 
 
@@ -669,9 +675,9 @@ def reduction(recipe: Recipe, catalog: Catalog, y: float, *, full: bool = False,
     comps = [ln.component for ln in lines]
     amounts = [ln.amount for ln in lines]
     dil = _line_path(catalog, recipe, comps, lambda x: [Amount(a.value * x, a.kind, "") for a in amounts],
-                     lambda x, text=True: _scaled_recipe(recipe, x), 1.0)
+                     lambda x, text=True: _scaled_recipe(recipe, x, catalog), 1.0)
     f = roots.increasing_root(_residual(dil, catalog, y, full), 0.0, 1.0)
-    dil_recipe = _scaled_recipe(recipe, f)
+    dil_recipe = _scaled_recipe(recipe, f, catalog)
     notes = []
     strength = strength_recipe = strength_ev = None
     if recipe.base and recipe.strength > 0:
@@ -679,8 +685,8 @@ def reduction(recipe: Recipe, catalog: Catalog, y: float, *, full: bool = False,
         s_comps = [ln.component for ln in full_lines]
 
         def s_amounts(x: float) -> list[Amount]:
-            return [Amount(ln.amount.value * x, ln.amount.kind, "") if ln.origin == "base" else ln.amount
-                    for ln in full_lines]
+            return [Amount(ln.amount.value * x, ln.amount.kind, "")
+                    if ln.origin == "base" and recipe.scales(ln.component) else ln.amount for ln in full_lines]
 
         sp = _line_path(catalog, recipe, s_comps, s_amounts,
                         lambda x, text=True: recipe.with_settings(strength=x), recipe.strength)

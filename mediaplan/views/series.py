@@ -5,7 +5,7 @@ from __future__ import annotations
 import csv
 import io
 
-from mediaplan.views.safe_text import csv_cell, terminal
+from mediaplan.views.safe_text import csv_cell, one_line, terminal
 from mediaplan.views.table import RIGHT, Column, text_table
 
 
@@ -63,9 +63,15 @@ def design_text(design, intervals=None) -> str:
     return terminal("\n".join(lines))
 
 
-def design_csv(design) -> str:
-    """The levels as CSV; the empty plasmolysed/total columns make it a counting sheet for ``mediaplan fit``."""
+def design_csv(design, comments: list[str] | tuple[str, ...] = ()) -> str:
+    """The levels as CSV; the empty plasmolysed/total columns make it a counting sheet for ``mediaplan fit``.
+
+    comments : ``# key: value`` lines written above the header (how the series was made, read back by
+        ``mediaplan fit``; :func:`mediaplan.files.counts.header_comments`), each made one line
+    """
     buf = io.StringIO()
+    for c in comments:
+        buf.write(one_line(str(c)) + "\n")
     w = csv.writer(buf, lineterminator="\n")
     ox = csv_cell(design.osmoticum)
     head = ["level", "water_potential_mpa", "osmolality_mosmol_per_kg", f"{ox}_mol_per_kg", f"{ox}_g_per_l",

@@ -128,3 +128,16 @@ def test_a_misspelt_scope_key_is_refused(tmp_path, capsys):
     p.write_text(OLD.format(scope='strength_scop = "salts"\n'), encoding="utf-8")
     assert main(["calc", "--plan", str(p)]) == 2
     assert "strength_scope" in capsys.readouterr().err  # the nearest known name
+
+
+@pytest.mark.parametrize("scope", ["all", "salts", "macro"])
+def test_solve_lowers_the_strength_on_the_lines_of_the_scope(catalog, scope):
+    from mediaplan.tasks.solve import solve_target
+
+    r = Recipe(base="ms1962", strength_scope=scope).with_amount("sucrose", "30 g/L")
+    red = solve_target(r, catalog, "-0.3 MPa", ["mannitol"]).reduction
+    # the strength is rounded to 4 digits; the dilution is exact (ψ within 0.1 % of the target; common practice)
+    assert red.strength_evaluation.osmotic_potential_mpa == pytest.approx(-0.3, rel=1e-3)
+    assert red.dilution_evaluation.osmotic_potential_mpa == pytest.approx(-0.3, rel=1e-3)
+    kept = {ln.component.id: ln.amount.value for ln in red.strength_recipe.lines(catalog) if not ln.scaled}
+    assert kept["sucrose"] == pytest.approx(30.0)  # the typed 30 g/L stays (common practice)

@@ -77,7 +77,7 @@ def zsr_share(m: float, K: float, total: float) -> float:
 
 
 # ---- the main screen: half-strength MS + 20 g/L sucrose + 0.1 mol/kg mannitol, cells 450 mOsm/kg ----------
-DEMO = mp.Recipe(base="ms1962", strength=0.5).with_amount("sucrose", "20 g/L").with_amount("mannitol", "0.1 mol/kg")
+DEMO = mp.Recipe(base="ms1962", strength=0.5, strength_scope="all").with_amount("sucrose", "20 g/L").with_amount("mannitol", "0.1 mol/kg")
 PREVIEW = DEMO.with_amount("sucrose", "30 g/L")
 
 

@@ -219,7 +219,7 @@ def test_series_csv_is_a_counting_sheet_for_fit(tmp_path, capsys, catalog):
     assert main(["series", "--around", "-1.0 MPa", "--step", "0.15 MPa", "--steps", "6", "--with", "mannitol",
                  "--csv"]) == 0
     text = capsys.readouterr().out
-    rows = list(csv.reader(io.StringIO(text)))
+    rows = [r for r in csv.reader(io.StringIO(text)) if not r[0].startswith("#")]  # below its '# key: value' lines
     assert rows[0][-2:] == ["plasmolysed", "total"]
     counts = [(2, 40), (5, 41), (15, 40), (27, 42), (36, 40), (40, 40)]
     filled = [rows[0]] + [r[:-2] + [str(a), str(b)] for r, (a, b) in zip(rows[1:], counts, strict=True)]

@@ -38,9 +38,10 @@ def shoot_plan(title: str = "Shoot multiplication medium (invented demo data)") 
 
 
 def half_ms_plan() -> Plan:
-    """Half-strength base with sucrose, mannitol and a cell reference (an invented demo scenario)."""
-    recipe = Recipe(base="ms1962", strength=0.5).with_amount("sucrose", "20 g/L").with_amount("mannitol",
-                                                                                          "0.1 mol/kg")
+    """Half-strength base (every line halved, as the snapshots show it) with sucrose, mannitol and a cell
+    reference (an invented demo scenario)."""
+    recipe = Recipe(base="ms1962", strength=0.5, strength_scope="all").with_amount("sucrose", "20 g/L").with_amount(
+        "mannitol", "0.1 mol/kg")
     return Plan(recipe=recipe, title="Snapshot demo (invented)", cells=CellReference(osmolality="450 mOsm/kg"))
 
 

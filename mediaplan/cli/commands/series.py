@@ -85,6 +85,21 @@ def build_design(args, catalog):
     return plan, recipe, design
 
 
+def csv_comments(design, recipe, plan, args) -> list[str]:
+    """The ``# key: value`` lines above the counting sheet, so that ``mediaplan fit`` reads the series as it
+    was made: osmoticum, temperature, background base and strength, and the plan (the one written or read).
+    A strength scope other than a new recipe's is stated too (``# strength_scope: all``)."""
+    from mediaplan.files.counts import header_comments
+    from mediaplan.medium.recipe import DEFAULT_STRENGTH_SCOPE
+
+    source = args.write or getattr(args, "plan", None)
+    lines = header_comments(osmoticum=design.osmoticum, temperature=recipe.temperature, base=recipe.base,
+                            strength=recipe.strength, plan=str(source) if source else None)
+    if recipe.base and recipe.strength != 1 and recipe.strength_scope != DEFAULT_STRENGTH_SCOPE:
+        lines.append(f"# strength_scope: {recipe.strength_scope}")
+    return lines
+
+
 def run(args) -> int:
     from pathlib import Path
 
@@ -105,7 +120,7 @@ def run(args) -> int:
         from mediaplan.views.series import design_csv, design_text
 
         if args.csv:
-            write_output(design_csv(design))
+            write_output(design_csv(design, csv_comments(design, recipe, plan, args)))
         else:
             from mediaplan.tasks.uncertainty import with_level_intervals
 
