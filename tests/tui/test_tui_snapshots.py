@@ -28,7 +28,8 @@ def _isolated(tmp_path, monkeypatch):
 
 def demo_app() -> MediaplanApp:
     """Half-strength base with sucrose and a cell reference (an invented demo scenario)."""
-    recipe = Recipe(base="ms1962", strength=0.5).with_amount("sucrose", "20 g/L").with_amount("mannitol", "0.1 mol/kg")
+    recipe = (Recipe(base="ms1962", strength=0.5, strength_scope="all")  # every line halved, as first shown
+              .with_amount("sucrose", "20 g/L").with_amount("mannitol", "0.1 mol/kg"))
     plan = Plan(recipe=recipe, title="Snapshot demo (invented)", cells=CellReference(osmolality="450 mOsm/kg"))
     app = MediaplanApp(Session(plan, get_catalog()), offer_recovery=False)
     app.cursor_blink = False  # type: ignore[attr-defined]

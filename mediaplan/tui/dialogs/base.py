@@ -1,4 +1,4 @@
-"""Choose a published base formulation and its strength."""
+"""Choose a published base formulation, its strength and which of its lines the strength scales."""
 
 from __future__ import annotations
 
@@ -8,25 +8,30 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
 from textual.screen import ModalScreen
-from textual.widgets import Button, Input, Label, OptionList, Static
+from textual.widgets import Button, Input, Label, OptionList, Select, Static
 from textual.widgets.option_list import Option
 
 from mediaplan.medium.catalog import Catalog
+from mediaplan.medium.recipe import DEFAULT_STRENGTH_SCOPE
 from mediaplan.tui.widgets.fields import FieldMessage, StrengthValidator, parse_strength, validated_value
 
 NO_BASE = "-none-"
+#: the strength scopes in the dialog's words (salts first: a new recipe's scope)
+SCOPES = (("salts only", "salts"), ("macro salts only", "macro"), ("every line", "all"))
 
 
-class BaseScreen(ModalScreen[tuple[str | None, float] | None]):
-    """Dismisses with (base id or None, strength), or None when cancelled."""
+class BaseScreen(ModalScreen[tuple[str | None, float, str] | None]):
+    """Dismisses with (base id or None, strength, strength scope), or None when cancelled."""
 
     BINDINGS = [Binding("escape", "cancel", "Cancel", id="base.cancel", tooltip="Keep the current base")]
 
-    def __init__(self, catalog: Catalog, base: str | None, strength: float) -> None:
+    def __init__(self, catalog: Catalog, base: str | None, strength: float,
+                 scope: str = DEFAULT_STRENGTH_SCOPE) -> None:
         super().__init__()
         self.catalog = catalog
         self.base = base
         self.strength = strength
+        self.scope = scope
 
     def compose(self) -> ComposeResult:
         with Vertical(classes="dialog", id="base-dialog") as box:
@@ -40,6 +45,10 @@ class BaseScreen(ModalScreen[tuple[str | None, float] | None]):
                 yield Label("strength ×", classes="field-label")
                 yield Input(f"{self.strength:g}", id="strength-input", validators=[StrengthValidator()],
                             placeholder="e.g. 1 (full) or 1/2 (half)")
+                scope = Select(SCOPES, value=self.scope, allow_blank=False, id="scope-select",
+                               tooltip="which lines of the base the strength scales")
+                scope.styles.width = 22
+                yield scope
             yield FieldMessage("1 = full strength · 0.5 or 1/2 or 50 % = half", id="strength-message")
             with Horizontal(classes="buttons"):
                 yield Button("Apply", variant="primary", id="base-apply")
@@ -84,7 +93,8 @@ class BaseScreen(ModalScreen[tuple[str | None, float] | None]):
             return
         ol = self.query_one(OptionList)
         mid = ol.get_option_at_index(ol.highlighted).id if ol.highlighted is not None else NO_BASE
-        self.dismiss((None if mid == NO_BASE else mid, parse_strength(text)))
+        scope = str(self.query_one("#scope-select", Select).value)
+        self.dismiss((None if mid == NO_BASE else mid, parse_strength(text), scope))
 
     @on(Button.Pressed, "#base-cancel")
     def action_cancel(self) -> None:

@@ -268,10 +268,11 @@ class MainScreen(Screen):
 
         def done(result) -> None:
             if result is not None:
-                base, strength = result
-                self._apply(lambda: self.session.set_recipe(r.with_settings(base=base, strength=strength)))
+                base, strength, scope = result
+                self._apply(lambda: self.session.set_recipe(r.with_settings(base=base, strength=strength,
+                                                                            strength_scope=scope)))
 
-        self.app.push_screen(BaseScreen(self.session.catalog, r.base, r.strength), done)
+        self.app.push_screen(BaseScreen(self.session.catalog, r.base, r.strength, r.strength_scope), done)
 
     def action_conditions(self) -> None:
         from mediaplan.tui.dialogs.conditions import Conditions, ConditionsScreen

@@ -123,6 +123,13 @@ class RelationsPanel(Static):
         self.update(content, layout=shape is None or shape != self._shape)
         self._shape = shape
 
+    def _strength_scope(self) -> str | None:
+        """The strength scope of the recipe on screen (the session's; None outside the app)."""
+        try:
+            return self.app.session.recipe.strength_scope
+        except Exception:  # noqa: BLE001 - a panel shown outside the app says no scope
+            return None
+
     def _figures_content(self, width: int) -> Content:
         ev = self.evaluation
         if ev is None:
@@ -160,7 +167,8 @@ class RelationsPanel(Static):
         lines.append(Content.styled(f"{ev.temperature_c:.4g} °C · {ev.volume_l:g} L batch", "dim"))
         if ev.base:
             name = self.base_names.get(ev.base, ev.base)
-            lines.append(Content.styled(fit_left(f"{strength_words(ev.strength)} {name}", width), "dim"))
+            scope = scope_words(ev.strength, self._strength_scope())
+            lines.append(Content.styled(fit_left(f"{strength_words(ev.strength)}{scope} {name}", width), "dim"))
         if self.error:
             lines.append(Content.styled(self.error, "bold"))
         return Content("\n").join(lines)
@@ -184,6 +192,18 @@ def strength_words(strength: float) -> str:
     """``1`` -> "full-strength", ``0.5`` -> "half-strength", ``0.75`` -> "0.75 ×"."""
     words = {1.0: "full-strength", 0.5: "half-strength", 0.25: "quarter-strength", 2.0: "double-strength"}
     return words.get(float(strength), f"{strength:g} ×")
+
+
+#: what a strength scope scales, in the panel's words
+_SCOPE_WORDS = {"salts": "salts", "macro": "macro salts", "all": "every line"}
+
+
+def scope_words(strength: float, scope: str | None) -> str:
+    """`` (salts)``, `` (every line)``: which base lines the strength scales ("" at full strength or when the
+    scope is not known)."""
+    if scope is None or float(strength) == 1.0:
+        return ""
+    return f" ({_SCOPE_WORDS.get(scope, scope)})"
 
 
 def plural(n: int, word: str, words: str | None = None) -> str:
