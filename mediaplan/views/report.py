@@ -132,8 +132,9 @@ def evaluation_text(ev: Evaluation, title: str | None = None, notes: list[str] |
         out += msgs
     if d.cautions:
         out.append("")
-        out.append("Cautions: " + ", ".join(c["component"] for c in d.cautions) +
-                   " carry hazard notes (mediaplan catalog show ID; the prep sheet prints them in full)")
+        names = {c.id: c.name for c in d.components}
+        out.append("Cautions: " + ", ".join(names.get(c["component"], c["component"]) for c in d.cautions) +
+                   " carry hazard notes (mediaplan catalog show NAME; the prep sheet prints them in full)")
     return terminal("\n".join(out))
 
 
