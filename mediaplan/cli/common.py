@@ -39,6 +39,19 @@ def add_mismatch_arguments(p: argparse.ArgumentParser, *, trust: bool = True) ->
                         "(default: warn, naming each entry and field, and use the local entry)")
 
 
+def plan_under_policy(path, catalog, args, notes: list[str]):
+    """Read the plan at ``path`` under the one catalog-mismatch policy
+    (:data:`mediaplan.files.sharing.MISMATCH_POLICY`): its embedded entries in force (``--trust`` settles a
+    conflict), then its recorded entries compared with the catalog in force (a warning each in ``notes``;
+    ``--strict`` refuses). Returns (plan, catalog in force)."""
+    from mediaplan.files.sharing import mismatch_notes, read_plan
+
+    plan, catalog, more = read_plan(path, catalog, trust=getattr(args, "trust", None))
+    notes += more
+    notes += mismatch_notes(plan, catalog, strict=getattr(args, "strict", False))
+    return plan, catalog
+
+
 def catalog_from(args):
     from mediaplan.files.catalog import get_catalog
 

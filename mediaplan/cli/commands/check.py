@@ -29,14 +29,15 @@ def add_arguments(p) -> None:
 
 def check_one(path: str, catalog, *, strict: bool = False, trust: str | None = None) -> dict:
     """The verdict on one plan file: status ok/invalid, reason, differences, warnings, notes."""
-    from mediaplan.files.sharing import compare_provenance, read_plan
+    from mediaplan.files.sharing import compare_provenance, mismatch_notes, read_plan
     from mediaplan.medium.errors import MediaplanError
     from mediaplan.medium.evaluate import evaluate
 
     out: dict = {"path": path, "status": "ok", "reason": None, "differences": [], "warnings": [], "notes": []}
     try:
         plan, cat, notes = read_plan(path, catalog, trust=trust)
-        out["notes"] = [*plan.read_notes, *notes]
+        # the warnings every command gives (files/sharing.MISMATCH_POLICY); --strict makes the plan invalid below
+        out["notes"] = [*plan.read_notes, *notes, *mismatch_notes(plan, cat)]
         out["title"] = plan.title
         diffs = compare_provenance(plan, catalog)
         out["differences"] = [d.to_dict() for d in diffs]
@@ -55,8 +56,10 @@ def check_one(path: str, catalog, *, strict: bool = False, trust: str | None = N
     except MediaplanError as exc:
         if exc.file and exc.file == path:
             exc.file = None  # the line already starts with the path
+        from mediaplan.cli.common import in_cli_words
+
         out["status"] = "invalid"
-        out["reason"] = str(exc)
+        out["reason"] = str(in_cli_words(exc))  # the flag that settles it named, as every command does
     except Exception as exc:  # noqa: BLE001 - one plan, whatever it holds, never costs the others a verdict
         out.update(status="invalid", reason=_unexpected(exc))
         out.pop("_plan", None)

@@ -3,7 +3,7 @@ differ, 0 when they make the same medium)."""
 
 from __future__ import annotations
 
-from mediaplan.cli.common import catalog_from, print_json
+from mediaplan.cli.common import add_mismatch_arguments, catalog_from, plan_under_policy, print_json
 
 
 def add_arguments(p) -> None:
@@ -12,22 +12,25 @@ def add_arguments(p) -> None:
     p.add_argument("--json", action="store_true", help="print one JSON object")
     p.add_argument("--trust", choices=("plan", "local"),
                    help="settle conflicts between a plan's embedded entries and the local catalog")
+    add_mismatch_arguments(p, trust=False)
     p.epilog = ("Exit status: 0 when the two plans make the same medium (same settings, components and results; "
                 "titles and notes aside), 1 when they differ, 2 for bad input.")
 
 
 def run(args) -> int:
     from mediaplan.cli.common import note
-    from mediaplan.files.sharing import read_plan, shadow_notes
+    from mediaplan.files.sharing import shadow_notes
     from mediaplan.tasks.compare import plan_diff
 
     catalog = catalog_from(args)
     for n in shadow_notes(catalog):
         note(n)
-    pa, ca, na = read_plan(args.a, catalog, trust=args.trust)
-    pb, cb, nb = read_plan(args.b, catalog, trust=args.trust)
-    for n in na + nb:
-        note(n)
+    na: list[str] = []
+    nb: list[str] = []
+    pa, ca = plan_under_policy(args.a, catalog, args, na)  # files/sharing.MISMATCH_POLICY, each plan
+    pb, cb = plan_under_policy(args.b, catalog, args, nb)
+    for path, n in [*((args.a, n) for n in na), *((args.b, n) for n in nb)]:
+        note(f"{path}: {n}")
     d = plan_diff(pa, ca, pb, cb)
     if pa.readings or pb.readings:
         from mediaplan.cli.commands.check import readings_of

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import sys
 
-from mediaplan.cli.common import catalog_from, print_json
+from mediaplan.cli.common import add_mismatch_arguments, catalog_from, plan_under_policy, print_json
 
 
 def add_arguments(p) -> None:
@@ -24,6 +24,7 @@ def add_arguments(p) -> None:
     p.add_argument("--force", action="store_true", help="let --plot replace an existing file")
     p.add_argument("--write-cells", metavar="PLAN",
                    help="store the fitted cell reference in PLAN's [cells] table (created if missing)")
+    add_mismatch_arguments(p)
 
 
 def load_counts(args, catalog):
@@ -132,6 +133,13 @@ def run(args) -> int:
     from mediaplan.views.safe_text import one_line
 
     catalog = catalog_from(args)
+    if args.counts.lower().endswith(".toml"):  # a plan: read under the one catalog-mismatch policy
+        from mediaplan.files.sharing import shadow_notes
+
+        policy: list[str] = list(shadow_notes(catalog))
+        _, catalog = plan_under_policy(args.counts, catalog, args, policy)
+        for n in policy:
+            note(n)
     plan, counts = load_counts(args, catalog)
     from mediaplan.tasks.uncertainty import fit_with_levels
 

@@ -9,7 +9,7 @@ the instrument (``mediaplan osmometer calibrate``) is applied, with a note.
 
 from __future__ import annotations
 
-from mediaplan.cli.common import catalog_from, print_json
+from mediaplan.cli.common import add_mismatch_arguments, catalog_from, plan_under_policy, print_json
 
 INSTRUMENT_CHOICES = ("freezing-point", "vapour-pressure")
 
@@ -33,6 +33,7 @@ def add_arguments(p) -> None:
     p.add_argument("--date", metavar="YYYY-MM-DD", help="with --record: day of the reading (default today)")
     p.add_argument("--trust", choices=("plan", "local"),
                    help="settle conflicts between a plan's embedded entries and the local catalog")
+    add_mismatch_arguments(p, trust=False)
     p.epilog = "Exit status: 0 when the reading is consistent with the plan, 1 when it is not, 2 for bad input."
 
 
@@ -53,7 +54,7 @@ def _date(text: str | None):
 def run(args) -> int:
     from mediaplan.cli.common import note
     from mediaplan.files import osmometers
-    from mediaplan.files.sharing import read_plan, shadow_notes
+    from mediaplan.files.sharing import shadow_notes
     from mediaplan.medium.errors import AmountError
     from mediaplan.medium.units import parse_temperature
     from mediaplan.tasks.reading import check_reading, parse_reading
@@ -72,7 +73,8 @@ def run(args) -> int:
     catalog = catalog_from(args)
     for n in shadow_notes(catalog):
         note(n)
-    plan, cat, notes = read_plan(args.plan, catalog, trust=args.trust)
+    notes: list[str] = []
+    plan, cat = plan_under_policy(args.plan, catalog, args, notes)  # files/sharing.MISMATCH_POLICY
     for n in notes:
         note(n)
     inst = osmometers.instrument(args.instrument, repeatability=args.repeatability, chamber_temperature_k=chamber_k)

@@ -4,7 +4,14 @@ from __future__ import annotations
 
 import sys
 
-from mediaplan.cli.common import add_recipe_arguments, catalog_from, print_json, recipe_from
+from mediaplan.cli.common import (
+    add_mismatch_arguments,
+    add_recipe_arguments,
+    catalog_from,
+    plan_under_policy,
+    print_json,
+    recipe_from,
+)
 
 DEFAULT_VOLUME = "50 mL"
 
@@ -35,6 +42,7 @@ def add_arguments(p) -> None:
                                                    "as a plan file (written back into the --plan file when it is "
                                                    "the same, keeping its comments)")
     p.add_argument("--force", action="store_true", help="with --write: overwrite an existing file")
+    add_mismatch_arguments(p)
 
 
 def _potential(text: str, field: str, T: float) -> float:
@@ -58,10 +66,18 @@ def _step(text: str) -> float:
 
 
 def build_design(args, catalog):
-    """(plan, background recipe, design) from the command's arguments."""
+    """(plan, background recipe, design, catalog in force) from the command's arguments; a plan is read
+    under the one catalog-mismatch policy (its notes said on standard error)."""
+    from mediaplan.cli.common import note
+    from mediaplan.files.sharing import shadow_notes
     from mediaplan.medium.errors import AmountError
     from mediaplan.tasks.plasmolysis import design_series, potentials_around, potentials_between
 
+    if getattr(args, "plan", None):
+        policy: list[str] = list(shadow_notes(catalog))
+        _, catalog = plan_under_policy(args.plan, catalog, args, policy)
+        for n in policy:
+            note(n)
     plan, recipe = recipe_from(args, catalog)
     if args.volume or plan is None:
         recipe = recipe.with_settings(volume=args.volume or DEFAULT_VOLUME)
@@ -82,7 +98,7 @@ def build_design(args, catalog):
         spacing = f"{args.steps} levels evenly spaced in water potential from {args.start} to {args.stop}"
     design = design_series(recipe, args.osmoticum, psi, catalog=catalog, stock=args.stock, spacing=spacing,
                            preparation=getattr(args, "preparation", "in-background").replace("-", "_"))
-    return plan, recipe, design
+    return plan, recipe, design, catalog
 
 
 def csv_comments(design, recipe, plan, args) -> list[str]:
@@ -110,7 +126,7 @@ def run(args) -> int:
     from mediaplan.views.safe_text import one_line
 
     catalog = catalog_from(args)
-    plan, recipe, design = build_design(args, catalog)
+    plan, recipe, design, catalog = build_design(args, catalog)
     if args.json:
         from mediaplan.tasks.uncertainty import with_level_intervals
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import sys
 
-from mediaplan.cli.common import catalog_from, print_json
+from mediaplan.cli.common import add_mismatch_arguments, catalog_from, plan_under_policy, print_json
 
 _TARGET_HELP = ('water potential ("-0.8 MPa", "-8 bar"), osmolality ("450 mOsm/kg"), or tonicity toward the '
                 'cells: "isotonic", "isotonic+10%%", "isotonic-50 mOsm/kg" (offsets act on the osmolality, + is '
@@ -26,6 +26,7 @@ def add_arguments(p) -> None:
                    "without --force)")
     p.add_argument("--force", action="store_true", help="let --write replace an existing file; the input plan "
                    "itself is edited in place, keeping its comments")
+    add_mismatch_arguments(p)
     p.epilog = ("Exit status: 0 when the target is reached or already met, 1 when the medium is already more "
                 "concentrated than the target (the strength or dilution that reaches it is printed; nothing is "
                 "written), 2 for bad input or an unreachable target.")
@@ -57,13 +58,17 @@ def _hold(text: str | None) -> dict[str, str] | None:
 def run(args) -> int:
     from mediaplan.cli.common import note
     from mediaplan.files import planfile
+    from mediaplan.files.sharing import shadow_notes
     from mediaplan.tasks.cells import cell_reference, cell_tolerance
     from mediaplan.tasks.solve import parse_solve_target, solve_target
     from mediaplan.views.safe_text import one_line
 
     catalog = catalog_from(args)
     spec = parse_solve_target(args.target, field="--target")
-    plan = planfile.read(args.plan, catalog=catalog)
+    policy: list[str] = list(shadow_notes(catalog))
+    plan, catalog = plan_under_policy(args.plan, catalog, args, policy)  # files/sharing.MISMATCH_POLICY
+    for n in policy:
+        note(n)
     recipe = plan.recipe
     ref = cell_reference(args.cells, plan.cells, recipe.temperature_k)
     tol = cell_tolerance(args.tolerance, plan.cells)
