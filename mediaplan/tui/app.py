@@ -87,6 +87,7 @@ class MediaplanApp(App):
             return
         if self.session.plan.path is not None:
             self.call_after_refresh(_remember, self.session.plan.path)
+            self.call_after_refresh(self._say_catalog_mismatch)
         if self.WARM_START:
             self.call_after_refresh(self.warm_start)
         if self.offer_recovery:
@@ -203,7 +204,21 @@ class MediaplanApp(App):
         self.session.discard_recovery()
         self._replace_session(session)
         _remember(path)
+        self._say_catalog_mismatch()
         self.call_after_refresh(self._offer_recovery)
+
+    def _say_catalog_mismatch(self) -> None:
+        """The warnings of the one catalog-mismatch policy (files/sharing.MISMATCH_POLICY) for the plan just
+        opened, one notification each: the app computes with the local catalog's entries."""
+        from mediaplan.files.sharing import mismatch_notes
+
+        try:
+            notes = mismatch_notes(self.session.plan, self.catalog)
+        except MediaplanError:
+            return
+        for n in notes:
+            used = "; the local catalog's entry is used" if n.startswith("catalog differs") else ""
+            self.notify(n + used, title="catalog differs", severity="warning", markup=False, timeout=12)
 
     def action_new_plan(self) -> None:
         def fresh() -> None:
