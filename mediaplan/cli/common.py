@@ -5,7 +5,6 @@ Text goes out through :func:`mediaplan.files.output.write_output` (standard outp
 from __future__ import annotations
 
 import argparse
-import math
 
 from mediaplan.medium.errors import AmountError, MediaplanError
 
@@ -140,23 +139,7 @@ def print_json(obj, path=None, *, force: bool = False, reads: tuple = ()) -> Non
     from mediaplan.files.output import write_output
     from mediaplan.views.jsontext import json_text
 
-    write_output(json_text(tidy_volumes(obj)), path, force=force, reads=reads)
-
-
-#: significant digits a batch volume keeps in JSON: a typed volume ("2 L", "250 mL") has far fewer, and the
-#: litre's conversion factor (0.1 m)³ leaves noise in the 16th (2 L -> 2.0000000000000004)
-VOLUME_DIGITS = 12
-
-
-def tidy_volumes(obj):
-    """``obj`` with every ``volume_l`` [L] float rounded to :data:`VOLUME_DIGITS` significant digits (still a
-    float; the figures computed from the volume are left as they are)."""
-    if isinstance(obj, dict):
-        return {k: float(f"{v:.{VOLUME_DIGITS}g}") if k == "volume_l" and isinstance(v, float) and
-                math.isfinite(v) else tidy_volumes(v) for k, v in obj.items()}
-    if isinstance(obj, list):
-        return [tidy_volumes(v) for v in obj]
-    return obj
+    write_output(json_text(obj), path, force=force, reads=reads)
 
 
 def add_output_arguments(p: argparse.ArgumentParser, formats: tuple[str, ...], default: str, *,

@@ -76,9 +76,17 @@ class Evaluation:
 
     def to_dict(self) -> dict:
         d = asdict(self)
+        d["volume_l"] = tidy_volume_l(self.volume_l)
         d["osmotic_potential_bar"] = self.osmotic_potential_bar
         d["warnings"] = [w.to_dict() for w in self.warnings]
         return finite(d)
+
+
+def tidy_volume_l(v: float) -> float:
+    """A batch volume [L] as output, to 12 significant digits: a typed volume ("2 L", "250 mL") has far
+    fewer, and the litre's conversion factor, (0.1 m)³, leaves noise in the 16th (2 L -> 2.0000000000000004).
+    Still a float; the figures computed from the volume are left as they are."""
+    return float(f"{v:.12g}") if isinstance(v, float) and math.isfinite(v) else v
 
 
 def finite(obj):

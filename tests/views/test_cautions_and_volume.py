@@ -6,8 +6,9 @@ import json
 
 import pytest
 
-from mediaplan.cli.common import tidy_volumes
 from mediaplan.cli.main import main
+from mediaplan.medium.evaluate import evaluate, tidy_volume_l
+from mediaplan.medium.recipe import Recipe
 
 
 def test_cautions_name_components_by_their_display_names(capsys, catalog):
@@ -30,8 +31,9 @@ def test_json_volume_is_the_typed_volume(tmp_path, capsys, command, volume, expe
     assert type(d["volume_l"]) is float and d["volume_l"] == expected
 
 
-def test_tidy_volumes_touches_only_volume_l():
-    noisy = {"volume_l": 2.0000000000000004, "osmolality": 1.0000000000000002,
-             "rows": [{"volume_l": 0.25000000000000006, "grams": 0.1 + 0.2}], "n": 3}
-    assert tidy_volumes(noisy) == {"volume_l": 2.0, "osmolality": 1.0000000000000002,
-                                   "rows": [{"volume_l": 0.25, "grams": 0.1 + 0.2}], "n": 3}
+def test_only_the_volume_is_tidied(catalog):
+    ev = evaluate(Recipe(volume="2 L").with_amount("sucrose", "30 g/L"), catalog)
+    assert ev.volume_l == Recipe(volume="2 L").volume_m3 * 1000.0  # as computed (2.0000000000000004)
+    d = ev.to_dict()
+    assert d["volume_l"] == 2.0 and d["osmolality_mosmol_per_kg"] == ev.osmolality_mosmol_per_kg
+    assert tidy_volume_l(0.25000000000000006) == 0.25 and tidy_volume_l(float("nan")) != 0.0

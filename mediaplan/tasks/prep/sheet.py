@@ -12,6 +12,7 @@ from dataclasses import asdict, dataclass, field
 
 from mediaplan.medium.catalog import Catalog
 from mediaplan.medium.errors import AmountError, MediaplanError
+from mediaplan.medium.evaluate import tidy_volume_l
 from mediaplan.medium.recipe import Recipe
 from mediaplan.medium.units import parse_volume
 from mediaplan.tasks.prep.items import Weighing, shelf_forms, weighings
@@ -73,6 +74,7 @@ class PrepSheet:
         ``solubility_fraction``. A non-finite number becomes null.
         """
         d = asdict(self)
+        d["volume_l"] = tidy_volume_l(self.volume_l)
         d["rows"] = [r.to_dict() for r in self.rows]
         return _json_safe(d)
 
