@@ -361,7 +361,7 @@ def stated_series(path: str | os.PathLike, osmoticum: str | None, background: Re
 
     stated = {k: v for k, (_, v) in stated_in(path).items()}
     if background is None:
-        changes: dict = {k: stated[k] for k in ("base", "temperature") if k in stated}
+        changes: dict = {k: stated[k] for k in ("base", "strength_scope", "temperature") if k in stated}
         try:
             if "strength" in stated:
                 changes["strength"] = float(stated["strength"])

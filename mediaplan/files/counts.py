@@ -204,7 +204,7 @@ def read_counts_csv(path: str | Path, *, osmoticum: str | None = None, backgroun
 
 
 #: the header comments a counts file may carry (``# key: value`` before the header)
-STATED_KEYS = ("plan", "osmoticum", "base", "strength", "temperature")
+STATED_KEYS = ("plan", "osmoticum", "base", "strength", "strength_scope", "temperature")
 _STATED = re.compile(r"^\s*#\s*(?P<key>[a-z_]+)\s*:\s*(?P<value>.*?)\s*$")
 
 
@@ -245,7 +245,7 @@ def _with_stated(stated: dict[str, tuple[int, str]], osmoticum: str | None, back
         elif said != osmoticum:
             notes.append(f"the file states osmoticum {said}; {osmoticum} used as asked")
     changes: dict = {}
-    for key in ("base", "strength", "temperature"):
+    for key in ("base", "strength", "strength_scope", "temperature"):
         if key not in stated:
             continue
         line, said = stated[key]

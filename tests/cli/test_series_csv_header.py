@@ -38,7 +38,8 @@ def test_the_sheet_states_osmoticum_temperature_and_background(tmp_path, capsys)
     text, path = _filled(tmp_path, capsys, ["--base", "ms1962", "--strength", "0.5", "--strength-scope", "all"])
     assert text.splitlines()[0].startswith("# ")
     stated = {k: v for k, (_, v) in stated_in(path).items()}
-    assert stated == {"osmoticum": "sorbitol", "temperature": "20 degC", "base": "ms1962", "strength": "0.5"}
+    assert stated == {"osmoticum": "sorbitol", "temperature": "20 degC", "base": "ms1962", "strength": "0.5",
+                      "strength_scope": "all"}
     assert "# strength_scope: all" in text  # a scope other than a new recipe's is said too
 
 
