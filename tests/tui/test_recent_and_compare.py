@@ -161,3 +161,27 @@ async def test_the_storage_temperature_is_set_in_the_conditions_and_checks_solub
         await pilot.press("u")
         await pilot.pause()
         assert app.session.recipe.storage_temperature is None
+
+
+@pytest.mark.parametrize("size", SIZES, ids=SIZE_IDS)
+@run_async
+async def test_tonicity_with_a_permeant_shows_the_first_minutes_and_the_lasting_state(size):
+    from mediaplan.tasks.cells import CellReference
+
+    cat = get_catalog()
+    # 0.2 mol/kg mannitol + 0.3 mol/kg glycerol against 450 mOsm/kg cells: isotonic at first, hypotonic once
+    # glycerol (a permeant; catalog reflection coefficient) has entered (an invented case)
+    recipe = Recipe().with_amount("mannitol", "0.2 mol/kg").with_amount("glycerol", "0.3 mol/kg")
+    plan = Plan(recipe=recipe, title="Permeant (invented)", cells=CellReference(osmolality="450 mOsm/kg"))
+    app = app_for(Session(plan, cat))
+    async with app.run_test(size=size) as pilot:
+        await pilot.pause()
+        t = evaluate(recipe, cat, cell_reference_mosmol=450.0).tonicity
+        assert t["class"] == "isotonic" and t["steady_state"]["class"] == "hypotonic"
+        text = " ".join(ln.strip("│ ") for ln in screen_lines(app))
+        assert "once inside glycerol" in text and f"{t['steady_state']['ratio']:.2f} ×" in text
+        assert "swell;" not in text  # walled cells: turgor, not swelling
+        if size[0] >= 140:
+            assert "turgor rises, the" in text  # the full sentence where there is room
+        else:
+            assert "turgor rises (water enters)" in text

@@ -15,6 +15,9 @@ from textual.widgets import Static
 from mediaplan.medium.evaluate import Evaluation
 from mediaplan.tui.widgets.recipe_table import fit_left, fit_right, share_bar
 
+#: turgor of walled cells in a few words, for a narrow panel (the full sentence is in the evaluation)
+_TURGOR_SHORT = {"isotonic": "turgor stays as it is", "hypotonic": "turgor rises (water enters)",
+                 "hypertonic": "turgor falls; may plasmolyse"}
 _TONICITY_WORD = {"hypotonic": "hypotonic ▼", "isotonic": "isotonic ●", "hypertonic": "hypertonic ▲"}
 
 
@@ -161,7 +164,18 @@ class RelationsPanel(Static):
             ratio = f"  {f['tonicity_ratio']} × cells ({t['reference_mosmol_per_kg']:.0f} mOsm/kg)"
             word = _TONICITY_WORD.get(t["class"], t["class"])
             lines.append(Content.assemble(("tonicity ", "dim"), (word, "dim bold"), (ratio, "dim")))
-            lines.append(Content.styled(t["water_flow"], "italic"))
+            later = t.get("steady_state")
+            if later and t.get("permeants") and later["class"] != t["class"]:
+                # the first minutes differ from the lasting state once the permeating solutes have entered
+                then = _TONICITY_WORD.get(later["class"], later["class"])
+                lines.append(Content.assemble(("once inside ", "dim"), (", ".join(t["permeants"]), "dim"),
+                                              (": ", "dim"), (then, "dim bold"), (f"  {later['ratio']:.2f} ×", "dim")))
+            # walled cells: what happens to turgor (the lasting state), not "the cells swell"; short when narrow
+            lasting = later or t
+            words = lasting.get("turgor") or t["water_flow"]
+            if width < 48:
+                words = _TURGOR_SHORT.get(lasting["class"], words)
+            lines.append(Content.styled(words, "italic"))
         else:
             lines.append(Content.styled("tonicity: no cells set (c)", "dim"))
         lines.append(Content.styled(f"{ev.temperature_c:.4g} °C · {ev.volume_l:g} L batch", "dim"))
