@@ -45,7 +45,15 @@ def load_counts(args, catalog):
             raise FitError("the plan has no [series] table", file=path,
                            hint="design one with: mediaplan series ... --write PLAN.toml")
         return plan, counts_from_series(plan.series, file=path, temperature_k=T or plan.recipe.temperature_k)
-    changes = {}
+    changes = _background_given(args, catalog)
+    background = Recipe(**changes) if changes else None
+    return None, read_counts_csv(path, osmoticum=args.osmoticum, background=background, catalog=catalog)
+
+
+def _background_given(args, catalog) -> dict:
+    """The series background the command line states (--base, --strength, --strength-scope, --temperature),
+    as Recipe settings; empty when none is given."""
+    changes: dict = {}
     if args.base:
         changes["base"] = catalog.medium(args.base, field="--base").id
     if args.strength is not None:
@@ -54,8 +62,7 @@ def load_counts(args, catalog):
         changes["strength_scope"] = args.strength_scope
     if args.temperature:
         changes["temperature"] = args.temperature
-    background = Recipe(**changes) if changes else None
-    return None, read_counts_csv(path, osmoticum=args.osmoticum, background=background, catalog=catalog)
+    return changes
 
 
 def levels_uncertainty(args, plan, catalog):
@@ -68,15 +75,7 @@ def levels_uncertainty(args, plan, catalog):
         return plan_series_uncertainty(plan.series, plan.recipe, catalog)
     from mediaplan.api import stated_series
 
-    changes = {}
-    if args.base:
-        changes["base"] = catalog.medium(args.base, field="--base").id
-    if args.strength is not None:
-        changes["strength"] = args.strength
-    if getattr(args, "strength_scope", None):
-        changes["strength_scope"] = args.strength_scope
-    if args.temperature:
-        changes["temperature"] = args.temperature
+    changes = _background_given(args, catalog)
     osmoticum, background = stated_series(args.counts, args.osmoticum, Recipe(**changes) if changes else None)
     return series_level_uncertainty(osmoticum, background, catalog)
 
