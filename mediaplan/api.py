@@ -356,19 +356,11 @@ def design_series(osmoticum: str, *, first: str | None = None, last: str | None 
 def stated_series(path: str | os.PathLike, osmoticum: str | None, background: Recipe | None) -> tuple[str | None, Recipe]:
     """The osmoticum and the background of the series behind a counts file: the caller's, else what the file's
     ``# key: value`` comments state; the background at the level volume (for the levels' uncertainty)."""
-    from mediaplan.files.counts import stated_in
+    from mediaplan.files import counts
     from mediaplan.tasks.uncertainty import LEVEL_VOLUME
 
-    stated = {k: v for k, (_, v) in stated_in(path).items()}
-    if background is None:
-        changes: dict = {k: stated[k] for k in ("base", "strength_scope", "temperature") if k in stated}
-        try:
-            if "strength" in stated:
-                changes["strength"] = float(stated["strength"])
-            background = Recipe(**changes)
-        except (ValueError, MediaplanError):
-            background = Recipe()  # the reader names a bad value in its own words
-    return osmoticum or stated.get("osmoticum"), background.with_settings(volume=LEVEL_VOLUME)
+    osmoticum, background = counts.stated_series(path, osmoticum, background)
+    return osmoticum, background.with_settings(volume=LEVEL_VOLUME)
 
 
 def _counts_from_rows(rows: Iterable[Sequence[float]], temperature_k: float | None) -> Counts:

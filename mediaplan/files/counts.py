@@ -234,6 +234,14 @@ def stated_in(path: str | Path) -> dict[str, tuple[int, str]]:
     return out
 
 
+def stated_series(path: str | Path, osmoticum: str | None = None,
+                  background: Recipe | None = None) -> tuple[str | None, Recipe]:
+    """The osmoticum and background of the series behind a counts file, read as :func:`read_counts_csv`
+    reads them: the caller's, else what the file's ``# key: value`` comments state (water when neither)."""
+    osmoticum, background = _with_stated(stated_in(path), osmoticum, background, str(path), [])
+    return osmoticum, background if background is not None else Recipe()
+
+
 def _with_stated(stated: dict[str, tuple[int, str]], osmoticum: str | None, background: Recipe | None,
                  file: str, notes: list[str]) -> tuple[str | None, Recipe | None]:
     """The osmoticum and background to read with: the caller's, else the file's header comments."""
