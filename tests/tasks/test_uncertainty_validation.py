@@ -49,9 +49,7 @@ rule on 50 rows tolerates two misses, on 63 three, so leaving a sugar out raises
 
 from __future__ import annotations
 
-import csv
 from dataclasses import dataclass
-from pathlib import Path
 
 import numpy as np
 import pytest
@@ -63,7 +61,6 @@ from mediaplan.tasks.uncertainty import MODEL_ERROR, Tolerances, budget, model_e
 from mediaplan.thermo import potential
 from tests.thermo.test_pitzer_temperature import CRC_KH2PO4, CRC_KNO3, CRC_NANO3
 
-DATA = Path(__file__).resolve().parents[1] / "data"
 #: CRC solute name -> (catalog id, class in MODEL_ERROR); maltose (a borrowed constant, set by judgement)
 #: takes no part in the rule
 SOLUTES = {"Sodium chloride": ("sodium_chloride", "electrolyte"),
@@ -121,18 +118,15 @@ def _row(catalog, solute: str, kind: str, cid: str, m: float, theta_pub: float) 
 @pytest.fixture(scope="module")
 def crc_rows(catalog) -> list[Row]:
     """The CRC rows the constants were set on (tests/data/crc_*_subset.tsv), up to Y_MAX."""
+    from tests.tasks.test_uncertainty import _crc_rows
+
     out = []
-    for name in ("crc_concentrative_subset.tsv", "crc_salts_subset.tsv"):
-        with (DATA / name).open(encoding="utf-8") as fh:
-            rows = [r for r in csv.reader(fh, delimiter="\t") if r and not r[0].startswith("#")]
-        head = rows[0]
-        for r in rows[1:]:
-            d = dict(zip(head, r, strict=False))
-            if d.get("FPD_C") and d["Solute"] in SOLUTES:
-                cid, kind = SOLUTES[d["Solute"]]
-                row = _row(catalog, d["Solute"], kind, cid, float(d["Molality_m"]), float(d["FPD_C"]))
-                if row is not None:
-                    out.append(row)
+    for solute, m, fpd in _crc_rows():
+        if solute in SOLUTES:
+            cid, kind = SOLUTES[solute]
+            row = _row(catalog, solute, kind, cid, m, fpd)
+            if row is not None:
+                out.append(row)
     return out
 
 
