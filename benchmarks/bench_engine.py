@@ -11,6 +11,7 @@ import statistics
 import time
 
 import numpy as np
+import timing
 
 from mediaplan.files.catalog import get_catalog
 from mediaplan.medium.evaluate import evaluate
@@ -19,14 +20,8 @@ from mediaplan.medium.recipe import Recipe
 
 
 def median_time(fn, repeat: int = 7, number: int = 50) -> float:
-    """Median over ``repeat`` runs of the mean time of ``number`` calls [s]."""
-    times = []
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        for _ in range(number):
-            fn()
-        times.append((time.perf_counter() - t0) / number)
-    return statistics.median(times)
+    """Median time of one call of ``fn`` [s] (see benchmarks/timing.py)."""
+    return timing.median_time(fn, repeat, number)
 
 
 def main() -> None:

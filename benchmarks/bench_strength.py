@@ -15,20 +15,16 @@ import itertools
 import statistics
 import time
 
+import timing
+
 from mediaplan.files.catalog import get_catalog
 from mediaplan.medium.evaluate import evaluate
 from mediaplan.medium.recipe import Recipe
 
 
 def median_cpu(fn, repeat: int = 9, number: int = 60) -> float:
-    """Median over ``repeat`` runs of the mean CPU time of ``number`` calls [s]."""
-    times = []
-    for _ in range(repeat):
-        t0 = time.process_time()
-        for _ in range(number):
-            fn()
-        times.append((time.process_time() - t0) / number)
-    return statistics.median(times)
+    """Median CPU time of one call of ``fn`` [s] (see benchmarks/timing.py)."""
+    return timing.median_time(fn, repeat, number, clock=time.process_time)
 
 
 def main() -> None:

@@ -18,6 +18,8 @@ from __future__ import annotations
 import statistics
 import time
 
+import timing
+
 from mediaplan.files.catalog import get_catalog
 from mediaplan.medium.evaluate import evaluate
 from mediaplan.medium.recipe import Recipe
@@ -31,17 +33,8 @@ SALTS_PHREEQC = {"K": 20.0, "Ca": 3.0, "Mg": 1.5, "Na": 1.0, "Cl": 27.0, "S(6)":
 
 
 def median_time(fn, repeat: int = 9, number: int = 100) -> float:
-    """Median over ``repeat`` runs of the mean CPU time of this process over ``number`` calls [s].
-
-    CPU time rather than wall time: on a shared machine other processes then lengthen neither side's
-    figure (both engines run in this process, PHREEQC as a library)."""
-    times = []
-    for _ in range(repeat):
-        t0 = time.process_time()
-        for _ in range(number):
-            fn()
-        times.append((time.process_time() - t0) / number)
-    return statistics.median(times)
+    """Median CPU time of one call of ``fn`` [s] (see benchmarks/timing.py)."""
+    return timing.median_time(fn, repeat, number, clock=time.process_time)
 
 
 def phreeqc_runner():
