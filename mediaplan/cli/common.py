@@ -27,12 +27,11 @@ def add_recipe_arguments(p: argparse.ArgumentParser, *, plan_option: bool = True
                         "(4 °C is assumed when neither this nor the plan says)")
 
 
-def add_mismatch_arguments(p: argparse.ArgumentParser, *, trust: bool = True) -> None:
+def add_mismatch_arguments(p: argparse.ArgumentParser) -> None:
     """``--trust`` and ``--strict``: what a command does when a plan's catalog record differs from the
     catalog in force (the one policy, :data:`mediaplan.files.sharing.MISMATCH_POLICY`)."""
-    if trust:
-        p.add_argument("--trust", choices=("plan", "local"),
-                       help="which entry wins when the plan's embedded copy differs from the local catalog")
+    p.add_argument("--trust", choices=("plan", "local"),
+                   help="which entry wins when the plan's embedded copy differs from the local catalog")
     p.add_argument("--strict", action="store_true",
                    help="refuse (exit 2) when the plan's recorded catalog entries differ from this catalog "
                         "(default: warn, naming each entry and field, and use the local entry)")

@@ -10,9 +10,7 @@ def add_arguments(p) -> None:
     p.add_argument("a", metavar="A", help="first plan")
     p.add_argument("b", metavar="B", help="second plan")
     p.add_argument("--json", action="store_true", help="print one JSON object")
-    p.add_argument("--trust", choices=("plan", "local"),
-                   help="settle conflicts between a plan's embedded entries and the local catalog")
-    add_mismatch_arguments(p, trust=False)
+    add_mismatch_arguments(p)
     p.epilog = ("Exit status: 0 when the two plans make the same medium (same settings, components and results; "
                 "titles and notes aside), 1 when they differ, 2 for bad input.")
 

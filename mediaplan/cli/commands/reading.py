@@ -31,9 +31,7 @@ def add_arguments(p) -> None:
     p.add_argument("--operator", metavar="NAME", help="with --record: who measured")
     p.add_argument("--note", metavar="TEXT", help="with --record: a note (batch, vessel...)")
     p.add_argument("--date", metavar="YYYY-MM-DD", help="with --record: day of the reading (default today)")
-    p.add_argument("--trust", choices=("plan", "local"),
-                   help="settle conflicts between a plan's embedded entries and the local catalog")
-    add_mismatch_arguments(p, trust=False)
+    add_mismatch_arguments(p)
     p.epilog = "Exit status: 0 when the reading is consistent with the plan, 1 when it is not, 2 for bad input."
 
 
