@@ -207,20 +207,14 @@ def check_reading(medium: Recipe | Plan, value: str | float, *, instrument: str 
     (ranked slips); ``to_dict()`` is the ``reading --json`` object
     """
     from mediaplan.files import osmometers
-    from mediaplan.medium.units import parse_temperature
     from mediaplan.tasks.reading import check_reading as check
 
     cat = _catalog(catalog)
     plan, recipe = _plan_and_recipe(medium)
-    chamber = parse_temperature(chamber_temperature, field="chamber_temperature") if chamber_temperature else None
-    inst = osmometers.instrument(instrument, repeatability=repeatability, chamber_temperature_k=chamber)
-    named: list[str] = []
-    if plan is not None and plan.target is not None:
-        named += list(plan.target.osmotica or ())
-    if plan is not None and plan.series is not None and plan.series.osmoticum:
-        named.append(plan.series.osmoticum)
-    return check(recipe, cat, value, instrument=inst, osmotica_named=named,
-                 calibration=osmometers.calibration_of(instrument) if calibrated else None)
+    inst, cal = osmometers.reading_setup(instrument, chamber=chamber_temperature, repeatability=repeatability,
+                                         calibrated=calibrated)
+    named = osmometers.osmotica_named(plan) if plan is not None else []
+    return check(recipe, cat, value, instrument=inst, osmotica_named=named, calibration=cal)
 
 
 def _ratio(ratio: str | Sequence[float] | None) -> list[float] | None:

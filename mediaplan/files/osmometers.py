@@ -25,7 +25,7 @@ import tomli_w
 from mediaplan.files import reading
 from mediaplan.files.paths import user_config_dir
 from mediaplan.medium.errors import AmountError, PlanFileError
-from mediaplan.medium.units import measure
+from mediaplan.medium.units import measure, parse_temperature
 from mediaplan.tasks.reading import INSTRUMENTS, Calibration, Instrument, fit_calibration
 
 FILE_NAME = "osmometers.toml"
@@ -79,6 +79,30 @@ def repeatability_of(kind: str, *, path: Path | None = None) -> str | None:
     """The lab's own repeatability text of an instrument kind, or None."""
     value = (_load(path or settings_path()).get(kind) or {}).get("repeatability")
     return value if isinstance(value, str) else None
+
+
+def reading_setup(kind: str, *, chamber: str | None = None, repeatability: str | None = None,
+                  calibrated: bool = True, path: Path | None = None) -> tuple[Instrument, Calibration | None]:
+    """The instrument a reading was taken on, and the calibration to apply to it (None when ``calibrated`` is
+    false or none is stored): the one setup of the command line, the API and the app. ``chamber`` is a
+    vapour-pressure osmometer's chamber temperature (text); a freezing-point osmometer has none."""
+    chamber_k = None
+    if chamber is not None and chamber.strip():
+        if kind != "vapour-pressure":
+            raise AmountError("a chamber temperature belongs to a vapour-pressure osmometer",
+                              field="chamber_temperature", hint="leave it out for a freezing-point osmometer")
+        chamber_k = parse_temperature(chamber, field="chamber_temperature")
+    inst = instrument(kind, repeatability=repeatability, chamber_temperature_k=chamber_k, path=path)
+    return inst, (calibration_of(kind, path=path) if calibrated else None)
+
+
+def osmotica_named(plan) -> list[str]:
+    """The osmotica a plan names (its target's and its series'): the unlisted solutes a reading considers."""
+    named = list(plan.target.osmotica or ()) if getattr(plan, "target", None) is not None else []
+    series = getattr(plan, "series", None)
+    if series is not None and series.osmoticum:
+        named.append(series.osmoticum)
+    return named
 
 
 def instrument(kind: str, *, repeatability: str | None = None, chamber_temperature_k: float | None = None,

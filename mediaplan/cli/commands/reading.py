@@ -54,7 +54,6 @@ def run(args) -> int:
     from mediaplan.files import osmometers
     from mediaplan.files.sharing import shadow_notes
     from mediaplan.medium.errors import AmountError
-    from mediaplan.medium.units import parse_temperature
     from mediaplan.tasks.reading import check_reading, parse_reading
 
     displayed = parse_reading(args.value)  # bad input first: before any file is read
@@ -62,12 +61,8 @@ def run(args) -> int:
         raise AmountError("an operator, note or date is only kept with the record", field="reading.record",
                           asks_for="reading.record", hint="record the reading too")
     day = _date(args.date) if args.record else None
-    chamber_k = None
-    if args.chamber is not None:
-        if args.instrument != "vapour-pressure":
-            raise AmountError("a chamber temperature belongs to a vapour-pressure osmometer",
-                              field="chamber_temperature", hint="leave it out for a freezing-point osmometer")
-        chamber_k = parse_temperature(args.chamber, field="chamber_temperature")
+    inst, cal = osmometers.reading_setup(args.instrument, chamber=args.chamber, repeatability=args.repeatability,
+                                         calibrated=not args.raw)
     catalog = catalog_from(args)
     for n in shadow_notes(catalog):
         note(n)
@@ -75,12 +70,8 @@ def run(args) -> int:
     plan, cat = plan_under_policy(args.plan, catalog, args, notes)  # files/sharing.MISMATCH_POLICY
     for n in notes:
         note(n)
-    inst = osmometers.instrument(args.instrument, repeatability=args.repeatability, chamber_temperature_k=chamber_k)
-    cal = None if args.raw else osmometers.calibration_of(args.instrument)
-    named = list(plan.target.osmotica or ()) if plan.target is not None else []
-    if plan.series is not None and plan.series.osmoticum:
-        named.append(plan.series.osmoticum)
-    result = check_reading(plan.recipe, cat, displayed, instrument=inst, calibration=cal, osmotica_named=named)
+    result = check_reading(plan.recipe, cat, displayed, instrument=inst, calibration=cal,
+                           osmotica_named=osmometers.osmotica_named(plan))
     if args.record:
         _record(plan, cat, args, day, note)
     if args.json:

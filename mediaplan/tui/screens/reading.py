@@ -97,7 +97,6 @@ class ReadingScreen(ModalScreen[object]):
     @on(Select.Changed)
     def _update(self) -> None:
         from mediaplan.files import osmometers
-        from mediaplan.medium.units import parse_temperature
         from mediaplan.tasks.reading import check_reading
 
         value = self.query_one("#reading-value", Input).value.strip()
@@ -111,15 +110,9 @@ class ReadingScreen(ModalScreen[object]):
             self._show(None)
             return
         try:
-            chamber_k = None
-            if chamber:
-                if kind != "vapour-pressure":
-                    raise MediaplanError("a chamber temperature belongs to a vapour-pressure osmometer",
-                                         field="chamber_temperature", hint="leave it empty")
-                chamber_k = parse_temperature(chamber, field="chamber_temperature")
-            inst = osmometers.instrument(kind, chamber_temperature_k=chamber_k)
+            inst, cal = osmometers.reading_setup(kind, chamber=chamber)
             result = check_reading(self.session.recipe, self.session.catalog, value, instrument=inst,
-                                   calibration=osmometers.calibration_of(kind))
+                                   calibration=cal, osmotica_named=osmometers.osmotica_named(self.session.plan))
         except MediaplanError as exc:
             report(msg, in_app_words(exc), "")
             self._show(None)
