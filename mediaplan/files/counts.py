@@ -27,7 +27,6 @@ from mediaplan.medium.errors import AmountError, FitError, MediaplanError
 from mediaplan.medium.recipe import Recipe
 from mediaplan.medium.units import convert, parse_amount, unit_dimension
 from mediaplan.tasks.plasmolysis.counts import POTENTIAL_COLUMN, Counts, check_counts
-from mediaplan.tasks.plasmolysis.design import describe_background, potential_of_amounts
 from mediaplan.thermo import potential
 from mediaplan.thermo.constants import T0
 
@@ -168,7 +167,8 @@ def read_counts_csv(path: str | Path, *, osmoticum: str | None = None, backgroun
         notes.append(f"{skipped} level(s) without counts skipped")
     x = np.array(xs, dtype=float)
     if col.kind == "potential":
-        x = convert(x, col.unit, "MPa")
+        if col.unit != "MPa":  # MPa as written needs no conversion (nor the unit library)
+            x = convert(x, col.unit, "MPa")
         if np.any(x > 0):
             bad = lines[int(np.argmax(x > 0))]
             raise FitError("a water potential is positive", file=file, line=bad, field=col.header,
@@ -192,6 +192,8 @@ def read_counts_csv(path: str | Path, *, osmoticum: str | None = None, backgroun
                     amounts.append(parse_amount(f"{float(v)!r} {col.unit}", field=col.header))
                 except AmountError as exc:
                     raise exc.located(file=file, line=ln) from None
+            from mediaplan.tasks.plasmolysis.design import describe_background, potential_of_amounts
+
             bg = background or Recipe()
             x = potential_of_amounts(bg, osmo, amounts, catalog=catalog) / 1e6
             notes.append(f"levels read from '{col.header}' ({osmo} in {describe_background(bg)}) and converted to "

@@ -29,22 +29,24 @@ def add_arguments(p) -> None:
 
 def load_counts(args, catalog):
     """Counts from a CSV file or from a plan's [series] table."""
-    from mediaplan.files import planfile
-    from mediaplan.files.counts import read_counts_csv
-    from mediaplan.medium.errors import FitError
     from mediaplan.medium.recipe import Recipe
-    from mediaplan.tasks.plasmolysis import counts_from_series
 
     path = args.counts
     T = None
     if args.temperature:
         T = Recipe(temperature=args.temperature).temperature_k
     if path.lower().endswith(".toml"):
+        from mediaplan.files import planfile
+        from mediaplan.medium.errors import FitError
+        from mediaplan.tasks.plasmolysis import counts_from_series
+
         plan = planfile.read(path, catalog=catalog)
         if not plan.series:
             raise FitError("the plan has no [series] table", file=path,
                            hint="design one with: mediaplan series ... --write PLAN.toml")
         return plan, counts_from_series(plan.series, file=path, temperature_k=T or plan.recipe.temperature_k)
+    from mediaplan.files.counts import read_counts_csv
+
     changes = _background_given(args, catalog)
     background = Recipe(**changes) if changes else None
     return None, read_counts_csv(path, osmoticum=args.osmoticum, background=background, catalog=catalog)
@@ -68,16 +70,17 @@ def _background_given(args, catalog) -> dict:
 def levels_uncertainty(args, plan, catalog):
     """psi [MPa] -> standard uncertainty [MPa] of a level made at psi, for the series behind the counts (the
     plan's [series], or --with in --base); None when the osmoticum is not known."""
+    from mediaplan.files.counts import stated_series
     from mediaplan.medium.recipe import Recipe
-    from mediaplan.tasks.uncertainty import plan_series_uncertainty, series_level_uncertainty
+    from mediaplan.tasks.uncertainty import LEVEL_VOLUME, plan_series_uncertainty, series_level_uncertainty
 
     if plan is not None:
         return plan_series_uncertainty(plan.series, plan.recipe, catalog)
-    from mediaplan.api import stated_series
-
     changes = _background_given(args, catalog)
     osmoticum, background = stated_series(args.counts, args.osmoticum, Recipe(**changes) if changes else None)
-    return series_level_uncertainty(osmoticum, background, catalog)
+    if not osmoticum:  # not known: no levels' uncertainty (and no level volume to read)
+        return None
+    return series_level_uncertainty(osmoticum, background.with_settings(volume=LEVEL_VOLUME), catalog)
 
 
 def save_plot(fit, out: str, *, force: bool = False, reads: tuple = ()) -> str:
@@ -152,10 +155,10 @@ def run(args) -> int:
     if args.json:
         print_json(fit.to_dict())
     else:
-        from mediaplan.files.output import write_output
         from mediaplan.views.fit import fit_text
 
-        write_output(fit_text(fit))
+        text = fit_text(fit)  # to standard output, as files.output.write_output prints (fit writes no -o file)
+        sys.stdout.write(text if text.endswith("\n") else text + "\n")
     for s in saved:
         print(one_line(f"saved {s}"), file=sys.stderr)
     for n in said:

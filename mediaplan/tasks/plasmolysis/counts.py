@@ -29,7 +29,11 @@ class Counts:
 
     @property
     def n_levels(self) -> int:
-        return int(np.unique(self.water_potential_mpa).size)
+        # distinct levels (NaNs as one, as numpy.unique counts them; unique itself would import numpy.ma)
+        x = np.asarray(self.water_potential_mpa, dtype=float).ravel()
+        nan = np.isnan(x)
+        v = np.sort(x[~nan])
+        return int(v.size > 0) + int(np.count_nonzero(v[1:] != v[:-1])) + int(nan.any())
 
 
 @dataclass(frozen=True, eq=False)

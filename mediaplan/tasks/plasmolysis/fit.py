@@ -38,6 +38,7 @@ from mediaplan.medium.errors import FitError, MediaplanError
 from mediaplan.medium.evaluate import finite
 from mediaplan.tasks.plasmolysis.counts import Counts
 from mediaplan.tasks.plasmolysis.glm import check_link, fit_glm, separation
+from mediaplan.tasks.plasmolysis.tails import chi2_sf, normal_quantile
 from mediaplan.thermo import potential
 from mediaplan.thermo.constants import T0
 
@@ -96,6 +97,16 @@ class PlasmolysisFit:
         return t
 
 
+#: the two-sided 95 % critical value of the standard normal, as the fit has always taken it
+#: (scipy.special.ndtri(0.975); the correctly rounded value is one unit in the last place above)
+Z_95 = 1.959963984540054
+
+
+def critical_normal(alpha: float) -> float:
+    """The two-sided critical value z_(1 - alpha/2) of the standard normal [-]."""
+    return Z_95 if alpha == 0.05 else normal_quantile(1 - alpha / 2)
+
+
 def fieller_interval(b0: float, b1: float, V: np.ndarray, q: float) -> tuple[float, float] | None:
     """Fieller (1954) interval of theta = -b0/b1 at critical value q; None when it is unbounded.
 
@@ -141,9 +152,6 @@ def fit_counts(counts: Counts, link: str = "logit", *, temperature_k: float | No
     FitError on separation (every level all-or-nothing on either side of a point), when no level or
     every level is plasmolysed, or when the fit does not converge.
     """
-    # the functions scipy.stats' chi2.sf, t.ppf and norm.ppf call, without importing scipy.stats (slow)
-    from scipy.special import chdtrc, ndtri, stdtrit
-
     check_link(link)
     x, y, n = counts.water_potential_mpa, counts.plasmolysed, counts.total
     file = counts.source
@@ -163,19 +171,21 @@ def fit_counts(counts: Counts, link: str = "logit", *, temperature_k: float | No
                         "that the counts are not swapped")
     df = g.df
     het = g.pearson_chi2 / df if df > 0 else math.nan
-    pearson_p = float(chdtrc(df, g.pearson_chi2)) if df > 0 else math.nan
-    deviance_p = float(chdtrc(df, g.deviance)) if df > 0 else math.nan
+    pearson_p = chi2_sf(df, g.pearson_chi2) if df > 0 else math.nan
+    deviance_p = chi2_sf(df, g.deviance) if df > 0 else math.nan
     overdispersed = df > 0 and pearson_p < 0.05 and het > 1
     V = g.cov.copy()
     if overdispersed:
         V *= het
+        from scipy.special import stdtrit  # the t quantile scipy.stats' t.ppf calls (only when widened)
+
         q = float(stdtrit(df, 1 - alpha / 2))
         method = f"Fieller, widened by heterogeneity factor {het:.3g} (t on {df} df)"
         warnings.append(f"overdispersed: Pearson chi2 = {g.pearson_chi2:.3g} on {df} df (p = {pearson_p:.2g}); "
                         f"the interval is widened by the heterogeneity factor {het:.3g} — variation between "
                         "pieces or replicates exceeds binomial sampling")
     else:
-        q = float(ndtri(1 - alpha / 2))
+        q = critical_normal(alpha)
         method = "Fieller"
     ci = fieller_interval(b0, b1, V, q)
     if ci is None:
