@@ -20,7 +20,11 @@ equation 25-30 % less negative than the 1983 one, far outside the 1983 equation'
 stated +/-5 %. The test module checks this agreement.
 
 Mixtures: Michel (1983) reports that PEG + mannitol and PEG + NaCl give psi significantly
-lower than additive; these functions describe binary PEG-water solutions only.
+lower than additive; these functions describe binary PEG-water solutions only. His mixed-solute
+tables and the linear relation he reports (abstract: "the synergism of MAN-PEG and of NaCl-PEG are
+related linearly to the concentration of solute added with PEG") were sought again and could not be
+read here (only the abstract could be reached), so no mixed-solute relation of his is implemented: a figure for PEG with other solutes carries the span
+from the additive to the ZSR answer (:func:`mediaplan.thermo.mixing.mixing_span`).
 """
 
 from __future__ import annotations
