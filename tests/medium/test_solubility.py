@@ -59,13 +59,14 @@ def test_interpolation_through_a_recalled_row_says_so(catalog):
 
 
 def test_outside_its_table_nothing_is_extrapolated(catalog):
-    """Ammonium nitrate is tabulated from 0 to 25 °C only (from memory at 0 °C, CRC ambient table to 25 °C):
-    at 37 °C there is no figure, and the note names the table's range."""
-    c = catalog.components["ammonium_nitrate"]
-    sat = c.saturation_at(T0 + 37)
-    assert sat.molality is None and not sat.at_asked
-    assert "0 °C to 25 °C" in sat.note
-    assert c.saturation_molality_at(T0 + 37) is None
+    """Calcium nitrate is tabulated from 10 to 35 °C only (CRC ambient table): at 37 °C and at 4 °C there is
+    no figure, and the note names the table's range."""
+    c = catalog.components["calcium_nitrate_tetrahydrate"]
+    for t_c in (37.0, 4.0):
+        sat = c.saturation_at(T0 + t_c)
+        assert sat.molality is None and not sat.at_asked
+        assert "10 °C to 35 °C" in sat.note
+        assert c.saturation_molality_at(T0 + t_c) is None
 
 
 def test_without_a_table_only_the_25_C_figure_is_known_and_said(catalog):
@@ -136,11 +137,14 @@ def test_at_a_cold_culture_temperature_it_does_not_dissolve(catalog):
 
 
 def test_outside_the_table_the_nearest_row_is_named(catalog):
-    """Ammonium nitrate at 37 °C near its 25 °C solubility: the warning names the nearest tabulated
-    temperature instead of extrapolating."""
-    r = Recipe(temperature="37 degC", storage_temperature="37 degC").with_amount("NH4NO3", "24 mol/kg")
+    """Sodium sulfate is tabulated from 20 °C up (CRC 98th ed., solubility at various temperatures: 16.13 mass %
+    at 20 °C, 1.35 mol/kg; no row below): 1.5 mol/kg at 10 °C is checked against the 20 °C row, named as the
+    nearest tabulated temperature, instead of extrapolating."""
+    r = Recipe(temperature="10 degC", storage_temperature="10 degC").with_amount("sodium_sulfate_anhydrous",
+                                                                                "1.5 mol/kg")
     (w,) = _solubility_warnings(catalog, r)
-    assert "nearest tabulated temperature" in w.message and "25 °C" in w.message
+    assert "nearest tabulated temperature" in w.message and "20 °C" in w.message
+    assert "will not all dissolve" in w.message
 
 
 def test_the_check_keeps_its_place_and_code():
