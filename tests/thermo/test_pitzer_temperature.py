@@ -153,7 +153,8 @@ def test_25c_values_unchanged(params, params_25c_only):
 
 
 def test_ammonium_pairs_stay_at_25c_values(params):
-    """No published temperature terms were found for the ammonium pairs: they carry none (and the evaluation
-    warns when they are used away from 25 °C)."""
-    for anion in ("NO3[-]", "Cl[-]", "SO4[2-]", "HPO4[2-]"):
+    """No usable published temperature terms were found for the other ammonium pairs: they carry none (and the
+    evaluation warns when they are used away from 25 °C). NH4Cl's terms (Silvester & Pitzer 1978) are checked in
+    tests/thermo/test_pitzer_temperature_ammonium.py."""
+    for anion in ("NO3[-]", "SO4[2-]", "HPO4[2-]"):
         assert params.binary[("NH4[+]", anion)].temperature_terms == ()
