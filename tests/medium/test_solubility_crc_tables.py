@@ -86,3 +86,37 @@ def test_a_stock_kept_at_4_C_is_checked_there(catalog, cid, stock, safe, at_4c):
     (w,) = _solubility_warnings(catalog, Recipe().with_amount(cid, stock))
     assert "4 °C" in w and "crystallises" in w and "states no storage" in w
     assert _solubility_warnings(catalog, Recipe().with_amount(cid, safe)) == []
+
+
+# ---- the osmotica -------------------------------------------------------------------------------------
+
+@pytest.mark.parametrize("t_c, g, source", [
+    (0.0, 181.9, "Solubility table"),    # Wikipedia 'Solubility table' (2019 copy): sucrose at 0 °C
+    (10.0, 190.6, "Solubility table"),   # same table at 10 °C
+    (40.0, 235.6, "Solubility table"),   # same table at 40 °C
+    (20.0, 203.9, "Mohos"),              # Mohos 2010, Table A2.2 (Antokolskaya et al. 1964)
+])
+def test_sucrose_rows_are_read(catalog, t_c, g, source):
+    """The recalled sucrose rows (179.2 g at 0 °C, 238.1 g at 40 °C) are replaced by read ones."""
+    c = catalog.components["sucrose"]
+    sat = c.saturation_at(T0 + t_c)
+    assert sat.at_asked and not sat.from_memory
+    assert sat.g_per_100g_water == pytest.approx(g, rel=1e-9)
+    (row,) = [p for p in c.solubility_table if abs(p.temperature_k - T0 - t_c) < 1e-9]
+    assert source in row.source  # the row names its source (the catalog writes the key's text out)
+
+
+def test_sucrose_at_4_C_is_now_a_read_figure(catalog):
+    """Sucrose at 4 °C: linear between the read 0 and 10 °C rows (181.9 and 190.6 g, Wikipedia table), 185.38 g,
+    no longer through a recalled row (before: 184.14 g between a recalled 0 °C row and the 20 °C row)."""
+    sat = catalog.components["sucrose"].saturation_at(T0 + 4)
+    assert sat.g_per_100g_water == pytest.approx(181.9 + 0.4 * (190.6 - 181.9), rel=1e-12)
+    assert not sat.from_memory
+
+
+def test_mannitol_20_C_row_agrees_with_the_reagent_monograph(catalog):
+    """ACS Reagent Chemicals, monograph 'Mannitol': 18 g in 100 mL water at 20 °C; the catalog's 20 °C row (Merck
+    Index, 1 g in 5.5 mL) is the same to that figure's precision (0.5 g)."""
+    sat = catalog.components["mannitol"].saturation_at(T0 + 20)
+    assert not sat.from_memory
+    assert abs(sat.g_per_100g_water - 18.0) <= 0.5
