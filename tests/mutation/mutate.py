@@ -48,6 +48,8 @@ SUBSETS = {
                "tests/medium/test_zsr_independent.py", "tests/medium/test_engine_published.py"],
     "neutral": ["tests/thermo/test_parameter_sources.py", "tests/medium/test_zsr_independent.py",
                 "tests/thermo/test_neutral.py", "tests/medium/test_engine_published.py"],
+    "pitzer_temperature": ["tests/thermo/test_parameter_sources_temperature.py",
+                           "tests/thermo/test_pitzer_temperature_ammonium.py", "tests/thermo/test_pitzer_temperature.py"],
     "peg": ["tests/thermo/test_peg.py"],
     "constants": ["tests/medium/test_figures.py", "tests/thermo/test_water.py", "tests/thermo/test_neutral.py",
                   "tests/thermo/test_pitzer.py"],
@@ -136,6 +138,17 @@ def mutants() -> list[Mutant]:
     }
     for pair, (c, a, vals) in rows.items():
         out += _pitzer_row(pair, c, a, vals)
+    # --- first temperature derivatives (Pitzer 1991 Tables 12-13; Silvester & Pitzer 1978 Table I), stored as A3 ---
+    for pair, (c, a, vals) in {
+        "NH4Cl": ("NH4[+]", "Cl[-]", {"beta0": "0.779e-04", "beta1": "12.58e-04", "cphi": "2.1e-05"}),
+        "KNO3": ("K[+]", "NO3[-]", {"beta1": "6.45e-03", "cphi": "3.97e-04"}),
+        "KH2PO4": ("K[+]", "H2PO4[-]", {"beta0": "6.045e-04"}),
+    }.items():
+        for key, num in vals.items():
+            for how in PS:
+                out.append(Mutant(f"pitzer temperature {pair} d{key}/dT {how}", "catalog/pitzer.yaml",
+                                  f'cation: "{c}", anion: "{a}"', num, how, "pitzer_temperature",
+                                  key=f"{key}: [0, 0, "))
     # --- Debye-Hueckel: A_phi's leading coefficient (Moller 1988) and b (Pitzer 1991) ---
     out.append(Mutant("pitzer A_phi a0 +5%", "catalog/pitzer.yaml", "coefficients: [0.336901532", "0.336901532",
                       "+5%", "pitzer"))
