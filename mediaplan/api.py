@@ -428,6 +428,39 @@ def fit_counts(counts: str | os.PathLike | Plan | Counts | Iterable[Sequence[flo
     return fit_with_levels(counts, link, cat, levels=levels, temperature_k=T)
 
 
+# ---- sweeps ----------------------------------------------------------------------------------------
+def sweep(medium: Recipe | Plan, amounts: Mapping[str, Sequence[str] | str], *, grid: bool = True,
+          figures: Sequence[str] = ("osmolality_mosmol_per_kg", "water_activity", "osmotic_potential_mpa"),
+          catalog: Catalog | None = None, progress=None) -> dict:
+    """Many variants of a medium at once: some components' amounts varied, the figures of every variant.
+
+    Parameters
+    ----------
+    medium : a Recipe, or a Plan (its recipe); its temperature is the sweep's
+    amounts : component -> its amounts as text, e.g. ``{"mannitol": ["0 g/L", "20 g/L", "40 g/L"],
+        "sucrose": ["0 g/L", "30 g/L"]}``; an amount replaces the medium's own of that component
+    grid : every combination of the amounts (the first component varying slowest: 3 x 2 = 6 rows above),
+        or False: given rows, the lists read side by side (all of one length)
+    figures : which of ``osmolality_mosmol_per_kg`` [mOsm/kg], ``water_activity`` [-] and
+        ``osmotic_potential_mpa`` [MPa] to return
+    catalog : see the module's notes
+    progress : called as ``progress(rows_done, rows_in_all)`` after each chunk of rows, or None
+
+    Returns
+    -------
+    dict : figure name -> a 1-D numpy array, one value per row, as :func:`evaluate` gives each (to 1e-12);
+        rows are solved in chunks, so 10^6 variants need no more memory than their answers and one chunk
+
+    Raises MediaplanError as :func:`evaluate` does when the most concentrated corner of the sweep (every varied
+    component at its largest amount) holds more than a medium can, or a row leaves no water.
+    """
+    from mediaplan.medium.grid import sweep_recipe
+
+    cat = _catalog(catalog)
+    _, recipe = _plan_and_recipe(medium)
+    return sweep_recipe(recipe, cat, amounts, full=grid, figures=tuple(figures), progress=progress)
+
+
 # ---- preparation -----------------------------------------------------------------------------------
 def _pairs(items: Mapping[str, str] | Sequence[str] | None, what: str) -> dict[str, str]:
     from mediaplan.tasks.prep import parse_pairs
