@@ -17,6 +17,7 @@ from textual.app import App
 from textual.message import Message
 from textual.theme import Theme
 from textual.timer import Timer
+from textual.worker import Worker, WorkerState
 
 from mediaplan.medium.catalog import Catalog
 from mediaplan.medium.errors import ConflictError, MediaplanError
@@ -29,7 +30,8 @@ from mediaplan.tui.words import in_app_words
 
 #: seconds of quiet after an edit before unsaved work is written to the recovery folder
 AUTOSAVE_DELAY = 2.0
-#: set to 1 to exit right after the first painted screen (start-up benchmark)
+#: set to 1 to exit right after the first painted screen, or to "figures" to exit once the first screen with
+#: the plan's figures is painted (start-up benchmark)
 EXIT_AFTER_PAINT = "MEDIAPLAN_TUI_EXIT_AFTER_PAINT"
 
 THEME = Theme(
@@ -55,6 +57,9 @@ class MediaplanApp(App):
     #: warm the solver, series, fit and sheet after the first paint (tests of other things turn it off)
     WARM_START = True
 
+    class EngineReady(Message):
+        """The warm start has imported the engine: the main screen can show the plan's figures."""
+
     @dataclass
     class Warmed(Message):
         """The warm start is done: seconds per step [s] (steps that failed are left out)."""
@@ -63,11 +68,19 @@ class MediaplanApp(App):
 
     def __init__(self, session: Session, *, offer_recovery: bool = True, start_dir: Path | None = None) -> None:
         super().__init__()
+        # the app's theme from the start, before any CSS is parsed: setting it once running re-parses every
+        # stylesheet and re-styles every widget (a few hundredths of a second of the start)
+        self.register_theme(THEME)
+        self.set_reactive(MediaplanApp.theme, THEME.name)
+        self.stylesheet.set_variables(self.get_css_variables())
+        self.set_class(True, f"-theme-{THEME.name}", update=False)
         self.session = session
         self.offer_recovery = offer_recovery
         self.start_dir = start_dir or Path.cwd()
         self._autosave: Timer | None = None
         self.warmed: dict[str, float] | None = None
+        #: the warm start is importing the engine: the main screen shows "computing" until it is in
+        self.warming_engine = False
 
     @property
     def catalog(self) -> Catalog:
@@ -78,11 +91,15 @@ class MediaplanApp(App):
         return self.get_screen("main")  # type: ignore[return-value]
 
     def on_mount(self) -> None:
-        self.register_theme(THEME)
-        self.theme = THEME.name
+        from mediaplan.tui.warm import engine_ready
+
+        # the first screen is painted without the engine (numpy and the models take a few tenths of a second
+        # to import); the warm start's first step imports it and the figures follow
+        self.warming_engine = self.WARM_START and not engine_ready()
         self.install_screen(MainScreen(), name="main")
         self.push_screen("main")
-        if os.environ.get(EXIT_AFTER_PAINT) == "1":
+        exit_after = os.environ.get(EXIT_AFTER_PAINT)
+        if exit_after == "1" or (exit_after == "figures" and not self.warming_engine):
             self.call_after_refresh(self.exit)
             return
         if self.session.plan.path is not None:
@@ -98,7 +115,28 @@ class MediaplanApp(App):
         """Import and compile what the first solve, series, fit and sheet need (a thin worker)."""
         from mediaplan.tui.warm import warm_up
 
-        self.post_message(self.Warmed(warm_up(self.session.recipe, self.catalog)))
+        def step_done(name: str) -> None:
+            if name == "engine":
+                self.post_message(self.EngineReady())
+
+        self.post_message(self.Warmed(warm_up(self.session.recipe, self.catalog, on_step=step_done)))
+
+    def on_worker_state_changed(self, event: Worker.StateChanged) -> None:
+        """A warm start that ended without reaching its engine step (it failed or was cancelled) must not
+        leave the screen computing: the screen then evaluates by itself."""
+        if event.worker.name == "warm start" and event.state in (WorkerState.ERROR, WorkerState.CANCELLED,
+                                                                 WorkerState.SUCCESS):
+            self.on_mediaplan_app_engine_ready(self.EngineReady())
+
+    def on_mediaplan_app_engine_ready(self, _event: EngineReady) -> None:
+        """The figures of the plan on screen, now that the engine is in."""
+        if not self.warming_engine:
+            return
+        self.warming_engine = False
+        if self.is_screen_installed("main") and self.main.is_mounted:
+            self.main.refresh_all()
+        if os.environ.get(EXIT_AFTER_PAINT) == "figures":
+            self.call_after_refresh(self.exit)
 
     def on_mediaplan_app_warmed(self, event: Warmed) -> None:
         self.warmed = event.took

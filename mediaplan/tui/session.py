@@ -13,18 +13,20 @@ import json
 import os
 from dataclasses import dataclass, replace
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from mediaplan.files import planfile
-from mediaplan.files.plan_tables import TargetRecord, cell_reference_of
 from mediaplan.files.planfile import Plan
 from mediaplan.medium.catalog import Catalog
 from mediaplan.medium.errors import MediaplanError
-from mediaplan.medium.evaluate import Evaluation, evaluate
 from mediaplan.medium.recipe import Recipe
-from mediaplan.tasks.cells import CellReference, cell_reference, cell_tolerance
-from mediaplan.tasks.plasmolysis.counts import SeriesRecord
-from mediaplan.tasks.projection import ProjectionRecord
 from mediaplan.tui.words import in_app_words
+
+if TYPE_CHECKING:  # the engine is imported on first use, after the first paint (mediaplan.tui.warm)
+    from mediaplan.files.plan_tables import TargetRecord
+    from mediaplan.medium.evaluate import Evaluation
+    from mediaplan.tasks.plasmolysis.counts import SeriesRecord
+    from mediaplan.tasks.projection import ProjectionRecord
 
 #: plan-file table that marked a recovery file in earlier versions (stripped again when it is restored)
 RECOVERY_TABLE = "recovery"
@@ -105,10 +107,15 @@ class Session:
 
     def cell_reference_mosmol(self, recipe: Recipe | None = None) -> float | None:
         """The plan's cell reference [mOsm/kg] (from [cells] osmolality or potential), or None."""
+        from mediaplan.tasks.cells import cell_reference
+
         return cell_reference(None, self.plan.cells, (recipe or self.recipe).temperature_k)
 
     def evaluate(self, recipe: Recipe | None = None) -> Outcome:
         """Evaluate the plan's recipe (or a tentative one); never raises."""
+        from mediaplan.medium.evaluate import evaluate
+        from mediaplan.tasks.cells import cell_tolerance
+
         recipe = recipe or self.recipe
         try:
             tol = cell_tolerance(None, self.plan.cells)
@@ -177,6 +184,8 @@ class Session:
         """Title, batch volume, temperature and the cells' reference (``""`` removes it; other [cells]
         fields such as the tolerance are kept); the plan's notes and storage temperature (``""``: not
         stated) when given. Raises AmountError for bad text."""
+        from mediaplan.tasks.cells import CellReference
+
         plan = self.plan
         reference = (plan.cells or CellReference()).with_reference(cells)
         settings = {"volume": volume, "temperature": temperature}
@@ -201,6 +210,9 @@ class Session:
         one reference, so a potential kept beside an older reference goes; the tolerance and other
         [cells] fields stay.
         """
+        from mediaplan.files.plan_tables import cell_reference_of
+        from mediaplan.tasks.cells import CellReference
+
         cells = self.plan.cells
         if fit is not None:
             fitted = cell_reference_of(fit, (today or datetime.date.today()).isoformat())

@@ -1,13 +1,20 @@
-"""Warm start: import and compile what the first solve, series, fit and preparation sheet need.
+"""Warm start: import and compile what the figures, the first solve, series, fit and preparation sheet need.
 
-The app runs :func:`warm_up` in a worker thread right after its first paint, so the user's first target,
-series design, fit or sheet does not wait for imports (the solver's root finder alone takes about a second
-to import) or for a medium model to be compiled. Plain Python; nothing here touches a widget.
+The app paints its first screen without the engine (numpy, the models: a few tenths of a second to
+import) and runs :func:`warm_up` in a worker thread right after that paint. Its first step imports the
+engine and evaluates the plan once (:data:`ENGINE_READY` is then set and the app fills in the figures);
+the later steps ready the user's first target, series design, fit or sheet, so none of them waits for
+imports or for a medium model to be compiled. Plain Python; nothing here touches a widget.
+
+The screen's thread never imports an engine module while this runs (it could wait on the import lock
+held by the worker): it asks :func:`engine_ready` and shows a "computing" state until then.
 """
 
 from __future__ import annotations
 
 import os
+import sys
+import threading
 import time
 from collections.abc import Callable
 
@@ -16,6 +23,38 @@ from mediaplan.medium.recipe import Recipe
 
 #: the osmoticum the target dialog and the series screen offer first
 FIRST_OSMOTICUM = "mannitol"
+
+
+#: the modules the main screen's figures need (the engine and the uncertainty budget)
+ENGINE_MODULES = ("mediaplan.medium.evaluate", "mediaplan.tasks.cells", "mediaplan.tasks.uncertainty")
+#: set once the engine modules are imported and a medium has been evaluated
+ENGINE_READY = threading.Event()
+
+
+def module_ready(name: str) -> bool:
+    """Is the module ``name`` imported completely (not half-way through an import in another thread)?"""
+    m = sys.modules.get(name)
+    spec = getattr(m, "__spec__", None)
+    return m is not None and not getattr(spec, "_initializing", False)
+
+
+def engine_ready() -> bool:
+    """Can the screen's thread evaluate a medium now without importing the engine?"""
+    if not ENGINE_READY.is_set() and all(module_ready(n) for n in ENGINE_MODULES):
+        ENGINE_READY.set()
+    return ENGINE_READY.is_set()
+
+
+def _engine(recipe: Recipe, catalog: Catalog) -> None:
+    from mediaplan.medium.evaluate import evaluate
+    from mediaplan.tasks.cells import cell_reference  # noqa: F401 - the session's figures use both
+    from mediaplan.tasks.uncertainty import budget
+
+    try:
+        ev = evaluate(recipe, catalog)
+        budget(recipe, catalog, evaluation=ev)
+    finally:  # a medium that cannot be evaluated still leaves the engine imported
+        ENGINE_READY.set()
 
 
 def _solve(recipe: Recipe, catalog: Catalog) -> None:
@@ -60,7 +99,7 @@ def _screens(recipe: Recipe, catalog: Catalog) -> None:
 
 
 STEPS: tuple[tuple[str, Callable[[Recipe, Catalog], None]], ...] = (
-    ("solve", _solve), ("series", _series), ("sheet", _sheet), ("screens", _screens),
+    ("engine", _engine), ("solve", _solve), ("series", _series), ("sheet", _sheet), ("screens", _screens),
 )
 
 
@@ -69,20 +108,14 @@ STEPS: tuple[tuple[str, Callable[[Recipe, Catalog], None]], ...] = (
 SWITCH_INTERVAL = 0.0005
 
 
-def warm_up(recipe: Recipe, catalog: Catalog) -> dict[str, float]:
+def warm_up(recipe: Recipe, catalog: Catalog, on_step: Callable[[str], None] | None = None) -> dict[str, float]:
     """Run each step once; returns the seconds each took [s] (a step that fails is left out: the user's own
-    action will meet the same problem and report it in words).
+    action will meet the same problem and report it in words). ``on_step(name)`` is called after each step
+    (from this thread), failed or not.
 
-    Meant for a worker thread: the thread asks the system for a low priority, and the GIL is handed over
-    more often until the steps are done.
+    Meant for a worker thread: the GIL is handed over more often until the steps are done, and after the
+    engine step (which the figures on screen wait for) the thread asks the system for a low priority.
     """
-    import sys
-    import threading
-
-    try:  # this thread only (Linux gives each thread its own priority)
-        os.setpriority(os.PRIO_PROCESS, threading.get_native_id(), 19)
-    except (AttributeError, OSError):
-        pass
     interval = sys.getswitchinterval()
     sys.setswitchinterval(min(interval, SWITCH_INTERVAL))
     took: dict[str, float] = {}
@@ -91,9 +124,20 @@ def warm_up(recipe: Recipe, catalog: Catalog) -> dict[str, float]:
             t0 = time.perf_counter()
             try:
                 step(recipe, catalog)
+                took[name] = time.perf_counter() - t0
             except Exception:  # noqa: BLE001 - warming must never disturb the session
-                continue
-            took[name] = time.perf_counter() - t0
+                pass
+            if on_step is not None:
+                on_step(name)
+            if name == "engine":
+                _lower_priority()
     finally:
         sys.setswitchinterval(interval)
     return took
+
+
+def _lower_priority() -> None:
+    try:  # this thread only (Linux gives each thread its own priority)
+        os.setpriority(os.PRIO_PROCESS, threading.get_native_id(), 19)
+    except (AttributeError, OSError):
+        pass

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 from textual import on
 from textual.app import ComposeResult
@@ -13,13 +14,15 @@ from textual.screen import Screen
 from textual.widgets import Static
 
 from mediaplan.medium.errors import MediaplanError
-from mediaplan.medium.evaluate import Evaluation
 from mediaplan.tui.actions import bindings
 from mediaplan.tui.session import Outcome
 from mediaplan.tui.widgets.keybar import KeyBar
 from mediaplan.tui.widgets.recipe_table import RecipeTable, fit_left
 from mediaplan.tui.widgets.relations import GroupChart, NotesPanel, RelationsPanel, comparison_text
 from mediaplan.tui.words import in_app_words
+
+if TYPE_CHECKING:  # the engine is imported after the first paint (mediaplan.tui.warm)
+    from mediaplan.medium.evaluate import Evaluation
 
 
 class MainScreen(Screen):
@@ -64,22 +67,58 @@ class MainScreen(Screen):
         self._topbar()
 
     # ---- showing the plan -----------------------------------------------------------------
+    def engine_ready(self) -> bool:
+        """Can this screen evaluate now without importing the engine? While the app's warm start is
+        importing it (the first moments after the first paint), the screen shows the recipe and a
+        "computing" state instead, and the app calls :meth:`refresh_all` again once the engine is in."""
+        from mediaplan.tui.warm import engine_ready
+
+        return engine_ready() or not getattr(self.app, "warming_engine", False)
+
+    @property
+    def pending(self) -> bool:
+        """The figures of the plan on screen are still being computed (the engine is being imported)."""
+        return self._pending
+
+    _pending = False
+
     def refresh_all(self, outcome: Outcome | None = None) -> Outcome:
         """Evaluate the plan and re-render every figure; returns what was shown."""
+        if outcome is None and not self.engine_ready():
+            return self._show_pending()
+        self._pending = False
         outcome = outcome or self.session.evaluate()
         ev = self.committed = outcome.evaluation
         self.query_one(RecipeTable).show(ev, self.session.removed_base_lines())
         self.query_one(RelationsPanel).show(ev, outcome.error, budget=outcome.budget)
         self.query_one(NotesPanel).show(ev, self.session.plan.notes)
         self.query_one(GroupChart).show(ev)
+        self._after_show()
+        self.post_message(self.Evaluated(outcome))
+        return outcome
+
+    def _show_pending(self) -> Outcome:
+        """The recipe's lines with their amounts, and "computing" where the figures go (no engine yet)."""
+        self._pending = True
+        self.committed = None
+        try:
+            lines = self.session.recipe.lines(self.session.catalog)
+        except MediaplanError:
+            lines = []
+        self.query_one(RecipeTable).show(None, self.session.removed_base_lines(), pending=lines)
+        self.query_one(RelationsPanel).show(None, pending=True)
+        self.query_one(NotesPanel).show(None, self.session.plan.notes)
+        self.query_one(GroupChart).show(None, pending=True)
+        self._after_show()
+        return Outcome(None)
+
+    def _after_show(self) -> None:
         self._topbar()
         self._detail()
         self._refresh_bindings_if_changed()
         self._relayout_if_reshaped()
-        self.post_message(self.Evaluated(outcome))
-        return outcome
 
-    _shape: tuple = ()
+    _shape: tuple | None = None
 
     def _relayout_if_reshaped(self) -> None:
         """When the medium gains or loses components (a base applied, a plan opened), lay the whole screen
@@ -87,8 +126,10 @@ class MainScreen(Screen):
         ev = self.committed
         shape = (tuple(c.id for c in ev.components) if ev else (), self.query_one(NotesPanel).plain.count("\n"))
         if shape != self._shape:
+            first = self._shape is None  # the screen's first layout is still to come
             self._shape = shape
-            self.call_after_refresh(self.refresh, layout=True)
+            if not first:
+                self.call_after_refresh(self.refresh, layout=True)
 
     def _topbar(self) -> None:
         """Name, file and title; the unsaved mark comes before the title so a narrow screen never cuts it."""
@@ -128,6 +169,8 @@ class MainScreen(Screen):
             return Content.assemble((line.name, "bold"), f" · removed from the base ({line.amount} there)",
                                     " · x restores it")
         c = ev.component(cid) if ev and cid else None
+        if c is None and self._pending:
+            return Content.styled("computing the figures…", "dim italic")
         if c is None:
             if ev and ev.components:
                 return Content("")
@@ -144,6 +187,8 @@ class MainScreen(Screen):
         if text is None:
             self.refresh_all()
             return ""
+        if not self.engine_ready():
+            return "computing the figures…"
         try:
             recipe = self.session.recipe.with_amount(component_id, text)
         except MediaplanError as exc:

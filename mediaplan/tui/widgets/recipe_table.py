@@ -9,7 +9,7 @@ microseconds instead of laying out Rich renderables cell by cell.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import ClassVar, NamedTuple
+from typing import TYPE_CHECKING, ClassVar, NamedTuple
 
 from rich.cells import cell_len, set_cell_size
 from rich.segment import Segment
@@ -21,8 +21,11 @@ from textual.message import Message
 from textual.scroll_view import ScrollView
 from textual.strip import Strip
 
-from mediaplan.medium.evaluate import ComponentResult, Evaluation
 from mediaplan.tui.session import RemovedLine
+
+if TYPE_CHECKING:  # the engine is imported after the first paint (mediaplan.tui.warm)
+    from mediaplan.medium.evaluate import ComponentResult, Evaluation
+    from mediaplan.medium.recipe import Line
 
 #: column keys and headings
 COLUMNS = (("name", "component"), ("amount", "amount"), ("molality", "mmol/kg"), ("share", "share"))
@@ -88,6 +91,21 @@ def row_text(c: ComponentResult, name_width: int = 30, *, compact: bool = False)
         return RowText(fit_left(mark + c.name, name_width), amount, share, "", c.origin != "base")
     numbers = fit_right(" " + molality_text(c.molality_mmol_per_kg), FIXED_WIDTHS["molality"]) + share
     return RowText(fit_left(mark + c.name, name_width), amount, numbers, share_bar(c.share), c.origin != "base")
+
+
+#: what the share column shows while the figures are being computed
+PENDING_MARK = "…"
+
+
+def pending_row_text(line: Line, name_width: int = 30, *, compact: bool = False) -> RowText:
+    """A recipe line before its figures are computed: its name and amount, ``…`` for the figures."""
+    widths = COMPACT_WIDTHS if compact else FIXED_WIDTHS
+    rest = sum(widths.values()) - widths["amount"]
+    mark = _ORIGIN_MARK.get(line.origin, " ") + " "
+    numbers = fit_right(PENDING_MARK + " ", rest - (0 if compact else BAR_WIDTH))
+    return RowText(fit_left(mark + line.component.name, name_width),
+                   fit_right(" " + line.amount.text, widths["amount"]), numbers,
+                   "" if compact else " " * BAR_WIDTH, line.origin != "base")
 
 
 def removed_row_text(line: RemovedLine, name_width: int = 30, *, compact: bool = False) -> RowText:
@@ -194,6 +212,7 @@ class RecipeTable(ScrollView, can_focus=True):
         self._ids: list[str] = []
         self._rows: list[RowText] = []
         self._evaluation: Evaluation | None = None
+        self._pending: list[Line] = []
         self._removed: list[RemovedLine] = []
         self.cursor_row = 0
         self.name_width = 30
@@ -211,15 +230,21 @@ class RecipeTable(ScrollView, can_focus=True):
             return self._ids[self.cursor_row]
         return None
 
-    def show(self, ev: Evaluation | None, removed: list[RemovedLine] | None = None) -> None:
+    def show(self, ev: Evaluation | None, removed: list[RemovedLine] | None = None, *,
+             pending: list[Line] | None = None) -> None:
         """Show an evaluation (and the base lines the plan removed); only rows whose text changed are
-        repainted."""
+        repainted. Without an evaluation, ``pending`` lines (the recipe's, while its figures are being
+        computed) are shown with their amounts and no figures."""
         self._evaluation = ev
+        self._pending = list(pending or []) if ev is None else []
         if removed is not None:
             self._removed = list(removed)
         comps = ev.components if ev else []
         ids = [c.id for c in comps]
         rows = [row_text(c, self.name_width, compact=self.compact) for c in comps]
+        if self._pending:
+            ids = [ln.component.id for ln in self._pending]
+            rows = [pending_row_text(ln, self.name_width, compact=self.compact) for ln in self._pending]
         for line in self._removed:
             at = ids.index(line.after) + 1 if line.after in ids else 0
             ids.insert(at, line.id)
@@ -284,7 +309,7 @@ class RecipeTable(ScrollView, can_focus=True):
         if (width, compact) != (self.name_width, self.compact):
             self.name_width, self.compact = width, compact
             self._ids = []  # re-cut every name at the new width
-            self.show(self._evaluation)
+            self.show(self._evaluation, pending=self._pending)
         self._scroll_to_cursor()
 
     # ---- keys and mouse ---------------------------------------------------------------------

@@ -6,14 +6,20 @@ Each widget formats an Evaluation it is given; none computes anything.
 from __future__ import annotations
 
 import re
+from typing import TYPE_CHECKING
 
 from rich.console import Group
 from rich.text import Text
 from textual.content import Content
 from textual.widgets import Static
 
-from mediaplan.medium.evaluate import Evaluation
 from mediaplan.tui.widgets.recipe_table import fit_left, fit_right, share_bar
+
+if TYPE_CHECKING:  # the engine is imported after the first paint (mediaplan.tui.warm)
+    from mediaplan.medium.evaluate import Evaluation
+
+#: what the panel and the chart say while the figures of a plan just opened are being computed
+COMPUTING = "computing the figures…"
 
 #: turgor of walled cells in a few words, for a narrow panel (the full sentence is in the evaluation)
 _TURGOR_SHORT = {"isotonic": "turgor stays as it is", "hypotonic": "turgor rises (water enters)",
@@ -98,14 +104,18 @@ class RelationsPanel(Static):
         self.budget = None
         self.error: str | None = None
         self.preview = False
+        #: the figures are being computed (the app's first seconds): say so instead of "No figures"
+        self.pending = False
         self._shape: tuple = ()
         #: display names of the base formulations (id -> name), set by the screen from the catalog
         self.base_names: dict[str, str] = {}
 
     def show(self, ev: Evaluation | None, error: str | None = None, *, preview: bool = False,
-             budget=None) -> None:
-        """Show an evaluation (``budget``: its uncertainty budget, shown as the 95 % half-widths)."""
+             budget=None, pending: bool = False) -> None:
+        """Show an evaluation (``budget``: its uncertainty budget, shown as the 95 % half-widths);
+        ``pending``: no evaluation yet, its figures are being computed."""
         self.evaluation, self.error, self.preview, self.budget = ev, error, preview, budget
+        self.pending = pending and ev is None and error is None
         if preview != self.has_class("-preview"):
             self.set_class(preview, "-preview")
         if (error is not None) != self.has_class("-error"):
@@ -135,6 +145,8 @@ class RelationsPanel(Static):
 
     def _figures_content(self, width: int) -> Content:
         ev = self.evaluation
+        if ev is None and self.pending:
+            return Content.styled(COMPUTING, "dim italic")
         if ev is None:
             return Content.styled("No figures: " + (self.error or "nothing to evaluate yet"), "bold")
         f = figures(ev)
@@ -372,7 +384,11 @@ class GroupChart(Static):
         super().__init__("", **kw)
         self.groups: dict[str, float] = {}
 
-    def show(self, ev: Evaluation | None) -> None:
+    pending = False
+
+    def show(self, ev: Evaluation | None, *, pending: bool = False) -> None:
+        """Show an evaluation's groups (``pending``: none yet, its figures are being computed)."""
+        self.pending = pending and ev is None
         rows_before = len(chart_rows(self.groups)) if self.groups else 0
         self.groups = app_groups(ev) if ev else {}
         rows_now = len(chart_rows(self.groups)) if self.groups else 0
@@ -383,7 +399,7 @@ class GroupChart(Static):
 
     def _chart_content(self) -> Content:
         if not self.groups:
-            return Content.styled("no solutes yet", "dim")
+            return Content.styled(COMPUTING if self.pending else "no solutes yet", "dim")
         total = sum(self.groups.values()) or 1.0
         rows = chart_rows(self.groups)
         label_w = max(len(k) for k, _ in rows)
