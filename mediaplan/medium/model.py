@@ -556,3 +556,179 @@ def compiled(catalog: Catalog, components: Sequence[Component], T: float) -> Med
     else:
         _MODEL_CACHE.move_to_end(key)
     return model
+
+
+class ZSRTargets:
+    """The ZSR residual of :class:`ZSRResidual` for many rows at once, each row at its own known osmolality:
+    the batched question of the solver's range and of the series designer ("how much of the osmoticum
+    brings each row to its y?").
+
+    ``y`` (K,) [osmol/kg]. Row r's residual Σ_g m_g / m_g°(y_r) − 1 of molalities (k, n_comp) [mol/kg] is
+    :meth:`__call__` (``rows``: which of the K targets each given row belongs to). The binary molalities of
+    the neutral solutes and PEG at each y are computed once, in one call (:func:`mediaplan.thermo.neutral.
+    stack`); the electrolyte group's φ at y and its ion proportions once per row, again only when the
+    proportions change (they do not along a line that adds a neutral osmoticum). Same equation as
+    :class:`ZSRResidual`; the two agree to rounding.
+    """
+
+    def __init__(self, model: MediumModel, y) -> None:
+        self.model = model
+        self.y = np.atleast_1d(np.asarray(y, dtype=float))
+        K = self.y.size
+        if model._neutral_idx:
+            x = _neutral.molality_at_osmolality(self.y[:, None], _neutral.stack(model._neutral_params))
+            self.inv_neutral = 1.0 / np.broadcast_to(x, (K, len(model._neutral_idx)))
+        if model._peg_idx:
+            c = np.column_stack([_peg.peg_concentration_at_osmolality(self.y, model.T, g)
+                                 for g in model._peg_grades])
+            self.inv_peg = np.array(model._peg_grades, dtype=float) / 1000.0 / c
+        self._q = np.full((K, len(model._ion_idx)), np.nan)
+        self._phi = np.ones(K)
+
+    def _phi_star(self, q: np.ndarray, rows: np.ndarray) -> np.ndarray:
+        """φ of the electrolyte group alone at osmolality y of each row, at ion proportions q (k, n_ions)."""
+        known = self._q[rows]
+        stale = ~np.all(np.abs(q - known) <= 1e-15 + 1e-12 * np.abs(known), axis=1)
+        if np.any(stale):
+            r, qs = rows[stale], q[stale]
+            self._q[r], self._phi[r] = qs, self.y[r] / self._ion_total(self.y[r], qs)
+        return self._phi[rows]
+
+    def _ion_total(self, y: np.ndarray, q: np.ndarray) -> np.ndarray:
+        """Total ion molality t [mol/kg] with t·φ(t·q) = y [osmol/kg] for each row (q: proportions): secant
+        steps on h(t) = t·φ(t·q) − y from t = y and the fixed-point step y/φ(y·q), to 1e-14 of t. φ of the
+        scaled composition from one full Pitzer pass (:meth:`~mediaplan.thermo.pitzer.PitzerSystem.scaled`)."""
+        pitzer, T = self.model._pitzer, self.model.T
+        if y.size == 1:  # one row: plain floats
+            phi = pitzer.scaled(q[0], T)
+            yy = float(y[0])
+            t0 = yy
+            h0 = t0 * float(phi(t0)) - yy
+            t1 = yy * t0 / (h0 + yy)
+            for _ in range(60):
+                if abs(t1 - t0) <= 1e-14 * abs(t1):
+                    break
+                h1 = t1 * float(phi(t1)) - yy
+                if h1 == h0:
+                    break
+                t0, h0, t1 = t1, h1, t1 - h1 * (t1 - t0) / (h1 - h0)
+            return np.array([t1])
+        phi = pitzer.scaled(q, T)
+        t0 = y.copy()
+        h0 = t0 * phi(t0) - y
+        t1 = y * t0 / (h0 + y)  # the fixed-point step y / φ(t0)
+        open_ = np.abs(t1 - t0) > 1e-14 * t1
+        for _ in range(60):
+            if not open_.any():
+                break
+            h1 = t1 * phi(t1) - y  # every row (one scaled call); the closed ones keep their t
+            with np.errstate(divide="ignore", invalid="ignore"):
+                step = np.where(open_, h1 * (t1 - t0) / (h1 - h0), 0.0)
+            step = np.where(np.isfinite(step), step, 0.0)
+            t0, h0 = np.where(open_, t1, t0), np.where(open_, h1, h0)
+            t1 = t1 - step
+            open_ &= np.abs(step) > 1e-14 * np.abs(t1)
+        return t1
+
+    def __call__(self, molality: np.ndarray, rows: np.ndarray | None = None) -> np.ndarray:
+        """The residual [-] of each row of molalities (k, n_comp) [mol/kg]; ``rows`` (k,): the target of each
+        (all K in order by default)."""
+        m = self.model
+        rows = np.arange(self.y.size) if rows is None else np.asarray(rows)
+        sp = np.atleast_2d(molality) @ m._S
+        r = np.full(rows.size, -1.0)
+        if m._neutral_idx:
+            r += np.einsum("ij,ij->i", sp[:, m._neutral_idx], self.inv_neutral[rows])
+        if m._peg_idx:
+            r += np.einsum("ij,ij->i", sp[:, m._peg_idx], self.inv_peg[rows])
+        if m._ion_idx:
+            ions = sp[:, m._ion_idx]
+            tot = ions.sum(axis=1)
+            has = tot > 0
+            if np.any(has):
+                r[has] += tot[has] * self._phi_star(ions[has] / tot[has, None], rows[has]) / self.y[rows[has]]
+        return r
+
+
+    def along(self, n0: np.ndarray, dn: np.ndarray, b0: np.ndarray, db: np.ndarray, A: float, G: float,
+              C: float, D: float) -> tuple[LineResidual, bool]:
+        """Each row's residual along a line of molalities (n0 + x dn)(C + x D)/(A − x G) + b0 + x db (each
+        (n_comp,)), with the electrolyte group's φ held at its value at x = 0: a :class:`LineResidual`, and
+        whether it is the residual itself (True: the ion proportions stay the same along the line — a
+        neutral osmoticum, a dilution — so φ does not change) or only a close approximation (False)."""
+        m = self.model
+        K = self.y.size
+        vec = np.stack([n0, dn, b0, db]) @ m._S  # (4, n_species)
+        L = np.zeros((K, 4))
+        if m._neutral_idx:
+            L += self.inv_neutral @ vec[:, m._neutral_idx].T
+        if m._peg_idx:
+            L += self.inv_peg @ vec[:, m._peg_idx].T
+        same = True
+        if m._ion_idx:
+            ions = vec[:, m._ion_idx]
+            tot = ions.sum(axis=1)
+            start = ions[0] * (C / A) + ions[2]  # the ions at x = 0 (molality up to a common factor)
+            if start.sum() > 0:
+                q = start / start.sum()
+                phi = self._phi_star(np.tile(q, (K, 1)), np.arange(K))
+                L += (phi / self.y)[:, None] * tot[None, :]
+                for j in range(4):
+                    if tot[j] > 0:
+                        d = np.abs(ions[j] / tot[j] - q)
+                        same = same and bool(np.all(d <= 1e-15 + 1e-12 * np.abs(q)))
+            else:
+                same = not np.any(tot > 0)
+        return LineResidual(*L.T, A, G, C, D), same
+
+
+class LineResidual:
+    """The ZSR residual along a line with the electrolytes' φ held (:meth:`ZSRTargets.along`): with
+    P, Q, R, T the ZSR sums of the line's four parts (K,) [-],
+
+        r(x) = (P + x Q)(C + x D)/(A − x G) + R + x T − 1,
+
+    a function of plain numbers (no model call). ``root()`` solves r = 0 in closed form (a quadratic)."""
+
+    def __init__(self, P, Q, R, T, A: float, G: float, C: float, D: float) -> None:
+        self.P, self.Q, self.R, self.T = P, Q, R, T
+        self.A, self.G, self.C, self.D = A, G, C, D
+
+    def __call__(self, x: np.ndarray, rows: np.ndarray) -> np.ndarray:
+        """r at x (k,) for the given rows (k,) [-]."""
+        x = np.asarray(x, dtype=float)
+        return ((self.P[rows] + x * self.Q[rows]) * (self.C + x * self.D) / (self.A - x * self.G)
+                + self.R[rows] + x * self.T[rows] - 1.0)
+
+    def root(self) -> np.ndarray:
+        """x (K,) with r(x) = 0: the root of (P + xQ)(C + xD) + (R − 1 + xT)(A − xG) = 0 that the linear
+        case continues (NaN where none lies at or above 0)."""
+        P, Q, R, T, A, G, C, D = self.P, self.Q, self.R, self.T, self.A, self.G, self.C, self.D
+        a2 = Q * D - T * G
+        a1 = P * D + Q * C + T * A - (R - 1.0) * G
+        a0 = P * C + (R - 1.0) * A
+        with np.errstate(divide="ignore", invalid="ignore"):
+            x = 2.0 * (-a0) / (a1 + np.sqrt(a1 * a1 - 4.0 * a2 * a0))
+        return np.where(np.isfinite(x) & (x >= 0), x, np.nan)
+
+
+def sweep_residuals(sweep: Sweep, y) -> Callable[[np.ndarray, np.ndarray], np.ndarray]:
+    """f(x, rows) = the ZSR residual of the sweep at x (k,) against osmolality y[rows] [osmol/kg] (y: (K,)):
+    zero where the medium at x has osmolality y, increasing in x when x adds solutes. The batched
+    :meth:`Sweep.residual_at`, for :func:`mediaplan.medium.roots.bracketed_roots`."""
+    eq = ZSRTargets(sweep.model, y)
+
+    def f(x: np.ndarray, rows: np.ndarray) -> np.ndarray:
+        return eq(sweep.molality(np.atleast_1d(np.asarray(x, dtype=float))), rows)
+
+    f.targets = eq  # type: ignore[attr-defined]
+    return f
+
+
+def sweep_line(sweep: Sweep, f) -> tuple[LineResidual, bool]:
+    """The residual ``f = sweep_residuals(sweep, y)`` as a :class:`LineResidual` (:meth:`ZSRTargets.along`
+    with the sweep's volume balance, :meth:`MediumModel.water`), and whether it is exact (the ion proportions
+    stay the same along the sweep) or a first approximation."""
+    m, v = sweep.model, sweep.model.v
+    return f.targets.along(sweep.n0, sweep.dn, sweep.b0, sweep.db, 1.0 - float(sweep.n0 @ v),
+                           float(sweep.dn @ v), 1.0 / m.rho_w + float(sweep.b0 @ v), float(sweep.db @ v))

@@ -9,7 +9,9 @@ residual, the molality of a substance on its way to saturation. Three steps, eac
     drawn back where the model has no finite answer (past its range);
 :func:`increasing_roots`
     many targets at once: one batched call on a grid brackets them all, a second refines each bracket
-    by linear interpolation, then :func:`increasing_root` finishes each;
+    by linear interpolation, then :func:`bracketed_roots` finishes them together;
+:func:`bracketed_roots`
+    many bracketed roots at once, each of its own function (a row of a batch), one batched call per step;
 :func:`increasing_root`
     one bracketed root by Brent's method (``scipy.optimize.brentq``), with the function values at the
     ends, when already known, served without a new model call.
@@ -103,8 +105,8 @@ def increasing_roots(f_batch: Callable[[np.ndarray], np.ndarray], targets: np.nd
 
     One batched call on a grid (denser near ``lo``) brackets every target; a second batched call
     evaluates the linear interpolation inside each bracket, which tightens it; :func:`increasing_root`
-    then refines each root, served the values already computed at its ends (a model call costs about
-    the same for one row as for fifty). Grid points without a finite value (past the model's range) are
+    then refines all roots together with :func:`bracketed_roots` (one batched call per step for the rows
+    still open: a model call costs about the same for one row as for fifty). Grid points without a finite value (past the model's range) are
     left out, and so is the grid beyond the first point where the function stops increasing.
 
     Parameters
@@ -113,7 +115,7 @@ def increasing_roots(f_batch: Callable[[np.ndarray], np.ndarray], targets: np.nd
     targets : (K,) values to reach
     lo, hi : the interval searched [same unit as x]
     what, hint : words for the error: "{what} {i} cannot be reached", and what to do about it
-    xtol, rtol, x_floor : tolerances of :func:`increasing_root`
+    xtol, rtol, x_floor : tolerances of :func:`increasing_root` (the same bound on each root's error)
 
     Raises
     ------
@@ -137,13 +139,198 @@ def increasing_roots(f_batch: Callable[[np.ndarray], np.ndarray], targets: np.nd
     fa, fc = vals[j - 1], vals[j]
     guess = a + (targets - fa) * (c - a) / (fc - fa)
     fg = f_batch(guess)
-    out = np.empty(targets.size)
-    for i, t in enumerate(targets):
-        if fg[i] == t:
-            out[i] = guess[i]
-            continue
-        lo_i, hi_i = (guess[i], c[i]) if fg[i] < t else (a[i], guess[i])
-        flo, fhi = (fg[i], fc[i]) if fg[i] < t else (fa[i], fg[i])
-        out[i] = increasing_root(lambda x, t=t: float(f_batch(np.array([x]))[0]) - t, lo_i, hi_i,
-                                 f_lo=flo - t, f_hi=fhi - t, xtol=xtol, rtol=rtol, x_floor=x_floor)
+    below = fg < targets
+    lo_b, hi_b = np.where(below, guess, a), np.where(below, c, guess)
+    flo, fhi = np.where(below, fg, fa) - targets, np.where(below, fc, fg) - targets
+
+    def f_rows(x: np.ndarray, rows: np.ndarray) -> np.ndarray:
+        return f_batch(x) - targets[rows]
+
+    out = bracketed_roots(f_rows, lo_b, hi_b, flo, fhi, xtol=xtol, rtol=rtol, x_floor=x_floor)
+    out[fg == targets] = guess[fg == targets]
     return out
+
+
+#: the most steps :func:`bracketed_roots` takes (it needs 4 to 8 on the smooth functions of this package)
+MAX_STEPS = 100
+
+
+def bracketed_roots(f: Callable[[np.ndarray, np.ndarray], np.ndarray], lo, hi, f_lo=None, f_hi=None, *,
+                    xtol: float = XTOL, rtol: float = RTOL, x_floor: float = 1e-300, first=None,
+                    window: float = 0.0, counter: list | None = None) -> np.ndarray:
+    """Roots of many increasing functions at once, each in its own bracket: a vectorised method of
+    Chandrupatla (1997, Adv Eng Softw 28:145) — inverse quadratic interpolation where it is safe, bisection
+    where it is not, and the bracket kept at every step.
+
+    Parameters
+    ----------
+    f : (x (k,), rows (k,) int) -> f_rows(x) (k,): the functions of the given rows, one batched call (a row
+        may appear more than once)
+    lo, hi : (K,) brackets [same unit as x]; each row's function is at or below 0 at lo
+    f_lo, f_hi : (K,) the functions at the ends when already computed (they are not computed again);
+        None: computed in the first batched call
+    xtol, rtol, x_floor : each root is within ``xtol * max(|hi|, x_floor) + rtol * |root|`` of the true one,
+        the bound of :func:`increasing_root` (Brent's method), so the two agree to it
+    first : (K,) a first guess of each root [same unit as x] (NaN: none); the secant of the ends when None
+    window : with ``first``: relative half-width [-] of a window around the guess whose two ends are
+        evaluated in the first batched call; when they straddle the root the bracket shrinks to them at
+        once (a guess known to be good to 1e-9 then needs two or three steps in all)
+    counter : a list that gets the number of batched calls appended (for the benchmarks and tests)
+
+    Returns
+    -------
+    (K,) roots [same unit as x]; NaN for a row whose function stays below 0 up to hi (no root in the
+    bracket).
+    """
+    x1 = np.array(lo, dtype=float, ndmin=1)
+    x2 = np.array(hi, dtype=float, ndmin=1)
+    K = x1.size
+    if K == 1:  # one row: the same steps in plain floats (numpy's per-call cost would dominate)
+        def one(v):
+            return None if v is None else float(np.asarray(v, dtype=float).reshape(-1)[0])
+
+        root, calls = _one_bracketed_root(f, float(x1[0]), float(x2[0]), one(f_lo), one(f_hi), one(first),
+                                          window, xtol * max(abs(float(x2[0])), x_floor), rtol)
+        if counter is not None:
+            counter.append(calls)
+        return np.array([root])
+    rows = np.arange(K)
+    f1 = np.full(K, np.nan) if f_lo is None else np.array(f_lo, dtype=float, ndmin=1)
+    f2 = np.full(K, np.nan) if f_hi is None else np.array(f_hi, dtype=float, ndmin=1)
+    guess = None if first is None else np.array(first, dtype=float, ndmin=1)
+    calls = 0
+    # the first batched call: the ends not given, and the window around each guess
+    xs, rs, kinds = [], [], []
+    for given, ends, kind in ((f_lo, x1, 0), (f_hi, x2, 1)):
+        if given is None:
+            xs.append(ends)
+            rs.append(rows)
+            kinds.append(np.full(K, kind))
+    if guess is not None and window > 0:
+        for side in (1.0 - window, 1.0 + window):
+            p = guess * side
+            ok = np.isfinite(p) & (p > x1) & (p < x2)
+            xs.append(p[ok])
+            rs.append(rows[ok])
+            kinds.append(np.full(int(ok.sum()), 2))
+    if xs:
+        xa, ra, ka = np.concatenate(xs), np.concatenate(rs), np.concatenate(kinds)
+        fa = np.asarray(f(xa, ra), dtype=float)
+        fa = np.where(np.isnan(fa), np.inf, fa)
+        calls += 1
+        f1[ra[ka == 0]] = fa[ka == 0]
+        f2[ra[ka == 1]] = fa[ka == 1]
+        for xp, rp, fp in zip(xa[ka == 2], ra[ka == 2], fa[ka == 2], strict=True):
+            if fp <= 0 and xp > x1[rp]:
+                x1[rp], f1[rp] = xp, fp
+            elif fp > 0 and xp < x2[rp]:
+                x2[rp], f2[rp] = xp, fp
+    tol_abs = xtol * np.maximum(np.abs(np.array(hi, dtype=float, ndmin=1)), x_floor)
+    out = np.where(f1 == 0, x1, x2)
+    out[~(f2 >= 0)] = np.nan  # no root below hi
+    open_ = (f1 != 0) & (f2 != 0) & (f2 >= 0)
+    if guess is None or window > 0:
+        with np.errstate(divide="ignore", invalid="ignore"):
+            t = np.where(open_, f1 / (f1 - f2), 0.5)
+    else:
+        t = (guess - x1) / np.where(x2 > x1, x2 - x1, 1.0)
+    t = np.where(np.isfinite(t), t, 0.5)
+    x3, f3 = x2.copy(), f2.copy()
+    for _ in range(MAX_STEPS):
+        idx = rows[open_]
+        if idx.size == 0:
+            break
+        width = x2[idx] - x1[idx]
+        tl = 0.5 * (tol_abs[idx] + rtol * np.abs(x1[idx])) / np.abs(width)
+        ti = np.clip(t[idx], tl, 1.0 - tl)
+        xt = x1[idx] + ti * width
+        ft = np.asarray(f(xt, idx), dtype=float)
+        ft = np.where(np.isnan(ft), np.inf, ft)  # no answer there: past the model's range, so past the root
+        calls += 1
+        same = np.sign(ft) == np.sign(f1[idx])
+        # x1: the newest point; x2: the other end of the bracket; x3: the point given up
+        x3[idx] = np.where(same, x1[idx], x2[idx])
+        f3[idx] = np.where(same, f1[idx], f2[idx])
+        x2[idx] = np.where(same, x2[idx], x1[idx])
+        f2[idx] = np.where(same, f2[idx], f1[idx])
+        x1[idx], f1[idx] = xt, ft
+        a1, a2, a3 = x1[idx], x2[idx], x3[idx]
+        b1, b2, b3 = f1[idx], f2[idx], f3[idx]
+        best = np.abs(b1) < np.abs(b2)
+        xm = np.where(best, a1, a2)
+        fm = np.where(best, b1, b2)
+        tol = 0.5 * (tol_abs[idx] + rtol * np.abs(xm))
+        done = (fm == 0) | (np.abs(a2 - a1) <= 2.0 * tol)
+        out[idx[done]] = xm[done]
+        open_[idx[done]] = False
+        with np.errstate(divide="ignore", invalid="ignore"):
+            xi = (a1 - a2) / (a3 - a2)
+            ph = (b1 - b2) / (b3 - b2)
+            iqi = (b1 / (b2 - b1) * b3 / (b2 - b3)
+                   + (a3 - a1) / (a2 - a1) * b1 / (b3 - b1) * b2 / (b3 - b2))
+        use = (ph * ph < xi) & ((1.0 - ph) ** 2 < 1.0 - xi) & np.isfinite(iqi)
+        t[idx] = np.where(use, iqi, 0.5)
+    else:
+        idx = rows[open_]
+        out[idx] = np.where(np.abs(f1[idx]) < np.abs(f2[idx]), x1[idx], x2[idx])
+    if counter is not None:
+        counter.append(calls)
+    return out
+
+
+def _one_bracketed_root(f, x1: float, x2: float, f1: float | None, f2: float | None, first: float | None,
+                        window: float, tol_abs: float, rtol: float) -> tuple[float, int]:
+    """:func:`bracketed_roots` for one row, in plain floats: (root, batched calls made)."""
+    row1 = np.zeros(1, dtype=int)
+    calls = 0
+    pts = [x for x, v in ((x1, f1), (x2, f2)) if v is None]
+    if first is not None and window > 0 and math.isfinite(first):
+        pts += [p for p in (first * (1.0 - window), first * (1.0 + window)) if x1 < p < x2]
+    if pts:
+        vals = f(np.array(pts), np.zeros(len(pts), dtype=int))
+        calls += 1
+        got = {}
+        for p, v in zip(pts, vals.tolist(), strict=True):
+            got[p] = math.inf if v != v else v
+        f1 = got.pop(x1) if f1 is None else f1
+        f2 = got.pop(x2) if f2 is None else f2
+        for p, v in sorted(got.items()):
+            if v <= 0 and p > x1:
+                x1, f1 = p, v
+            elif v > 0 and p < x2:
+                x2, f2 = p, v
+    if f1 == 0:
+        return x1, calls
+    if not f2 >= 0:
+        return math.nan, calls
+    if f2 == 0:
+        return x2, calls
+    if first is not None and window <= 0 and math.isfinite(first) and x2 > x1:
+        t = (first - x1) / (x2 - x1)
+    else:
+        t = f1 / (f1 - f2)
+    x3, f3 = x2, f2
+    for _ in range(MAX_STEPS):
+        width = x2 - x1
+        tl = 0.5 * (tol_abs + rtol * abs(x1)) / abs(width)
+        xt = x1 + min(max(t, tl), 1.0 - tl) * width
+        ft = float(f(np.array([xt]), row1)[0])
+        calls += 1
+        if ft != ft:
+            ft = math.inf  # no answer there: past the model's range, so past the root
+        if (ft > 0) == (f1 > 0) and ft != 0:
+            x3, f3 = x1, f1
+        else:
+            x3, f3 = x2, f2
+            x2, f2 = x1, f1
+        x1, f1 = xt, ft
+        xm, fm = (x1, f1) if abs(f1) < abs(f2) else (x2, f2)
+        if fm == 0 or abs(x2 - x1) <= tol_abs + rtol * abs(xm):
+            return xm, calls
+        t = 0.5
+        if x3 != x2 and f3 != f2 and f3 != f1 and f2 != f1 and math.isfinite(f3) and math.isfinite(f1):
+            xi = (x1 - x2) / (x3 - x2)
+            ph = (f1 - f2) / (f3 - f2)
+            if ph * ph < xi and (1.0 - ph) ** 2 < 1.0 - xi:
+                t = f1 / (f2 - f1) * f3 / (f2 - f3) + (x3 - x1) / (x2 - x1) * f1 / (f3 - f1) * f2 / (f3 - f2)
+    return (x1 if abs(f1) < abs(f2) else x2), calls

@@ -51,11 +51,13 @@ from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Literal
 
+import numpy as np
+
 from mediaplan.medium import roots
 from mediaplan.medium.catalog import Catalog, Component, celsius
 from mediaplan.medium.errors import AmountError, InfeasibleError, UnknownComponentError
 from mediaplan.medium.evaluate import ISOTONIC_TOLERANCE, Evaluation, evaluate
-from mediaplan.medium.model import Sweep, compiled
+from mediaplan.medium.model import Sweep, compiled, sweep_line, sweep_residuals
 from mediaplan.medium.recipe import Recipe
 from mediaplan.medium.units import Amount, parse_amount, parse_target
 from mediaplan.thermo.potential import osmolality_from_potential, potential_from_osmolality
@@ -386,6 +388,7 @@ class _Setup:
     path: _Path
     lower: _Path | None = None  # from the osmotica removed (0) to the medium as it is (1), when it holds them
     x_min: float = 0.0  # the x of the path at which the first lowered osmoticum reaches zero
+    line_ids: frozenset[str] = frozenset()  # the components of the start's lines
 
 
 def _setup(recipe: Recipe, catalog: Catalog, comps_os: list[Component], ratio: list[float] | None,
@@ -463,7 +466,7 @@ def _setup(recipe: Recipe, catalog: Catalog, comps_os: list[Component], ratio: l
             return build(x_min * (1.0 - t), text)
 
         lower = _line_path(catalog, start, comps, lambda t: amounts_at(x_min * (1.0 - t)), build_low, 1.0)
-    return _Setup(start, free, weights, comps, path, lower, x_min)
+    return _Setup(start, free, weights, comps, path, lower, x_min, frozenset(by_id))
 
 
 def _needs_full_evaluation(comps: Sequence[Component], matched: str) -> bool:
@@ -475,7 +478,13 @@ def _needs_full_evaluation(comps: Sequence[Component], matched: str) -> bool:
 def _residual(path: _Path, catalog: Catalog, y: float, full: bool) -> Callable[[float], float]:
     """f(x) = (what the medium has at x) − (target), increasing in x; scaled to about 1."""
     if not full:
-        return path.sweep.residual_at(y)
+        f_rows = sweep_residuals(path.sweep, [y])
+
+        def f_zsr(x: float) -> float:
+            return float(f_rows(np.array([x], dtype=float), _ROW0)[0])
+
+        f_zsr.rows = f_rows  # type: ignore[attr-defined]  # the batched form, for bracketed_roots
+        return f_zsr
 
     def f(x: float) -> float:
         ev = evaluate(path.build(x, False), catalog)
@@ -587,6 +596,9 @@ def solve_target(recipe: Recipe, catalog: Catalog, target: TargetSpec | str, osm
     # ---- bracket: solubility and volume ---------------------------------------------------
     path = s.path
     capped = {c.id: c.soluble_at(T_sol) for c in s.free}
+    x = None if full else _root_below_solubility(path.sweep, f.rows, f0, [cc for cc, _ in capped.values()])
+    if x is not None:
+        return _added(recipe, catalog, s, path.build(x, True), ev_of, held, matched, common)
     limit = path.sweep.limit([cc for cc, _ in capped.values()])
     x_cap = limit.x
     limit_note = ("the space left for water" if limit.component is None else
@@ -607,7 +619,55 @@ def solve_target(recipe: Recipe, catalog: Catalog, target: TargetSpec | str, osm
         err.limit_amount = amounts  # type: ignore[attr-defined]
         raise err
     x = roots.increasing_root(f, 0.0, x_cap, f_lo=f0, f_hi=f_hi)
-    new = path.build(x, True)
+    return _added(recipe, catalog, s, path.build(x, True), ev_of, held, matched, common)
+
+
+#: the one row of a single target (for :func:`sweep_residuals`)
+_ROW0 = np.zeros(1, dtype=int)
+#: tolerance of the addition [-] relative to the space left for it (the largest x the volume allows): with
+#: that x some 40 times the answer, the addition is found to about 1e-12 of itself, far inside the five
+#: significant digits of the amount text the recipe keeps (:func:`amount_text`)
+XTOL_ROOM = 1e-14
+#: half-width [-] of the window tried first around the root of :func:`mediaplan.medium.model.sweep_line`:
+#: by whether the guess is exact (to rounding) or a first approximation (the ion proportions change)
+GUESS_WINDOW = {True: 1e-9, False: 2e-2}
+
+
+def _root_below_solubility(sweep: Sweep, f, f0: float, saturating: Sequence[Component]) -> float | None:
+    """The x where the ZSR residual ``f`` (x, rows) of the medium along ``sweep`` at one target osmolality
+    (:func:`mediaplan.medium.model.sweep_residuals`) is zero, when that x is below every solubility in
+    ``saturating``; None otherwise (the caller then works out which limit stops it).
+
+    One vectorised root finding (:func:`mediaplan.medium.roots.bracketed_roots`), bracketed by x = 0 (residual ``f0`` < 0) and the
+    space the volume leaves (:meth:`Sweep.limit` without solubilities); the solubilities are checked at the
+    root only (the substance's molality grows with x, so a root below saturation means no solubility limit
+    comes first)."""
+    # a hair inside the limit: a batch of rows sums the volumes in another order than the one row of limit()
+    room = sweep.limit().x * (1.0 - 1e-12)
+    if room <= 0:
+        return None
+    line, exact = sweep_line(sweep, f)
+    # along a line whose ion proportions stay put the residual is the line's closed form (plain numbers)
+    x = float(roots.bracketed_roots(line if exact else f, np.zeros(1), np.array([room]), np.array([f0]), None,
+                                    first=line.root(), window=GUESS_WINDOW[exact], xtol=XTOL_ROOM)[0])
+    if not math.isfinite(x):
+        return None
+    if saturating:
+        m = sweep.molality(x)
+        comps = sweep.model.components
+        for c in saturating:
+            m_sat = c.saturation_molality
+            if m_sat is None:
+                continue
+            idx = [i for i, cc in enumerate(comps) if (cc.substance == c.substance if c.substance else cc is c)]
+            if float(m[idx].sum()) > m_sat:
+                return None
+    return x
+
+
+def _added(recipe: Recipe, catalog: Catalog, s: _Setup, new: Recipe, ev_of, held: dict[str, str],
+           matched: str, common: dict) -> Solution:
+    """The solution that adds: ``new`` evaluated, the additions and the message."""
     ev = ev_of(new)
     adds = _additions(recipe, new, s, ev, held, catalog)
     parts = [f"add {a.added_g_per_l:.4g} g/L {a.component} ({a.added_g_per_batch:.4g} g per {ev.volume_l:g} L)"
@@ -637,7 +697,8 @@ def _plain_path(recipe: Recipe, catalog: Catalog) -> _Path:
 
 def _additions(recipe: Recipe, new: Recipe, s: _Setup, ev: Evaluation, held: dict[str, str],
                catalog: Catalog) -> list[Addition]:
-    before = _molarities(recipe, catalog)
+    # the start holds none of the osmotica (the usual case): nothing to weigh before, no model to solve
+    before = _molarities(recipe, catalog) if held or any(c.id in s.line_ids for c in s.free) else {}
     out = []
     for c in [*(cc for cc in s.comps if cc.id in held), *s.free]:
         n0, g0 = before.get(c.id, (0.0, 0.0))
