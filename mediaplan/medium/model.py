@@ -62,6 +62,7 @@ _PEG_GRADES = {"peg6000": 6000, "peg8000": 8000}
 #: 10^4 rows keep the ZSR solver's temporaries to tens of MB and its numpy calls few (measured: a 10^6-row
 #: sweep unchunked takes 3.2 GB; in chunks of 10^4, 0.4 GB and no more time)
 SOLVE_CHUNK = 10_000
+_MISSING = object()
 _STATE_FIELDS = ("water_kg_per_m3", "n_per_m3", "molality", "species_m")
 _MIX_FIELDS = ("osmolality", "ideal", "electrolyte_phi", "electrolyte_phi_own", "fraction_electrolyte",
                "fraction_neutral", "fraction_peg")
@@ -159,6 +160,19 @@ class MediumModel:
         #: indices of the components that bring a neutral solute without a published model
         self.ideal_components = [i for i, c in enumerate(self.components)
                                  if any(sp in self.ideal_neutral for sp, _ in c.species)]
+        self._memo: dict = {}
+
+    def memo(self, key: tuple, make: Callable[[], object]) -> object:
+        """What ``make()`` returns, made once per key for this model: figures that depend on the components
+        and temperatures alone (solubility limits, parameter lists), never on the amounts. A few keys per
+        model; bounded."""
+        got = self._memo.get(key, _MISSING)
+        if got is _MISSING:
+            got = make()
+            if len(self._memo) >= 64:
+                self._memo = {}
+            self._memo[key] = got  # one dict item set: safe across worker threads
+        return got
 
     # ---- amounts -> moles -------------------------------------------------------------------
     def amounts_to_arrays(self, amounts: Sequence) -> tuple[np.ndarray, np.ndarray]:

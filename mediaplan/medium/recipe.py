@@ -14,7 +14,7 @@ from typing import Literal
 
 from mediaplan.medium.catalog import Catalog, Component
 from mediaplan.medium.errors import AmountError, MediaplanError
-from mediaplan.medium.units import Amount, parse_amount, parse_temperature, parse_volume
+from mediaplan.medium.units import Amount, format_amount, parse_amount, parse_temperature, parse_volume
 
 Origin = Literal["base", "user", "override"]
 
@@ -49,6 +49,38 @@ PLAN_FILE_STRENGTH_SCOPE = "all"
 #: their 25 °C solubility, all but CaCl2 (to 6.25 of its 7.5 mol/kg) (common practice: a quarter past the
 #: data is the most any fit is trusted)
 PITZER_RANGE_FACTOR = 1.25
+
+
+class ScaledAmount(Amount):
+    """A base line's amount times the strength: the value [SI] at once, the text (in the unit of the
+    published amount, :func:`~mediaplan.medium.units.format_amount`) when first read. What
+    ``Amount.scaled`` gives, without formatting a number no one may read: an evaluation at a new strength
+    formats nothing until its amounts are shown. Equal to the Amount of the same value, kind and text."""
+
+    def __init__(self, value: float, kind, text: str | None = None, *, like: str | None = None) -> None:
+        object.__setattr__(self, "value", value)
+        object.__setattr__(self, "kind", kind)
+        if text is None:
+            object.__setattr__(self, "_like", like)
+        else:
+            object.__setattr__(self, "text", text)
+
+    def __getattr__(self, name: str):
+        if name == "text":  # not yet formatted (an attribute lookup that found nothing comes here)
+            text = format_amount(self.value, self.kind, like=self.__dict__["_like"])
+            object.__setattr__(self, "text", text)
+            return text
+        raise AttributeError(name)
+
+    def __eq__(self, other: object) -> bool:
+        if isinstance(other, Amount):
+            return (self.value, self.kind, self.text) == (other.value, other.kind, other.text)
+        return NotImplemented
+
+    __hash__ = Amount.__hash__
+
+    def __reduce__(self):
+        return (ScaledAmount, (self.value, self.kind, self.text))
 
 
 @dataclass(frozen=True)
@@ -167,12 +199,8 @@ class Recipe:
         amounts (override by component id; 0 removes)."""
         out: dict[str, Line] = {}
         if self.base:
-            medium = catalog.medium(self.base, field="base")
-            for ml in medium.lines:
-                comp = catalog.components[ml.component]
-                scaled = self.strength != 1 and self.scales(comp)
-                amt = ml.amount.scaled(self.strength) if scaled else ml.amount
-                out[comp.id] = Line(comp, amt, "base", ml.confidence, scaled)
+            for ln in self._base_lines(catalog):
+                out[ln.component.id] = ln
         for cid, amt in self.amounts:
             comp = catalog.resolve(cid, field=f"components.{cid}").component
             if comp.id in out:
@@ -185,6 +213,33 @@ class Recipe:
                     del out[k]
                 out[comp.id] = Line(comp, amt, "override" if same else "user")
         return [ln for ln in out.values() if not ln.amount.is_zero]
+
+
+    def _base_lines(self, catalog: Catalog) -> list[Line]:
+        """The lines of the base formulation at this strength and scope (kept for the last few bases asked:
+        the lines depend on the catalog's medium and components alone, which are checked to be the same
+        objects at each use)."""
+        medium = catalog.medium(self.base, field="base")
+        key = (self.base, self.strength, self.strength_scope)
+        got = _BASE_LINES.get(key)
+        if got is not None and got[0] is medium and all(
+                catalog.components.get(ln.component.id) is ln.component for ln in got[1]):
+            return got[1]
+        lines = []
+        for ml in medium.lines:
+            comp = catalog.components[ml.component]
+            scaled = self.strength != 1 and self.scales(comp)
+            amt = ScaledAmount(ml.amount.value * self.strength, ml.amount.kind, like=ml.amount.text) if scaled \
+                else ml.amount
+            lines.append(Line(comp, amt, "base", ml.confidence, scaled))
+        if len(_BASE_LINES) >= 16:
+            _BASE_LINES.clear()
+        _BASE_LINES[key] = (medium, lines)  # the medium kept: its id cannot be reused while cached
+        return lines
+
+
+#: (base id, strength, scope) -> (the catalog's Medium, its lines at that strength): see Recipe._base_lines
+_BASE_LINES: dict[tuple, tuple] = {}
 
 
 def check_plausible(lines: list[Line], molality, pitzer=None) -> None:
@@ -203,6 +258,8 @@ def check_plausible(lines: list[Line], molality, pitzer=None) -> None:
     25 °C solubility (:attr:`Component.saturation_molality`), or past :data:`PLAUSIBLE_MAX_MOLALITY` without
     a solubility, or when a molality is not a finite number.
     """
+    if _within_limits(lines, molality, pitzer):
+        return
     total: dict[str, float] = {}
     first: dict[str, Line] = {}
     for ln, m in zip(lines, molality, strict=True):
@@ -235,6 +292,56 @@ def check_plausible(lines: list[Line], molality, pitzer=None) -> None:
             what = ln.amount.text if ln.amount.kind == "molal" else f"{ln.amount.text} ({m:.3g} mol/kg)"
             raise AmountError(f"{name} at {what} is past {limit:.3g} mol/kg, {why}",
                               field=_field_of(ln), hint="check the number and its unit")
+
+
+#: (components, which lines are base lines) -> (the Pitzer parameters, each substance's line indices and
+#: limit [mol/kg]): the limits of :func:`check_plausible` depend on the lines alone, not on the amounts
+_LIMITS: dict[tuple, tuple] = {}
+
+
+def _within_limits(lines: list[Line], molality, pitzer) -> bool:
+    """True when every molality is finite and no substance reaches its limit: the answer of
+    :func:`check_plausible` without building its messages (False: let it look, and say what is wrong)."""
+    key = tuple((ln.component.id, ln.component.digest, ln.origin == "base") for ln in lines)
+    got = _LIMITS.get(key)
+    if got is None or got[0] is not pitzer:  # the parameters object is kept: its id cannot be reused
+        got = (pitzer, _limits(lines, pitzer))
+        if len(_LIMITS) >= 64:
+            _LIMITS.clear()
+        _LIMITS[key] = got
+    m = [float(x) for x in molality]
+    for x in m:
+        if not (x >= 0 and math.isfinite(x)):
+            return False
+    for idx, limit in got[1]:
+        total = m[idx[0]]
+        for i in idx[1:]:
+            total += m[i]
+        if total > limit:
+            return False
+    return True
+
+
+def _limits(lines: list[Line], pitzer) -> list[tuple[list[int], float]]:
+    """Per substance of the lines: (the indices of its lines, its limit [mol/kg]) as :func:`check_plausible`
+    sets them (the component of its first line, a user's line before a base line)."""
+    idx: dict[str, list[int]] = {}
+    first: dict[str, Line] = {}
+    for i, ln in enumerate(lines):
+        key = ln.component.substance or ln.component.id
+        idx.setdefault(key, []).append(i)
+        if key not in first or first[key].origin == "base":
+            first[key] = ln
+    out = []
+    for key, members in idx.items():
+        c = first[key].component
+        m_sat = c.saturation_molality
+        limit = PLAUSIBLE_SATURATION_FACTOR * m_sat if m_sat is not None else PLAUSIBLE_MAX_MOLALITY
+        pair = _pair_range(c, pitzer)
+        if pair is not None and PITZER_RANGE_FACTOR * pair[1] < limit:
+            limit = PITZER_RANGE_FACTOR * pair[1]
+        out.append((members, limit))
+    return out
 
 
 def _pair_range(c: Component, pitzer) -> tuple[str, float] | None:

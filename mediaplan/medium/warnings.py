@@ -220,33 +220,24 @@ def solubility(ctx: Context) -> list[Warning_]:
 
     A temperature outside the substance's table is never extrapolated: the warning names the nearest
     tabulated temperature and says the figure there is not the one asked for."""
-    by_sub: dict[str, float] = {}
-    sub_comp: dict[str, object] = {}
-    molality = ctx.state.molality[0].tolist()
-    for i, ln in enumerate(ctx.lines):
-        c = ln.component
-        if (c.solubility is None and not c.solubility_table) or not c.substance:
-            continue
-        by_sub[c.substance] = by_sub.get(c.substance, 0.0) + molality[i]
-        sub_comp.setdefault(c.substance, c)
     T = ctx.T
     stated = ctx.recipe.storage_temperature_k
     T_store = DEFAULT_STORAGE_K if stated is None else stated
-    kept = (f"kept at {celsius(T_store)}" + (" (the stated storage temperature)" if stated is not None else
-                                             " (a cold room; the plan states no storage temperature)"))
+    limits = ctx.model.memo(("solubility", T, T_store), lambda: _solubility_limits(ctx.lines, T, T_store))
+    molality = ctx.state.molality[0].tolist()
     out = []
-    for sub, m in by_sub.items():
-        c = sub_comp[sub]
-        culture = _figure(c, T)
-        if culture is None:
-            continue
+    for sub, c, idx, culture, store in limits:
+        m = molality[idx[0]]
+        for i in idx[1:]:
+            m += molality[i]
         m_T, where_T, g_T = culture
         if m > m_T:
             out.append(Warning_("solubility", f"{sub} at {m:.3g} mol/kg is above its solubility "
                                 f"({g_T:.3g} g/100 g water {where_T}): it will not all dissolve", c.id))
             continue
-        store = c.saturation_at(T_store)
-        if T_store < T and store.at_asked and store.molality is not None:
+        if store is not None:
+            kept = (f"kept at {celsius(T_store)}" + (" (the stated storage temperature)" if stated is not None
+                                                     else " (a cold room; the plan states no storage temperature)"))
             if m > store.molality:
                 out.append(Warning_("solubility", f"{sub} at {m:.3g} mol/kg is {100 * m / store.molality:.0f} % of "
                                     f"its solubility at {celsius(T_store)} ({store.g_per_100g_water:.3g} g/100 g "
@@ -257,6 +248,31 @@ def solubility(ctx: Context) -> list[Warning_]:
         elif m > SOLUBILITY_MARGIN * m_T:
             out.append(Warning_("solubility", f"{sub} is at {100 * m / m_T:.0f} % of its solubility {where_T}: "
                                 "it may crystallise in the cold", c.id))
+    return out
+
+
+def _solubility_limits(lines: list[Line], T: float, T_store: float) -> list[tuple]:
+    """Per substance with a solubility: (substance, its first component, the indices of its lines, the figure
+    at the culture temperature T [K] (:func:`_figure`), the saturation at the storage temperature T_store [K]
+    when that is the colder and known there, else None). What :func:`solubility` compares the molalities
+    with; it depends on the lines and temperatures alone."""
+    idx: dict[str, list[int]] = {}
+    sub_comp: dict[str, object] = {}
+    for i, ln in enumerate(lines):
+        c = ln.component
+        if (c.solubility is None and not c.solubility_table) or not c.substance:
+            continue
+        idx.setdefault(c.substance, []).append(i)
+        sub_comp.setdefault(c.substance, c)
+    out = []
+    for sub, members in idx.items():
+        c = sub_comp[sub]
+        culture = _figure(c, T)
+        if culture is None:
+            continue
+        store = c.saturation_at(T_store)
+        ok = T_store < T and store.at_asked and store.molality is not None
+        out.append((sub, c, members, culture, store if ok else None))
     return out
 
 

@@ -328,6 +328,13 @@ def _newton(ops: _Ops, s: _System, start: tuple | None) -> MixtureResult:
     if floats and not active:  # pure water
         return _result(ops, s, 0.0, [1.0] * len(groups), 0.0, 1.0, None, False, False)
     y = where(active, y, 1.0)
+    if floats and not groups and s.electrolytes:
+        # the electrolytes alone: ZSR's one group is its own binary solution at scale 1, y = M_e φ(1)
+        # exactly (what the steps below reach from a cold start at once, and from a warm start within _TOL)
+        phi1 = s.phi_at(1.0)
+        if phi1 > 0:
+            y = s.M_e * phi1
+            return _result(ops, s, y, [], 1.0, phi1, (y, (), 0.0, 1.0), True, False)
     x = [where(on, m * div(y, o, 1.0), 1.0) for (_, _, m, on), o in zip(groups, o0, strict=True)]
     # electrolyte group: local power law phi_e(s) ≈ phi_c (s/s_c)^g around the last Pitzer point
     s_c, phi_c, g = y * 0.0 + 1.0, s.phi_own, y * 0.0

@@ -427,6 +427,7 @@ class PitzerSystem:
         self.missing_pairs: tuple[tuple[str, str], ...] = tuple(missing)
         self._alphas = np.array(sorted(exp_terms), dtype=float)
         self._neg_alphas = -self._alphas
+        self._neg_alpha_list = self._neg_alphas.tolist()
         self._nalpha = len(self._alphas)
         # like-charge theta_ij enters exactly as beta0 does (weight 1), so it shares beta0's matrix
         theta_m = np.zeros((n, n))
@@ -484,6 +485,13 @@ class PitzerSystem:
             self._ew = w * (zz / 8.0)
             self._pt_a = np.array([gidx[g1] for g1, _ in ptypes], dtype=np.intp)
             self._pt_b = np.array([gidx[g2] for _, g2 in ptypes], dtype=np.intp)
+        # the same as Python lists, for the sums of one composition (_Parts, _Scaled)
+        self._prods6_list = self._prods6.tolist() if self._has_etheta else []
+        self._ew_rows = self._ew.tolist() if self._has_etheta else []
+        self._pt_pairs = (list(zip(self._pt_a.tolist(), self._pt_b.tolist(), strict=True))
+                          if self._has_etheta else [])
+        self._z2h_list, self._absz_list = self._z2h.tolist(), self._absz.tolist()
+        self._basis: dict[float, np.ndarray] = {}   # T [K] -> temperature_basis(T), a few temperatures
 
     # -----------------------------------------------------------------------------------------------------
     def a_phi(self, T: float) -> float | np.ndarray:
@@ -643,6 +651,16 @@ class PitzerSystem:
             self._mflat_cache[T] = mflat                  # one dict item set: safe across worker threads
         return mflat
 
+    def _basis_at(self, T: float) -> np.ndarray:
+        """:func:`temperature_basis` at T [K], kept for a few temperatures."""
+        got = self._basis.get(T)
+        if got is None:
+            got = temperature_basis(T)
+            if len(self._basis) >= _T_CACHE_SIZE:
+                self._basis = {}
+            self._basis[T] = got
+        return got
+
     def _a_phi_scalar(self, T: float) -> float:
         T = float(T)
         A = self._a_cache.get(T)
@@ -678,8 +696,9 @@ class PitzerSystem:
         if m.ndim != 1:
             raise ValueError("max_molality_exceeded takes one composition (1-D array)")
         I = float(m @ self._z2h)
+        ml = m.tolist()
         return [(self.ions[i], self.ions[j]) for i, j, imax in self._pairs
-                if m[i] > 0 and m[j] > 0 and imax < I]
+                if ml[i] > 0 and ml[j] > 0 and imax < I]
 
 
 # ---------------------------------------------------------------------------------------------------------
@@ -707,7 +726,7 @@ class _Parts:
 
     def __init__(self, system: PitzerSystem, m: list, T: float) -> None:
         self.T = float(T)
-        z2h, absz = system._z2h.tolist(), system._absz.tolist()
+        z2h, absz = system._z2h_list, system._absz_list
         mtot, I0, Z0 = m[0], m[0] * z2h[0], m[0] * absz[0]
         for j in range(1, system._n):
             mtot = mtot + m[j]
@@ -727,7 +746,7 @@ class _Parts:
                 for j in members[1:]:
                     g = g + m[j]
                 G.append(g)
-            S0 = [G[a] * G[b] for a, b in zip(system._pt_a.tolist(), system._pt_b.tolist(), strict=True)]
+            S0 = [G[a] * G[b] for a, b in system._pt_pairs]
         self.mtot, self.I0, self.Z0, self.q, self.psi, self.S0 = mtot, I0, Z0, q, psi, S0
         self.empty = mtot <= 0.0
         self.dq = None
@@ -748,7 +767,7 @@ class _Scaled:
         q = parts.q
         T = float(T)
         if T != parts.T and parts.dq is not None:
-            q = (np.array(q) + (temperature_basis(T) - temperature_basis(parts.T)) @ parts.dq).tolist()
+            q = (np.array(q) + (system._basis_at(T) - system._basis_at(parts.T)) @ parts.dq).tolist()
         self._row = isinstance(parts.mtot, float)
         self._empty = parts.empty
         row_empty = self._row and self._empty
@@ -758,18 +777,22 @@ class _Scaled:
         self._A, self._b = system._a_phi_scalar(T), system.b
         self._q0, self._zq1 = q[0], parts.Z0 * q[1]
         self._qa = q[2:]
-        self._na = system._neg_alphas.tolist()
+        self._na = system._neg_alpha_list
         self._psi = parts.psi
-        self._W = list(zip(system._prods6.tolist(), _weights(system._ew, parts.S0), strict=True)) \
+        self._W = list(zip(system._prods6_list, _weights(system._ew_rows, parts.S0), strict=True)) \
             if parts.S0 else []
-        self.phi1 = 1.0 if row_empty else self._phi(1.0)
+        self.phi1 = 1.0 if row_empty else None  # φ at t = 1, made when first asked
 
     def __call__(self, t):
         """φ [-] at the molalities t · m0 (t > 0 [-]; a float for one row, an array (B,) for a batch)."""
         if self._row:
             if self._empty:
                 return 1.0
-            return self.phi1 if t == 1.0 else self._phi(t)
+            if t == 1.0:
+                if self.phi1 is None:
+                    self.phi1 = self._phi(1.0)
+                return self.phi1
+            return self._phi(t)
         phi = self._phi(np.asarray(t, dtype=float))
         return np.where(self._empty, 1.0, phi)
 
@@ -793,10 +816,11 @@ class _Scaled:
         return 1.0 + 2.0 * s / (t * self._mtot)
 
 
-def _weights(ew: np.ndarray, S0: list) -> list:
-    """W_k = Σ_p ew[k, p] S0[p], summed in order p = 0, 1, ... (S0: floats, or arrays (B,))."""
+def _weights(ew: list, S0: list) -> list:
+    """W_k = Σ_p ew[k][p] S0[p], summed in order p = 0, 1, ... (ew: rows of floats; S0: floats, or arrays
+    (B,))."""
     out = []
-    for row in ew.tolist():
+    for row in ew:
         w = 0.0
         for e, s0 in zip(row, S0, strict=True):
             w = w + e * s0

@@ -55,7 +55,22 @@ def density(T) -> np.ndarray:
     of water between 0 °C and 40 °C based on recent experimental reports. Metrologia 38:301-309.
     doi:10.1088/0026-1394/38/4/3
     """
-    T = np.asarray(T, dtype=float)
+    if type(T) is float:  # one temperature: the figure of a few temperatures in use, kept (same bits)
+        rho = _DENSITY_OF.get(T)
+        if rho is None:
+            rho = _density(np.asarray(T))
+            if len(_DENSITY_OF) >= 64:
+                _DENSITY_OF.clear()
+            _DENSITY_OF[T] = rho
+        return rho
+    return _density(np.asarray(T, dtype=float))
+
+
+#: T [K] (a Python float) -> density [kg/m^3] (a numpy float): the temperatures a session uses
+_DENSITY_OF: dict[float, np.floating] = {}
+
+
+def _density(T: np.ndarray) -> np.ndarray:
     if not np.all(np.isfinite(T)) or np.any(T <= 0.0):
         raise ValueError("temperature must be finite and positive [K]")
     t = T - T0
