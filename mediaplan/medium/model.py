@@ -613,21 +613,12 @@ class ZSRTargets:
         steps on h(t) = t·φ(t·q) − y from t = y and the fixed-point step y/φ(y·q), to 1e-14 of t. φ of the
         scaled composition from one full Pitzer pass (:meth:`~mediaplan.thermo.pitzer.PitzerSystem.scaled`)."""
         pitzer, T = self.model._pitzer, self.model.T
-        if y.size == 1:  # one row: plain floats
+        shared = bool(np.all(q == q[0]))
+        if shared and y.size <= _FLOAT_ROWS:  # a few rows of one composition: plain floats
             phi = pitzer.scaled(q[0], T)
-            yy = float(y[0])
-            t0 = yy
-            h0 = t0 * float(phi(t0)) - yy
-            t1 = yy * t0 / (h0 + yy)
-            for _ in range(60):
-                if abs(t1 - t0) <= 1e-14 * abs(t1):
-                    break
-                h1 = t1 * float(phi(t1)) - yy
-                if h1 == h0:
-                    break
-                t0, h0, t1 = t1, h1, t1 - h1 * (t1 - t0) / (h1 - h0)
-            return np.array([t1])
-        phi = pitzer.scaled(q, T)
+            return np.array([_secant_total(phi, yy) for yy in y.tolist()])
+        # one full pass: for the one proportion every row shares (a sweep's ions), else one per row
+        phi = pitzer.scaled(q[:1] if shared else q, T)
         t0 = y.copy()
         h0 = t0 * phi(t0) - y
         t1 = y * t0 / (h0 + y)  # the fixed-point step y / φ(t0)
@@ -683,6 +674,8 @@ class ZSRTargets:
             ions = vec[:, m._ion_idx]
             tot = ions.sum(axis=1)
             start = ions[0] * (C / A) + ions[2]  # the ions at x = 0 (molality up to a common factor)
+            if not start.sum() > 0:  # none at x = 0: the proportions of the ions the line adds
+                start = ions[1] * (C / A) + ions[3]
             if start.sum() > 0:
                 q = start / start.sum()
                 phi = self._phi_star(np.tile(q, (K, 1)), np.arange(K))
@@ -724,6 +717,26 @@ class LineResidual:
         with np.errstate(divide="ignore", invalid="ignore"):
             x = 2.0 * (-a0) / (a1 + np.sqrt(a1 * a1 - 4.0 * a2 * a0))
         return np.where(np.isfinite(x) & (x >= 0), x, np.nan)
+
+
+#: up to this many rows of one ion composition, :meth:`ZSRTargets._ion_total` works in plain floats
+_FLOAT_ROWS = 8
+
+
+def _secant_total(phi: Callable[[float], float], y: float) -> float:
+    """t [mol/kg] with t·φ(t) = y [osmol/kg] (φ of the scaled composition, a float function): the steps of
+    :meth:`ZSRTargets._ion_total` for one row."""
+    t0 = y
+    h0 = t0 * float(phi(t0)) - y
+    t1 = y * t0 / (h0 + y)
+    for _ in range(60):
+        if abs(t1 - t0) <= 1e-14 * abs(t1):
+            break
+        h1 = t1 * float(phi(t1)) - y
+        if h1 == h0:
+            break
+        t0, h0, t1 = t1, h1, t1 - h1 * (t1 - t0) / (h1 - h0)
+    return t1
 
 
 def sweep_residuals(sweep: Sweep, y) -> Callable[[np.ndarray, np.ndarray], np.ndarray]:

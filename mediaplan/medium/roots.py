@@ -153,11 +153,13 @@ def increasing_roots(f_batch: Callable[[np.ndarray], np.ndarray], targets: np.nd
 
 #: the most steps :func:`bracketed_roots` takes (it needs 4 to 8 on the smooth functions of this package)
 MAX_STEPS = 100
+#: up to this many rows :func:`bracketed_roots` works row by row in plain floats
+FLOAT_ROWS = 4
 
 
 def bracketed_roots(f: Callable[[np.ndarray, np.ndarray], np.ndarray], lo, hi, f_lo=None, f_hi=None, *,
                     xtol: float = XTOL, rtol: float = RTOL, x_floor: float = 1e-300, first=None,
-                    window: float = 0.0, counter: list | None = None) -> np.ndarray:
+                    window: float = 0.0, scale=None, counter: list | None = None) -> np.ndarray:
     """Roots of many increasing functions at once, each in its own bracket: a vectorised method of
     Chandrupatla (1997, Adv Eng Softw 28:145) — inverse quadratic interpolation where it is safe, bisection
     where it is not, and the bracket kept at every step.
@@ -169,8 +171,10 @@ def bracketed_roots(f: Callable[[np.ndarray, np.ndarray], np.ndarray], lo, hi, f
     lo, hi : (K,) brackets [same unit as x]; each row's function is at or below 0 at lo
     f_lo, f_hi : (K,) the functions at the ends when already computed (they are not computed again);
         None: computed in the first batched call
-    xtol, rtol, x_floor : each root is within ``xtol * max(|hi|, x_floor) + rtol * |root|`` of the true one,
-        the bound of :func:`increasing_root` (Brent's method), so the two agree to it
+    xtol, rtol, x_floor : each root is within ``xtol * max(|scale|, x_floor) + rtol * |root|`` of the true
+        one, the bound of :func:`increasing_root` (Brent's method) with scale = hi, so the two agree to it
+    scale : (K,) the scale of ``xtol`` [same unit as x]: ``hi`` when None or NaN (a first guess of the
+        root makes ``xtol`` a tolerance relative to the root itself)
     first : (K,) a first guess of each root [same unit as x] (NaN: none); the secant of the ends when None
     window : with ``first``: relative half-width [-] of a window around the guess whose two ends are
         evaluated in the first batched call; when they straddle the root the bracket shrinks to them at
@@ -185,15 +189,23 @@ def bracketed_roots(f: Callable[[np.ndarray, np.ndarray], np.ndarray], lo, hi, f
     x1 = np.array(lo, dtype=float, ndmin=1)
     x2 = np.array(hi, dtype=float, ndmin=1)
     K = x1.size
-    if K == 1:  # one row: the same steps in plain floats (numpy's per-call cost would dominate)
-        def one(v):
-            return None if v is None else float(np.asarray(v, dtype=float).reshape(-1)[0])
+    sc = np.abs(x2) if scale is None else np.array(scale, dtype=float, ndmin=1)
+    sc = np.where(np.isfinite(sc), np.abs(sc), np.abs(x2))
+    if K <= FLOAT_ROWS:  # a few rows: the same steps in plain floats, row by row (numpy's per-call cost
+        # would dominate)
+        def one(v, i):
+            return None if v is None else float(np.asarray(v, dtype=float).reshape(-1)[i])
 
-        root, calls = _one_bracketed_root(f, float(x1[0]), float(x2[0]), one(f_lo), one(f_hi), one(first),
-                                          window, xtol * max(abs(float(x2[0])), x_floor), rtol)
+        out, calls = np.empty(K), 0
+        for i in range(K):
+            row = np.array([i])
+            out[i], c = _one_bracketed_root(lambda x, _rows, row=row: f(x, np.repeat(row, np.size(x))),
+                                            float(x1[i]), float(x2[i]), one(f_lo, i), one(f_hi, i),
+                                            one(first, i), window, xtol * max(float(sc[i]), x_floor), rtol)
+            calls += c
         if counter is not None:
             counter.append(calls)
-        return np.array([root])
+        return out
     rows = np.arange(K)
     f1 = np.full(K, np.nan) if f_lo is None else np.array(f_lo, dtype=float, ndmin=1)
     f2 = np.full(K, np.nan) if f_hi is None else np.array(f_hi, dtype=float, ndmin=1)
@@ -225,7 +237,7 @@ def bracketed_roots(f: Callable[[np.ndarray, np.ndarray], np.ndarray], lo, hi, f
                 x1[rp], f1[rp] = xp, fp
             elif fp > 0 and xp < x2[rp]:
                 x2[rp], f2[rp] = xp, fp
-    tol_abs = xtol * np.maximum(np.abs(np.array(hi, dtype=float, ndmin=1)), x_floor)
+    tol_abs = xtol * np.maximum(sc, x_floor)
     out = np.where(f1 == 0, x1, x2)
     out[~(f2 >= 0)] = np.nan  # no root below hi
     open_ = (f1 != 0) & (f2 != 0) & (f2 >= 0)

@@ -624,10 +624,6 @@ def solve_target(recipe: Recipe, catalog: Catalog, target: TargetSpec | str, osm
 
 #: the one row of a single target (for :func:`sweep_residuals`)
 _ROW0 = np.zeros(1, dtype=int)
-#: tolerance of the addition [-] relative to the space left for it (the largest x the volume allows): with
-#: that x some 40 times the answer, the addition is found to about 1e-12 of itself, far inside the five
-#: significant digits of the amount text the recipe keeps (:func:`amount_text`)
-XTOL_ROOM = 1e-14
 #: half-width [-] of the window tried first around the root of :func:`mediaplan.medium.model.sweep_line`:
 #: by whether the guess is exact (to rounding) or a first approximation (the ion proportions change)
 GUESS_WINDOW = {True: 1e-9, False: 2e-2}
@@ -647,21 +643,12 @@ def _root_below_solubility(sweep: Sweep, f, f0: float, saturating: Sequence[Comp
     if room <= 0:
         return None
     line, exact = sweep_line(sweep, f)
+    guess = line.root()
     # along a line whose ion proportions stay put the residual is the line's closed form (plain numbers)
     x = float(roots.bracketed_roots(line if exact else f, np.zeros(1), np.array([room]), np.array([f0]), None,
-                                    first=line.root(), window=GUESS_WINDOW[exact], xtol=XTOL_ROOM)[0])
-    if not math.isfinite(x):
+                                    first=guess, window=GUESS_WINDOW[exact], scale=guess)[0])
+    if not math.isfinite(x) or _past_solubility(sweep, x, saturating):
         return None
-    if saturating:
-        m = sweep.molality(x)
-        comps = sweep.model.components
-        for c in saturating:
-            m_sat = c.saturation_molality
-            if m_sat is None:
-                continue
-            idx = [i for i, cc in enumerate(comps) if (cc.substance == c.substance if c.substance else cc is c)]
-            if float(m[idx].sum()) > m_sat:
-                return None
     return x
 
 
@@ -676,6 +663,83 @@ def _added(recipe: Recipe, catalog: Catalog, s: _Setup, new: Recipe, ev_of, held
     got = ev.effective_osmolality_mosmol_per_kg if matched == "effective_osmolality" else ev.osmolality_mosmol_per_kg
     msg = "; ".join(parts) + f": {got:.1f} mOsm/kg, {ev.osmotic_potential_mpa:.4f} MPa (re-evaluated)"
     return Solution(status="added", recipe=new, evaluation=ev, additions=adds, reduction=None, message=msg, **common)
+
+
+def additions_at(recipe: Recipe, catalog: Catalog, osmotica: Sequence[str], ys: Sequence[float], *,
+                 ratio: Sequence[float] | None = None, hold: Mapping[str, str | Amount] | None = None,
+                 matched: str = "osmolality") -> list[dict[str, float] | None]:
+    """The additions that bring ``recipe`` to each osmolality in ``ys`` [osmol/kg], all found in one
+    vectorised root finding on one sweep: per y, {osmoticum id: added g/L of the form as sold} of the free
+    osmotica, the figures :func:`solve_target` reports as ``Addition.added_g_per_l`` for that target (the
+    same root to its tolerance, the same amount text, the same grams per litre of the re-read amount).
+
+    None for a y this batched path does not settle — the medium already at or past it, a solubility or the
+    volume in its way, or a tonicity matched with permeating solutes: :func:`solve_target` answers that one.
+    """
+    comps_os = _resolve_osmotica(catalog, osmotica)
+    r = _check_ratio(ratio, len(comps_os)) if ratio is not None else None
+    if r is not None and len(comps_os) == 1:
+        r = None
+    s = _setup(recipe, catalog, comps_os, r, hold)
+    held = {catalog.resolve(k).component.id for k in (hold or {})}
+    K = len(ys)
+    out: list[dict[str, float] | None] = [None] * K
+    if _needs_full_evaluation(s.comps, matched) or K == 0:
+        return out
+    sweep = s.path.sweep
+    room = sweep.limit().x * (1.0 - 1e-12)
+    if not room > 0:
+        return out
+    f = sweep_residuals(sweep, np.asarray(ys, dtype=float))
+    f0 = f(np.zeros(K), np.arange(K))
+    todo = np.nonzero(f0 <= -1e-9)[0]  # the others: on target, or to be lowered or diluted
+    if todo.size == 0:
+        return out
+    line, exact = sweep_line(sweep, f)
+    guess = line.root()[todo]
+    fun = line if exact else f
+    x = roots.bracketed_roots(lambda xx, rows: fun(xx, todo[rows]), np.zeros(todo.size), np.full(todo.size, room),
+                              f0[todo], None, first=guess, window=GUESS_WINDOW[exact], scale=guess)
+    T_sol, _ = _solubility_temperature(recipe)
+    saturating = [c.soluble_at(T_sol)[0] for c in s.free]
+    before = _molarities(recipe, catalog) if held or any(c.id in s.line_ids for c in s.free) else {}
+    ids = {c.id for c in s.free}
+    for i, xi in zip(todo.tolist(), x.tolist(), strict=True):
+        if not math.isfinite(xi) or _past_solubility(sweep, xi, saturating):
+            continue
+        g1 = _grams_per_litre(s.path.build(xi, True), catalog, ids)
+        out[i] = {c.id: g1.get(c.id, 0.0) - before.get(c.id, (0.0, 0.0))[1] for c in s.free}
+    return out
+
+
+def _past_solubility(sweep: Sweep, x: float, saturating: Sequence[Component]) -> bool:
+    """Whether some component of ``saturating`` (with every form of its substance) is past its solubility at
+    x along the sweep."""
+    if not saturating:
+        return False
+    m = sweep.molality(x)
+    comps = sweep.model.components
+    for c in saturating:
+        m_sat = c.saturation_molality
+        if m_sat is None:
+            continue
+        idx = [i for i, cc in enumerate(comps) if (cc.substance == c.substance if c.substance else cc is c)]
+        if float(m[idx].sum()) > m_sat:
+            return True
+    return False
+
+
+def _grams_per_litre(recipe: Recipe, catalog: Catalog, ids: set[str]) -> dict[str, float]:
+    """{id: g per litre of the form as sold} of the components ``ids`` of the recipe, computed as
+    :func:`mediaplan.medium.evaluate.evaluate` computes them (the volume balance of one batch row of
+    :meth:`MediumModel.solve`), without the ZSR solution."""
+    lines = recipe.lines(catalog)
+    model = compiled(catalog, [ln.component for ln in lines], recipe.temperature_k)
+    n, b = model.amounts_to_arrays([ln.amount for ln in lines])
+    n, b = n[None, :], b[None, :]
+    W = model.water(n, b)
+    n_all = (n / W[:, None] + b) * W[:, None]
+    return {ln.component.id: float(n_all[0, i] * model.M[i]) for i, ln in enumerate(lines) if ln.component.id in ids}
 
 
 def _solubility_temperature(recipe: Recipe) -> tuple[float, str]:

@@ -507,7 +507,7 @@ def solve_ranges(solution, catalog: Catalog, *, tolerances: Tolerances = Toleran
     Empty unless the solve added something.
     """
     from mediaplan.medium.errors import InfeasibleError
-    from mediaplan.tasks.solve import TargetSpec, solve_target
+    from mediaplan.tasks.solve import TargetSpec, additions_at, solve_target, target_osmolality
 
     if solution.status != "added":
         return []
@@ -521,12 +521,18 @@ def solve_ranges(solution, catalog: Catalog, *, tolerances: Tolerances = Toleran
     tol = (ev.tonicity or {}).get("tolerance")
     kw = {} if tol is None else {"isotonic_tolerance": tol}
 
-    def added_at(y: float) -> tuple[dict[str, float] | None, str]:
+    def end_spec(y: float) -> tuple[TargetSpec, float | None]:
         if solution.matched == "effective_osmolality":
-            ref_y = (y - spec.offset_osmol) / (1.0 + spec.offset_fraction) * 1000.0
-            s, cells = spec, ref_y
-        else:
-            s, cells = TargetSpec("osmolality", y, text=f"{y * 1000:.1f} mOsm/kg"), ref
+            return spec, (y - spec.offset_osmol) / (1.0 + spec.offset_fraction) * 1000.0
+        return TargetSpec("osmolality", y, text=f"{y * 1000:.1f} mOsm/kg"), ref
+
+    def end_osmolality(y: float) -> float:
+        """The osmolality [osmol/kg] the solve of this end aims at (as :func:`solve_target` reads it)."""
+        s, cells = end_spec(y)
+        return target_osmolality(s, solution.start_recipe.temperature_k, cells)
+
+    def added_at(y: float) -> tuple[dict[str, float] | None, str]:
+        s, cells = end_spec(y)
         try:
             sol = solve_target(solution.start_recipe, catalog, s, list(solution.osmotica), ratio=solution.ratio,
                                hold=solution.hold, cell_reference_mosmol=cells, **kw)
@@ -536,8 +542,17 @@ def solve_ranges(solution, catalog: Catalog, *, tolerances: Tolerances = Toleran
             return {a.component: 0.0 for a in solution.additions}, "the start medium already reaches it"
         return {a.component: a.added_g_per_l for a in sol.additions}, ""
 
-    more, note_hi = added_at(y_star / r_lo) if r_lo > 0 else (None, "no lower end")
-    less, note_lo = added_at(y_star / r_hi) if r_hi > 0 else (None, "no upper end")
+    # both ends on one sweep in one batched root finding; an end it does not settle is solved as before
+    ends = [y_star / r_lo if r_lo > 0 else None, y_star / r_hi if r_hi > 0 else None]
+    ys = [end_osmolality(y) for y in ends if y is not None]
+    batch = iter(additions_at(solution.start_recipe, catalog, list(solution.osmotica), ys, ratio=solution.ratio,
+                              hold=solution.hold, matched=solution.matched))
+    got = []
+    for y in ends:
+        fast = next(batch) if y is not None else None
+        got.append((fast, "") if fast is not None else added_at(y) if y is not None else None)
+    more, note_hi = got[0] if got[0] is not None else (None, "no lower end")
+    less, note_lo = got[1] if got[1] is not None else (None, "no upper end")
     out = []
     for a in solution.additions:
         if a.held:

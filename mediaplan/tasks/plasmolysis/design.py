@@ -34,7 +34,7 @@ from mediaplan.medium import roots
 from mediaplan.medium.catalog import Catalog, Component
 from mediaplan.medium.errors import AmountError, InfeasibleError, MediaplanError
 from mediaplan.medium.evaluate import finite  # no NaN or infinity in any output (shared rule)
-from mediaplan.medium.model import ModelState, compiled
+from mediaplan.medium.model import ModelState, ZSRTargets, compiled, sweep_line, sweep_residuals
 from mediaplan.medium.recipe import Recipe
 from mediaplan.medium.units import Amount, parse_amount
 from mediaplan.thermo import potential
@@ -248,10 +248,7 @@ def design_series(background: Recipe, osmoticum: str, potentials_pa: Sequence[fl
                               f"itself ({psi_bg / 1e6:.4g} MPa)", field="series.first",
                               hint="start the series below the background's potential, or dilute the background")
     _refuse_beyond_solubility(mixer, comp, psi, y_target)
-    hi = _upper_bound(mixer, float(y_target.max()), psi, comp)
-    n_x = roots.increasing_roots(mixer.sweep.osmolality, y_target, 0.0, hi, what="level", hint=_HINT_LEVEL,
-                                 xtol=_XTOL, rtol=_RTOL, x_floor=1e-9)
-    st = mixer.sweep.state(n_x)
+    n_x, st = _level_amounts(mixer, y_target, psi, comp)
     W, solutes = mixer.water_and_solutes(st)
     M = mixer.model.M[mixer.k]
     vol_l = background.volume_m3 * 1000.0
@@ -344,6 +341,52 @@ def _stock_saturation(design: SeriesDesign, comp: Component, mixer: _Background,
         s.storage_saturation_percent = 100.0 * m / m_cold
 
 
+def _level_amounts(mixer: _Background, y_target: np.ndarray, psi: np.ndarray,
+                   comp: Component) -> tuple[np.ndarray, ModelState]:
+    """Osmoticum [mol/m^3] of every level, and the solved medium of each (one batched model call).
+
+    All levels at once: one vectorised root finding (:func:`mediaplan.medium.roots.bracketed_roots`) on the
+    ZSR residual at each level's osmolality (:func:`mediaplan.medium.model.sweep_residuals`), started from
+    the closed-form root along the sweep (:func:`mediaplan.medium.model.sweep_line`: the answer itself when
+    the osmoticum leaves the ion proportions as they are, a first guess otherwise), bracketed by no
+    osmoticum and the space the volume leaves. The levels are then solved forward; should any of them not
+    come back at its own osmolality (:data:`_FORWARD_CHECK`), or not be reached before the volume runs out,
+    the levels are found on the forward model itself (:func:`_level_amounts_forward`), which also words
+    the refusal."""
+    sweep = mixer.sweep
+    room = sweep.limit().x * (1.0 - 1e-12)  # a hair inside: a batch sums the volumes in another order
+    if room > 0:
+        f = sweep_residuals(sweep, y_target)
+        line, exact = sweep_line(sweep, f)
+        K = y_target.size
+        guess = line.root()
+        n_x = roots.bracketed_roots(line if exact else f, np.zeros(K), np.full(K, room), first=guess,
+                                    window=_GUESS_WINDOW[exact], scale=guess, xtol=_XTOL, rtol=_RTOL, x_floor=1e-9)
+        if np.all(np.isfinite(n_x)):
+            st = sweep.state(n_x)
+            y = st.mix.osmolality
+            if np.all(np.isfinite(y)) and np.all(np.abs(y / y_target - 1.0) <= _FORWARD_CHECK):
+                return n_x, st
+    return _level_amounts_forward(mixer, y_target, psi, comp)
+
+
+#: half-width [-] of the window tried first around the closed-form root (by whether it is exact)
+_GUESS_WINDOW = {True: 1e-9, False: 2e-2}
+#: how closely [-] each level solved forward must give back its own osmolality (the ZSR residual's root and
+#: the forward ZSR solution agree to about 1e-12; anything wider means the forward model is past its range)
+_FORWARD_CHECK = 1e-8
+
+
+def _level_amounts_forward(mixer: _Background, y_target: np.ndarray, psi: np.ndarray,
+                           comp: Component) -> tuple[np.ndarray, ModelState]:
+    """The levels found on the forward model's osmolality itself (a grid, then the brackets refined): where
+    the model stops answering past its range the search draws back, and a level beyond it is refused."""
+    hi = _upper_bound(mixer, float(y_target.max()), psi, comp)
+    n_x = roots.increasing_roots(mixer.sweep.osmolality, y_target, 0.0, hi, what="level", hint=_HINT_LEVEL,
+                                 xtol=_XTOL, rtol=_RTOL, x_floor=1e-9)
+    return n_x, mixer.sweep.state(n_x)
+
+
 def _upper_bound(mixer: _Background, y_max: float, psi: np.ndarray, comp: Component) -> float:
     """An amount [mol/m^3] beyond the most concentrated level (the model must reach it), below the
     sweep's limit (the water left: :meth:`~mediaplan.medium.model.Sweep.limit`)."""
@@ -388,9 +431,7 @@ def _add_stock(design: SeriesDesign, mixer: _Background, stock_text: str, y_targ
         b = (f * c_s + (1 - f) * c_d) / water
         return model.solve(np.zeros_like(b), b), water[:, 0]
 
-    fr = roots.increasing_roots(lambda f: mix_state(f)[0].mix.osmolality, y_target, 0.0, 1.0, what="level",
-                                hint=_HINT_LEVEL, xtol=_XTOL, rtol=_RTOL, x_floor=1e-9)
-    st_m, water = mix_state(fr)
+    fr, st_m, water = _mixing_fractions(model, c_s, c_d, W_s, W_d, y_target, mix_state)
     # the mixture's own volume per m^3 of (stock + diluent) volumes: water / (water per m^3 of mixture)
     shrink = water / st_m.water_kg_per_m3
     total_ml = vol_l * 1000.0
@@ -404,6 +445,38 @@ def _add_stock(design: SeriesDesign, mixer: _Background, stock_text: str, y_targ
         density_kg_per_l=(W_s + sol_s) / 1000.0, water_kg_per_l=W_s / 1000.0,
         total_ml=float(sum(lv.stock_ml for lv in design.levels)),
         diluent_total_ml=float(sum(lv.diluent_ml for lv in design.levels)))
+
+
+def _mixing_fractions(model, c_s: np.ndarray, c_d: np.ndarray, W_s: float, W_d: float, y_target: np.ndarray,
+                      mix_state) -> tuple[np.ndarray, ModelState, np.ndarray]:
+    """Volume fraction of stock [-] in each level's mixture, with the mixture solved (and its water [kg per
+    m^3 of stock and diluent]).
+
+    The mixture of fraction f holds (f c_s + (1 − f) c_d) / (f W_s + (1 − f) W_d) mol per kg water: the same
+    vectorised root finding as the levels (:func:`_level_amounts`) on the ZSR residual at each level's
+    osmolality, from the closed-form root (exact when stock and diluent hold the ions in the same
+    proportions), checked forward; the forward search of before when the check fails."""
+    eq = ZSRTargets(model, y_target)
+    K = y_target.size
+    zero = np.zeros_like(c_s)
+
+    def f_rows(f: np.ndarray, rows: np.ndarray) -> np.ndarray:
+        f = np.asarray(f, dtype=float)[:, None]
+        return eq((f * c_s + (1 - f) * c_d) / (f * W_s + (1 - f) * W_d), rows)
+
+    line, exact = eq.along(c_d, c_s - c_d, zero, zero, W_d, -(W_s - W_d), 1.0, 0.0)
+    guess = line.root()
+    fr = roots.bracketed_roots(line if exact else f_rows, np.zeros(K), np.ones(K), first=guess,
+                               window=_GUESS_WINDOW[exact], scale=guess, xtol=_XTOL, rtol=_RTOL, x_floor=1e-9)
+    if np.all(np.isfinite(fr)):
+        st_m, water = mix_state(fr)
+        y = st_m.mix.osmolality
+        if np.all(np.isfinite(y)) and np.all(np.abs(y / y_target - 1.0) <= _FORWARD_CHECK):
+            return fr, st_m, water
+    fr = roots.increasing_roots(lambda f: mix_state(f)[0].mix.osmolality, y_target, 0.0, 1.0, what="level",
+                                hint=_HINT_LEVEL, xtol=_XTOL, rtol=_RTOL, x_floor=1e-9)
+    st_m, water = mix_state(fr)
+    return fr, st_m, water
 
 
 def _design_warnings(design: SeriesDesign, comp: Component, mixer: _Background) -> list[str]:
