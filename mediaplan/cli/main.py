@@ -41,7 +41,11 @@ class _Parser(argparse.ArgumentParser):
         self.exit(2, one_line(line) + "\n")
 
 
-def build_parser() -> argparse.ArgumentParser:
+def build_parser(only: frozenset[str] | None = None) -> argparse.ArgumentParser:
+    """The parser of every command; ``only``: the commands whose options are added (their modules
+    imported), the others listed by name and help alone (None: all). A command is always named on the
+    command line as it is spelt here, so :func:`main` adds the commands among its arguments: ``mediaplan
+    --help`` imports no command module, ``mediaplan calc ...`` only calc's."""
     p = _Parser(prog="mediaplan", description="Water relations of plant culture media.")
     p.add_argument("--version", action="version", version=f"mediaplan {__version__}")
     p.add_argument("--catalog", action="append", default=[], metavar="DIR",
@@ -51,6 +55,8 @@ def build_parser() -> argparse.ArgumentParser:
         sp = sub.add_parser(name, help=helptext, description=helptext)
         sp.add_argument("--catalog", action="append", default=argparse.SUPPRESS, metavar="DIR",
                         help="extra catalog folder merged over the bundled one (repeatable)")
+        if only is not None and name not in only:
+            continue
         try:
             mod = importlib.import_module(f"mediaplan.cli.commands.{name}")
         except ModuleNotFoundError:
@@ -68,7 +74,7 @@ def main(argv: list[str] | None = None) -> int:
     if any("\x00" in a for a in raw):
         print("mediaplan: an argument contains a NUL character (remove it)", file=sys.stderr)
         return 2
-    args = build_parser().parse_args(argv)
+    args = build_parser(frozenset(a for a in raw if a in COMMANDS)).parse_args(argv)
     from mediaplan.files.paths import use_unit_cache
 
     use_unit_cache()

@@ -33,3 +33,17 @@ def test_logit_fit_imports_no_scipy_no_pint_and_no_more_than_calc(tmp_path):
     assert "50 % plasmolysed at" in out
     assert not {m for m in fit_mods if m.split(".")[0] in ("scipy", "pint")}, sorted(fit_mods)
     assert len(fit_mods) <= len(calc_mods), sorted(fit_mods - calc_mods)
+
+
+def test_a_command_line_imports_only_the_commands_it_names():
+    """``mediaplan --help`` lists the commands without importing them; a command imports its own module only
+    (the help printed is the same: tests/cli/test_startup.py and the commands' own tests)."""
+    code = ("import sys\nfrom mediaplan.cli.main import main\n"
+            "try:\n    main(sys.argv[1:])\nexcept SystemExit:\n    pass\n"
+            "sys.stderr.write(repr(sorted(m.rsplit('.', 1)[1] for m in sys.modules "
+            "if m.startswith('mediaplan.cli.commands.'))))\n")
+    for argv, expected in ((["--help"], []), (["calc", "--help"], ["calc"]), (["fit", "--help"], ["fit"]),
+                           (["--catalog", "series", "fit", "--help"], ["fit", "series"])):
+        r = subprocess.run([sys.executable, "-c", code, *argv], capture_output=True, text=True, timeout=60)
+        assert r.stderr.strip().splitlines()[-1] == repr(expected), (argv, r.stderr[-300:])
+        assert "usage: mediaplan" in r.stdout
