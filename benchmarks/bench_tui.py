@@ -1,22 +1,33 @@
 """Terminal app speed: cold start to the first painted screen, edit -> refreshed panel, first actions.
 
-    python benchmarks/bench_tui.py [--starts 5] [--edits 50] [--firsts 5] [--idle 0 3]
+    python benchmarks/bench_tui.py [--starts 7] [--edits 50] [--firsts 5] [--idle 0 3] [--no-bytecode]
 
-Cold start: a fresh interpreter runs ``mediaplan open PLAN`` headless with
-MEDIAPLAN_TUI_EXIT_AFTER_PAINT=1 (the app exits right after its first refresh); the wall time of the
-subprocess is measured. Edit latency: a headless pilot applies amounts to a component through the
+Cold start: a fresh interpreter runs ``mediaplan open PLAN`` headless with MEDIAPLAN_TUI_EXIT_AFTER_PAINT=1
+(the app exits right after its first refresh: the recipe shown, its figures possibly still "computing")
+and with MEDIAPLAN_TUI_EXIT_AFTER_PAINT=figures (it exits once the screen with the plan's figures is
+painted); the wall time and the CPU time (user + system) of the subprocess are measured. In the same run,
+paired round by round, a bare Textual app (one Static, exits after its first refresh) gives the floor of
+any Textual app on this machine; the ratios app / bare are printed as the median of the rounds' ratios.
+The children keep their compiled bytecode in a temporary folder (PYTHONPYCACHEPREFIX; one untimed run
+first), as an installed package has; ``--no-bytecode`` compiles every module at each start instead (as
+with PYTHONDONTWRITEBYTECODE=1). Target: first paint <= 0.8 s where the bare app takes ~0.46 s, i.e. a
+ratio <= 1.74.
+
+Edit latency: a headless pilot applies amounts to a component through the
 same path as the amount dialog (Session edit, evaluate, re-render table, panel, notes, chart, and
 the detail line of the selected row, which is the edited one); the time runs until the app's next
-refresh after the edit has been processed (call_after_refresh). Targets: start < 1.5 s, edit
-median < 16 ms.
+refresh after the edit has been processed (call_after_refresh). Target: edit median < 16 ms.
 
 First actions: each run is a fresh interpreter (nothing imported, no model compiled) that opens the plan
-headless, waits ``idle`` seconds after the first paint (a user reading the screen), then solves a target
-in the target dialog (t -> the dialog painted; Solve -> the Solved message), and in the plasmolysis
-screen (p -> the screen painted) designs a series (-> Designed) and fits it (-> Fitted). The warm start (mediaplan.tui.warm) runs during the idle
-time; with ``--idle 0`` the first action competes with it. Target: no first action over 0.2 s. To
-measure an older version, run this script with PYTHONPATH pointing at that version's source tree.
-Prints medians.
+headless, waits ``idle`` seconds after the first paint (a user reading the screen), then either solves a
+target in the target dialog (t -> the dialog painted; Solve -> the Solved message) or, in the plasmolysis
+screen (p -> the screen painted), designs a series (-> Designed) and fits it (-> Fitted); each of the two
+right after the first paint in its own interpreter. The warm start (mediaplan.tui.warm) runs during the
+idle time; with ``--idle 0`` the first action competes with it. While the actions run, a 2 ms ticker
+records the longest time the event loop did not answer ("loop blocked": keys and paints wait that long).
+Target: no screen takes over 0.2 s to show and the loop is never blocked over 0.2 s; a solve, design or
+fit started before the warm start is done shows "solving..." at once and its answer when ready. To measure
+an older version, run this script with PYTHONPATH pointing at that version's source tree. Prints medians.
 """
 
 from __future__ import annotations
@@ -51,17 +62,54 @@ agar = "7 g/L"
 """
 
 
-def cold_starts(plan: Path, n: int, env: dict) -> list[float]:
+#: a bare Textual app that exits right after its first refresh (the floor of any Textual app's start)
+BARE_APP = """from textual.app import App
+from textual.widgets import Static
+
+
+class Bare(App):
+    def compose(self):
+        yield Static("bare")
+
+    def on_mount(self):
+        self.call_after_refresh(self.exit)
+
+
+Bare().run()
+"""
+
+
+def _open_code(plan: Path) -> str:
     # the app is headless here: the command's check for a terminal is told yes, the rest is the real path
-    code = ("import sys; from mediaplan.cli.main import main; import mediaplan.cli.commands.open as o; "
+    return ("import sys; from mediaplan.cli.main import main; import mediaplan.cli.commands.open as o; "
             f"o.has_terminal = lambda: True; sys.exit(main(['open', {str(plan)!r}, '--no-recovery']))")
-    times = []
+
+
+def _child(code: str, env: dict) -> tuple[float, float]:
+    """Wall and CPU (user + system) seconds of one fresh interpreter running ``code`` [s]."""
+    import resource
+
+    before = resource.getrusage(resource.RUSAGE_CHILDREN)
+    t0 = time.perf_counter()
+    subprocess.run([sys.executable, "-c", code], env=env, check=True, stdout=subprocess.DEVNULL,
+                   stderr=subprocess.DEVNULL, stdin=subprocess.DEVNULL)
+    wall = time.perf_counter() - t0
+    after = resource.getrusage(resource.RUSAGE_CHILDREN)
+    return wall, (after.ru_utime - before.ru_utime) + (after.ru_stime - before.ru_stime)
+
+
+def cold_starts(plan: Path, n: int, env: dict) -> dict[str, list[tuple[float, float]]]:
+    """Rounds of: the bare app, the app to its first paint, the app to its figures; (wall, cpu) each [s]."""
+    kinds = {"bare Textual app": (BARE_APP, {}),
+             "first paint": (_open_code(plan), {"MEDIAPLAN_TUI_EXIT_AFTER_PAINT": "1"}),
+             "figures shown": (_open_code(plan), {"MEDIAPLAN_TUI_EXIT_AFTER_PAINT": "figures"})}
+    out: dict[str, list[tuple[float, float]]] = {k: [] for k in kinds}
+    for code, extra in kinds.values():  # untimed: compiles the bytecode, fills the user's caches
+        _child(code, {**env, **extra})
     for _ in range(n):
-        t0 = time.perf_counter()
-        subprocess.run([sys.executable, "-c", code], env={**env, "MEDIAPLAN_TUI_EXIT_AFTER_PAINT": "1"},
-                       check=True, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, stdin=subprocess.DEVNULL)
-        times.append(time.perf_counter() - t0)
-    return times
+        for name, (code, extra) in kinds.items():
+            out[name].append(_child(code, {**env, **extra}))
+    return out
 
 
 async def edit_latencies(plan: Path, n: int) -> tuple[list[float], list[float]]:
@@ -73,6 +121,8 @@ async def edit_latencies(plan: Path, n: int) -> tuple[list[float], list[float]]:
     app = MediaplanApp(Session.open(plan, get_catalog()), offer_recovery=False)
     total, evaluate_only = [], []
     async with app.run_test(size=(100, 32)) as pilot:
+        while app.warmed is None:  # edits as they are once the warm start is done
+            await asyncio.sleep(0.05)
         await pilot.pause()
         main = app.get_screen("main")
         # the cursor sits on the edited row, as after Enter on it: its detail line changes too
@@ -119,58 +169,88 @@ async def _shown(app, kind: type) -> None:
     await _painted(app)
 
 
-async def first_actions(plan: Path, idle: float) -> dict[str, float]:
-    """In this (fresh) interpreter: seconds of the first dialog, solve, series design and fit [s].
+class _Ticker:
+    """The longest time the event loop did not answer a 2 ms timer [s] (keys and paints waited as long)."""
+
+    def __init__(self) -> None:
+        self.longest = 0.0
+        self._task = None
+
+    async def _run(self) -> None:
+        last = time.perf_counter()
+        while True:
+            await asyncio.sleep(0.002)
+            now = time.perf_counter()
+            self.longest = max(self.longest, now - last - 0.002)
+            last = now
+
+    def start(self) -> None:
+        self._task = asyncio.get_running_loop().create_task(self._run())
+
+    def stop(self) -> float:
+        self._task.cancel()
+        return self.longest
+
+
+async def first_actions(plan: Path, idle: float, kind: str) -> dict[str, float]:
+    """In this (fresh) interpreter: seconds of the first dialog and solve (``kind`` "target"), or of the
+    series screen, its design and fit ("series") [s], and the longest the event loop was blocked meanwhile.
 
     The actions are started the way their keys start them, and nothing waits for the app to be idle in
     between (the pilot's idle wait would also wait for the warm start's thread).
     """
-    from mediaplan.files.catalog import get_catalog
+    from mediaplan.cli.common import catalog_from
+    from mediaplan.files.paths import use_unit_cache
     from mediaplan.tui.app import MediaplanApp
     from mediaplan.tui.session import Session
 
+    use_unit_cache()  # as the command line does before it opens the app
     seen: list = []
-    app = MediaplanApp(Session.open(plan, get_catalog()), offer_recovery=False)
+    app = MediaplanApp(Session.open(plan, catalog_from(argparse.Namespace(catalog=[]))), offer_recovery=False)
     out = {}
+    ticker = _Ticker()
     async with app.run_test(size=(100, 32), message_hook=seen.append):
         await _painted(app)  # the first paint
         await asyncio.sleep(idle)
+        ticker.start()
         main = app.get_screen("main")
-        t0 = time.perf_counter()
-        main.action_set_target()  # what t does
-        from mediaplan.tui.screens.target import TargetScreen
+        if kind == "target":
+            t0 = time.perf_counter()
+            main.action_set_target()  # what t does
+            from mediaplan.tui.screens.target import TargetScreen
 
-        await _shown(app, TargetScreen)
-        out["open target dialog"] = time.perf_counter() - t0
-        app.screen.query_one("#target-value").value = "-0.9 MPa"
-        t0 = time.perf_counter()
-        app.screen._solve()  # what Enter or the Solve button does
-        solved = await _wait_for(seen, TargetScreen.Solved)
-        out["first solve"] = time.perf_counter() - t0
-        assert solved.error is None, solved.error
-        app.screen.dismiss(None)
-        from mediaplan.tui.screens.main import MainScreen
-        from mediaplan.tui.screens.plasmolysis import SeriesScreen
+            await _shown(app, TargetScreen)
+            out["open target dialog"] = time.perf_counter() - t0
+            app.screen.query_one("#target-value").value = "-0.9 MPa"
+            t0 = time.perf_counter()
+            app.screen._solve()  # what Enter or the Solve button does
+            solved = await _wait_for(seen, TargetScreen.Solved)
+            out["first solve"] = time.perf_counter() - t0
+            assert solved.error is None, solved.error
+        else:
+            from mediaplan.tui.screens.plasmolysis import SeriesScreen
 
-        await _shown(app, MainScreen)
-        t0 = time.perf_counter()
-        main.action_plasmolysis()  # what p does
-        await _shown(app, SeriesScreen)
-        out["open series screen"] = time.perf_counter() - t0
-        screen = app.screen
-        t0 = time.perf_counter()
-        screen.action_design()
-        designed = await _wait_for(seen, SeriesScreen.Designed)
-        out["first series design"] = time.perf_counter() - t0
-        assert designed.error is None, designed.error
+            t0 = time.perf_counter()
+            main.action_plasmolysis()  # what p does
+            await _shown(app, SeriesScreen)
+            out["open series screen"] = time.perf_counter() - t0
+            screen = app.screen
+            t0 = time.perf_counter()
+            screen.action_design()
+            designed = await _wait_for(seen, SeriesScreen.Designed)
+            out["first series design"] = time.perf_counter() - t0
+            assert designed.error is None, designed.error
+            await _painted(app)
+            for i, (k, n) in enumerate([(1, 50), (4, 50), (12, 50), (27, 50), (40, 50), (47, 50), (50, 50),
+                                        (50, 50)]):
+                screen.series = screen.series.with_counts(i, [(k, n)])  # invented counts
+            t0 = time.perf_counter()
+            screen.action_fit()
+            fitted = await _wait_for(seen, SeriesScreen.Fitted)
+            out["first fit"] = time.perf_counter() - t0
+            assert fitted.error is None, fitted.error
         await _painted(app)
-        for i, (k, n) in enumerate([(1, 50), (4, 50), (12, 50), (27, 50), (40, 50), (47, 50), (50, 50), (50, 50)]):
-            screen.series = screen.series.with_counts(i, [(k, n)])  # invented counts
-        t0 = time.perf_counter()
-        screen.action_fit()
-        fitted = await _wait_for(seen, SeriesScreen.Fitted)
-        out["first fit"] = time.perf_counter() - t0
-        assert fitted.error is None, fitted.error
+        out[f"loop blocked ({kind})"] = ticker.stop()
         await app.workers.wait_for_complete()
     return out
 
@@ -178,44 +258,66 @@ async def first_actions(plan: Path, idle: float) -> dict[str, float]:
 def first_action_runs(plan: Path, n: int, idle: float, env: dict) -> dict[str, list[float]]:
     runs: dict[str, list[float]] = {}
     for _ in range(n):
-        done = subprocess.run([sys.executable, __file__, "--child-first", str(plan), str(idle)], env=env,
-                              check=True, capture_output=True, text=True, stdin=subprocess.DEVNULL)
-        for k, v in json.loads(done.stdout.strip().splitlines()[-1]).items():
-            runs.setdefault(k, []).append(v)
+        for kind in ("target", "series"):
+            done = subprocess.run([sys.executable, __file__, "--child-first", str(plan), str(idle), kind], env=env,
+                                  check=True, capture_output=True, text=True, stdin=subprocess.DEVNULL)
+            for k, v in json.loads(done.stdout.strip().splitlines()[-1]).items():
+                runs.setdefault(k, []).append(v)
     return runs
+
+
+def _median_ratio(a: list[float], b: list[float]) -> float:
+    return statistics.median(x / y for x, y in zip(a, b, strict=True))
 
 
 def main() -> None:
     ap = argparse.ArgumentParser()
-    ap.add_argument("--starts", type=int, default=5)
+    ap.add_argument("--starts", type=int, default=7, help="rounds of cold starts (bare app, paint, figures)")
     ap.add_argument("--edits", type=int, default=50)
-    ap.add_argument("--firsts", type=int, default=5, help="fresh interpreters for the first actions")
+    ap.add_argument("--firsts", type=int, default=5, help="fresh interpreters for each kind of first action")
     ap.add_argument("--idle", type=float, nargs="+", default=[0.0, 3.0],
                     help="seconds between the first paint and the first action")
-    ap.add_argument("--child-first", nargs=2, metavar=("PLAN", "IDLE"), help=argparse.SUPPRESS)
+    ap.add_argument("--no-bytecode", action="store_true",
+                    help="children compile every module at each start (no bytecode kept)")
+    ap.add_argument("--child-first", nargs=3, metavar=("PLAN", "IDLE", "KIND"), help=argparse.SUPPRESS)
     args = ap.parse_args()
     if args.child_first:
-        plan, idle = args.child_first
-        print(json.dumps(asyncio.run(first_actions(Path(plan), float(idle)))))
+        plan, idle, kind = args.child_first
+        print(json.dumps(asyncio.run(first_actions(Path(plan), float(idle), kind))))
         return
     with tempfile.TemporaryDirectory() as tmp:
         env = {**os.environ, "MEDIAPLAN_STATE_DIR": str(Path(tmp) / "state"),
-               "MEDIAPLAN_CONFIG_DIR": str(Path(tmp) / "config")}
-        os.environ.update({k: env[k] for k in ("MEDIAPLAN_STATE_DIR", "MEDIAPLAN_CONFIG_DIR")})
+               "MEDIAPLAN_CONFIG_DIR": str(Path(tmp) / "config"), "XDG_CACHE_HOME": str(Path(tmp) / "cache")}
+        env.pop("PYTHONDONTWRITEBYTECODE", None)
+        if args.no_bytecode:
+            env["PYTHONDONTWRITEBYTECODE"] = "1"
+        else:
+            env["PYTHONPYCACHEPREFIX"] = str(Path(tmp) / "pycache")
+        os.environ.update({k: env[k] for k in ("MEDIAPLAN_STATE_DIR", "MEDIAPLAN_CONFIG_DIR", "XDG_CACHE_HOME")})
         plan = Path(tmp) / "bench.toml"
         plan.write_text(PLAN)
-        starts = cold_starts(plan, args.starts, env)
-        total, ev_only = asyncio.run(edit_latencies(plan, args.edits))
-        firsts = {idle: first_action_runs(plan, args.firsts, idle, env) for idle in args.idle}
-    print(f"cold start to first paint: median {statistics.median(starts):.3f} s "
-          f"(min {min(starts):.3f}, max {max(starts):.3f}, n={len(starts)}; target < 1.5 s)")
-    med, ev_med = statistics.median(total), statistics.median(ev_only)
-    print(f"edit -> refreshed panel:   median {1000 * med:.1f} ms (n={len(total)}; target < 16 ms)")
-    print(f"  of which evaluate():     median {1000 * ev_med:.1f} ms  (ratio {ev_med / med:.2f} of the edit)")
+        starts = cold_starts(plan, args.starts, env) if args.starts else {}
+        total, ev_only = asyncio.run(edit_latencies(plan, args.edits)) if args.edits else ([], [])
+        firsts = {idle: first_action_runs(plan, args.firsts, idle, env) for idle in args.idle} if args.firsts else {}
+    if starts:
+        bare = starts["bare Textual app"]
+        print(f"cold starts ({args.starts} rounds; {'no bytecode kept' if args.no_bytecode else 'bytecode kept'}):")
+        for name, runs in starts.items():
+            wall, cpu = [w for w, _ in runs], [c for _, c in runs]
+            ratio = "" if runs is bare else (f"  x bare: wall {_median_ratio(wall, [w for w, _ in bare]):.2f}, "
+                                             f"cpu {_median_ratio(cpu, [c for _, c in bare]):.2f}")
+            print(f"  {name:<17} wall median {statistics.median(wall):.3f} s (min {min(wall):.3f}, max {max(wall):.3f})"
+                  f"  cpu median {statistics.median(cpu):.3f} s{ratio}")
+        print("  target: first paint <= 0.8 s where the bare app takes 0.46 s (ratio <= 1.74)")
+    if total:
+        med, ev_med = statistics.median(total), statistics.median(ev_only)
+        print(f"edit -> refreshed panel:   median {1000 * med:.1f} ms (n={len(total)}; target < 16 ms)")
+        print(f"  of which evaluate():     median {1000 * ev_med:.1f} ms  (ratio {ev_med / med:.2f} of the edit)")
     for idle, runs in firsts.items():
-        print(f"first actions, {idle:g} s after the first paint (n={args.firsts} fresh interpreters; target < 0.2 s):")
+        print(f"first actions, {idle:g} s after the first paint (n={args.firsts} fresh interpreters each; "
+              "target: screens and loop < 0.2 s):")
         for name, times in runs.items():
-            print(f"  {name:<21} median {statistics.median(times):.3f} s (min {min(times):.3f}, max {max(times):.3f})")
+            print(f"  {name:<24} median {statistics.median(times):.3f} s (min {min(times):.3f}, max {max(times):.3f})")
 
 
 if __name__ == "__main__":

@@ -9,6 +9,7 @@ first paint a worker warms the solver, the series design and fit and the sheet
 from __future__ import annotations
 
 import os
+import threading
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -81,6 +82,8 @@ class MediaplanApp(App):
         self.warmed: dict[str, float] | None = None
         #: the warm start is importing the engine: the main screen shows "computing" until it is in
         self.warming_engine = False
+        #: set when the app closes: the warm start begins no further step (closing never waits for them)
+        self._warm_stop = threading.Event()
 
     @property
     def catalog(self) -> Catalog:
@@ -119,7 +122,12 @@ class MediaplanApp(App):
             if name == "engine":
                 self.post_message(self.EngineReady())
 
-        self.post_message(self.Warmed(warm_up(self.session.recipe, self.catalog, on_step=step_done)))
+        self.post_message(self.Warmed(warm_up(self.session.recipe, self.catalog, on_step=step_done,
+                                              stop=self._warm_stop)))
+
+    def exit(self, *args, **kwargs) -> None:
+        self._warm_stop.set()
+        super().exit(*args, **kwargs)
 
     def on_worker_state_changed(self, event: Worker.StateChanged) -> None:
         """A warm start that ended without reaching its engine step (it failed or was cancelled) must not

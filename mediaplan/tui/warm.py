@@ -108,10 +108,12 @@ STEPS: tuple[tuple[str, Callable[[Recipe, Catalog], None]], ...] = (
 SWITCH_INTERVAL = 0.0005
 
 
-def warm_up(recipe: Recipe, catalog: Catalog, on_step: Callable[[str], None] | None = None) -> dict[str, float]:
+def warm_up(recipe: Recipe, catalog: Catalog, on_step: Callable[[str], None] | None = None,
+            stop: threading.Event | None = None) -> dict[str, float]:
     """Run each step once; returns the seconds each took [s] (a step that fails is left out: the user's own
     action will meet the same problem and report it in words). ``on_step(name)`` is called after each step
-    (from this thread), failed or not.
+    (from this thread), failed or not; once ``stop`` is set no further step starts (the app is closing and
+    must not wait for the rest).
 
     Meant for a worker thread: the GIL is handed over more often until the steps are done, and after the
     engine step (which the figures on screen wait for) the thread asks the system for a low priority.
@@ -121,6 +123,8 @@ def warm_up(recipe: Recipe, catalog: Catalog, on_step: Callable[[str], None] | N
     took: dict[str, float] = {}
     try:
         for name, step in STEPS:
+            if stop is not None and stop.is_set():
+                break
             t0 = time.perf_counter()
             try:
                 step(recipe, catalog)

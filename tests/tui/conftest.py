@@ -5,8 +5,14 @@ on to test it."""
 from __future__ import annotations
 
 import pytest
+import textual_plotext  # noqa: F401 - the tests see the app as after its warm start (see below)
 
+import mediaplan.medium.evaluate  # noqa: F401
 from mediaplan.tui.app import MediaplanApp
+
+# The engine and the plotting library are imported before any app starts, as after the app's warm start;
+# the moments before (the main screen "computing", the series screen's plot being prepared) are tested on
+# their own, with the readiness checks of mediaplan.tui.warm answering no.
 
 
 @pytest.fixture(autouse=True)
@@ -17,3 +23,4 @@ def _no_warm_start(request, monkeypatch):
 
 def pytest_configure(config):
     config.addinivalue_line("markers", "warm_start: run the app with its warm start on")
+

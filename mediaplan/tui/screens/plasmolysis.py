@@ -169,8 +169,11 @@ class SeriesScreen(Screen):
         self.link = "logit"
         self._history: list[SeriesRecord | None] = []  # series before each design or counts entry
 
+    class PlotReady(Message):
+        """The plotting library is imported: the plot can take its place."""
+
     def compose(self) -> ComposeResult:
-        from textual_plotext import PlotextPlot
+        from mediaplan.tui.warm import module_ready
 
         s = self.series or SeriesRecord()
         yield Static(" plasmolysis series", id="topbar")
@@ -192,8 +195,16 @@ class SeriesScreen(Screen):
             yield DataTable(id="series-levels", cursor_type="row", zebra_stripes=True)
             with Vertical(id="series-right"):
                 yield Static("", id="series-fit")
-                yield PlotextPlot(id="series-plot")
+                if module_ready("textual_plotext"):
+                    from textual_plotext import PlotextPlot
+
+                    yield PlotextPlot(id="series-plot")
+                else:  # the screen shows at once; the plot follows once its library is in (a worker imports it)
+                    yield Static("the plot is being prepared…", id="series-plot", classes="plot-waiting")
         yield KeyBar()
+
+    #: a fit's curve that arrived before the plot was in place (drawn once it is)
+    _points_waiting: object | None = None
 
     def on_mount(self) -> None:
         table = self.query_one(DataTable)
@@ -201,6 +212,25 @@ class SeriesScreen(Screen):
             table.add_column(label, key=key)
         self._show_levels()
         table.focus()
+        if self.query("#series-plot.plot-waiting"):
+            self._import_plot()
+
+    @work(thread=True, exit_on_error=False, group="plot")
+    def _import_plot(self) -> None:
+        import textual_plotext  # noqa: F401 - imported here so the screen's thread never waits for it
+
+        self.post_message(self.PlotReady())
+
+    @on(PlotReady)
+    async def _plot_ready(self) -> None:
+        from textual_plotext import PlotextPlot
+
+        waiting = self.query_one("#series-plot.plot-waiting")
+        await waiting.remove()
+        await self.query_one("#series-right").mount(PlotextPlot(id="series-plot"))
+        if self._points_waiting is not None:
+            points, self._points_waiting = self._points_waiting, None
+            self._plot(points)
 
     def _show_levels(self) -> None:
         table = self.query_one(DataTable)
@@ -337,6 +367,9 @@ class SeriesScreen(Screen):
 
     def _plot(self, cp) -> None:
         """The fitted curve with its band, the observed proportions (o) and the 50 % point; round ticks."""
+        if self.query("#series-plot.plot-waiting"):
+            self._points_waiting = cp
+            return
         from textual_plotext import PlotextPlot
 
         widget = self.query_one(PlotextPlot)

@@ -76,8 +76,6 @@ class TargetScreen(ModalScreen[Applied | None]):
         self.solution = None
 
     def compose(self) -> ComposeResult:
-        from mediaplan.tasks.solve import parse_solve_target
-
         t = self.session.plan.target or TargetRecord()
         catalog = self.session.catalog
         with Vertical(classes="dialog", id="target-dialog") as box:
@@ -85,7 +83,7 @@ class TargetScreen(ModalScreen[Applied | None]):
             with Grid(id="target-grid"):
                 yield Label("target", classes="field-label")
                 yield Input(t.value if t.value is not None else "-0.8 MPa", id="target-value",
-                            validators=[ParsedValidator(lambda s: parse_solve_target(s))],
+                            validators=[ParsedValidator(check_target)],
                             placeholder="e.g. -0.8 MPa, 450 mOsm/kg or isotonic")
                 yield Label("osmotica", classes="field-label")
                 yield Input(", ".join(t.osmotica if t.osmotica is not None else ("mannitol",)), id="target-osmotica",
@@ -160,6 +158,19 @@ class TargetScreen(ModalScreen[Applied | None]):
     @on(Button.Pressed, "#target-cancel")
     def action_cancel(self) -> None:
         self.dismiss(None)
+
+
+def check_target(text: str) -> object:
+    """The target as the solver reads it; raises MediaplanError in words. Only once the solver is imported:
+    this runs on the screen's thread, which must not wait for the warm start's import of it (before then
+    the text is taken as it is, and the solve, in its worker, says what is wrong with it)."""
+    from mediaplan.tui.warm import module_ready
+
+    if not module_ready("mediaplan.tasks.solve"):
+        return text
+    from mediaplan.tasks.solve import parse_solve_target
+
+    return parse_solve_target(text)
 
 
 def osmotica_ids(catalog, text: str) -> list[str]:
