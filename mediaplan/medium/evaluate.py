@@ -39,6 +39,15 @@ class ComponentResult:
     hazard: str | None
     reflection_coefficient: float | None
 
+    def __getattr__(self, name: str):
+        # evaluate() leaves ``amount`` to be written when first read (a base line at a new strength is
+        # formatted only for display): it keeps the Amount, whose text is the field's value
+        if name == "amount" and "_amount_of" in self.__dict__:
+            text = self.__dict__["_amount_of"].text
+            self.__dict__["amount"] = text
+            return text
+        raise AttributeError(f"{type(self).__name__!r} object has no attribute {name!r}")
+
 
 @dataclass
 class Evaluation:
@@ -117,7 +126,7 @@ def evaluate(recipe: Recipe, catalog: Catalog, *, cell_reference_mosmol: float |
     model = compiled(catalog, comps, T)
     n, b = model.amounts_to_arrays([ln.amount for ln in lines])
     check_plausible(lines, molality_of(model, lines, n, b), catalog.pitzer)
-    st = model.solve(n[None, :], b[None, :])
+    st = model.solve_row(n, b)
     mix = st.mix
     y = float(mix.osmolality[0])
     ideal = float(mix.ideal[0])
@@ -130,28 +139,32 @@ def evaluate(recipe: Recipe, catalog: Catalog, *, cell_reference_mosmol: float |
     theta = float(potential.freezing_point_depression(aw0))
     psi = float(potential.potential_from_aw(aw, T))
     W = float(st.water_kg_per_m3[0])
-    molality = st.molality[0]
     n_all = st.n_per_m3[0]
     osmolarity = float(n_all @ model.particles)  # ideal osmol per m^3 of medium
     vh = float(potential.vant_hoff_potential(osmolarity, T))
-    share_abs = model.shares(st)[0]  # the non-ideal osmolality split among components [osmol/kg]
-    ideal_c = molality * model.particles
+    share_abs = model.shares_row(st)  # the non-ideal osmolality split among components [osmol/kg]
+    molality = st.molality[0].tolist()
+    n_list = n_all.tolist()
+    particles, molar_mass = model.particles.tolist(), model.M.tolist()
     results = []
     groups: dict[str, float] = {}
     eff = 0.0
+    new_result = ComponentResult.__new__
     for i, ln in enumerate(lines):
         c = ln.component
-        sh = float(share_abs[i])
+        sh = share_abs[i]
         sigma = c.reflection_coefficient if c.reflection_coefficient is not None else 1.0
         eff += sigma * sh
         label = GROUP_LABELS.get(c.group, c.group)
         groups[label] = groups.get(label, 0.0) + sh * 1000.0
-        results.append(ComponentResult(
-            id=c.id, name=c.name, formula=c.formula, group=c.group, amount=ln.amount.text, origin=ln.origin,
-            confidence=ln.confidence, molarity_mmol_per_l=float(n_all[i]), molality_mmol_per_kg=float(molality[i] * 1000),
-            osmolality_mosmol_per_kg=sh * 1000.0, osmolality_ideal_mosmol_per_kg=float(ideal_c[i] * 1000),
-            share=sh / y if y > 0 else 0.0, grams_per_litre=float(n_all[i] * model.M[i]), hazard=c.hazard,
-            reflection_coefficient=c.reflection_coefficient))
+        r = new_result(ComponentResult)  # the fields set directly; the amount's text when first read
+        r.__dict__.update(
+            id=c.id, name=c.name, formula=c.formula, group=c.group, _amount_of=ln.amount, origin=ln.origin,
+            confidence=ln.confidence, molarity_mmol_per_l=n_list[i], molality_mmol_per_kg=molality[i] * 1000,
+            osmolality_mosmol_per_kg=sh * 1000.0, osmolality_ideal_mosmol_per_kg=molality[i] * particles[i] * 1000,
+            share=sh / y if y > 0 else 0.0, grams_per_litre=n_list[i] * molar_mass[i], hazard=c.hazard,
+            reflection_coefficient=c.reflection_coefficient)
+        results.append(r)
     ion_I = float(model.ionic_strength(st)[0])
     solute_mass = float(n_all @ model.M_anh)  # kg anhydrous solute per m^3
     density = (W + solute_mass) / 1000.0

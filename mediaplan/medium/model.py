@@ -161,6 +161,9 @@ class MediumModel:
         self.ideal_components = [i for i, c in enumerate(self.components)
                                  if any(sp in self.ideal_neutral for sp, _ in c.species)]
         self._memo: dict = {}
+        # per neutral and PEG species: (component, stoichiometry) of the one component that brings it, or None
+        self._neutral_owner = [_owner(col) for col in self._S_neutral]
+        self._peg_owner = [_owner(col) for col in self._S_peg]
 
     def memo(self, key: tuple, make: Callable[[], object]) -> object:
         """What ``make()`` returns, made once per key for this model: figures that depend on the components
@@ -261,10 +264,28 @@ class MediumModel:
         mix = self.mixture(species_m, T)
         return ModelState(W, n_all, molality, species_m, mix)
 
+    def solve_row(self, n: np.ndarray, b: np.ndarray) -> ModelState:
+        """One composition, n [mol per m^3 of medium] and b [mol per kg water] (n_comp,), solved at the model's
+        temperature: the state :meth:`solve` gives for the batch of that one row (leading axis 1), with the
+        bookkeeping on one row's arrays (the same elementwise arithmetic; the sums of the volume balance and
+        of the species may differ from the batch's in the last bit)."""
+        W = float(self.water(n, b))
+        molality = n / W + b
+        species_m = molality @ self._S
+        mix = self.mixture(species_m[None, :], self.T)
+        return ModelState(np.array([W]), (molality * W)[None, :], molality[None, :], species_m[None, :], mix)
+
     def mixture(self, species_m: np.ndarray, T: float, *, start: tuple | None = None) -> MixtureResult:
         """ZSR solution for species molalities (B, n_species) [mol/kg] at temperature T [K];
         ``start``: ``MixtureResult.state`` of the same composition (warm start)."""
         species_m = np.atleast_2d(species_m)
+        if species_m.shape[0] == 1:  # one composition: its amounts as Python floats (the same products)
+            sp = species_m[0].tolist()
+            return zsr_osmolality(MixtureInput(
+                self._pitzer, [sp[k] for k in self._ion_idx] if self._ion_idx else None, self._neutral_params,
+                [sp[k] for k in self._neutral_idx], self._peg_grades,
+                [sp[k] * g / 1000.0 for k, g in zip(self._peg_idx, self._peg_grades, strict=True)], float(T)),
+                start=start)
         ion_m = species_m[:, self._ion_idx] if self._ion_idx else None
         neutral_m = species_m[:, self._neutral_idx]
         # PEG: g PEG per g water = molality [mol/kg] * molar mass [g/mol] / 1000
@@ -315,6 +336,46 @@ class MediumModel:
                 tot = part.sum()
                 if tot > 0:
                     share += float(fractions[j]) * y * part / tot
+        return share
+
+    def shares_row(self, state: ModelState, row: int = 0) -> list[float]:
+        """:meth:`shares` of one row of a solved state [osmol/kg], as Python floats: the same arithmetic in
+        the same order (a neutral or PEG species that one component alone brings is split on floats; any
+        other on arrays, as :meth:`shares` does)."""
+        mix = state.mix
+        molality = state.molality[row]
+        y = mix.osmolality[row]
+        nc = molality.shape[0]
+        if self._ion_idx:
+            share = np.zeros(nc)
+            ion_c = (molality[:, None] * self._S_ion).sum(axis=1)
+            tot = ion_c.sum()
+            if tot > 0:
+                share += float(mix.fraction_electrolyte[row]) * y * ion_c / tot
+            share = share.tolist()
+        else:
+            share = [0.0] * nc
+        m = None
+        for fractions, columns, owners in ((mix.fraction_neutral[row], self._S_neutral, self._neutral_owner),
+                                           (mix.fraction_peg[row], self._S_peg, self._peg_owner)):
+            if not columns:
+                continue
+            fl = fractions.tolist()
+            for j, col in enumerate(columns):
+                owner = owners[j]
+                if owner is not None:  # one component brings this species: its share, on floats
+                    i, coeff = owner
+                    if m is None:
+                        m = molality.tolist()
+                    part = m[i] * coeff
+                    if part > 0:
+                        share[i] += fl[j] * float(y) * part / part
+                    continue
+                part = molality * col
+                tot = part.sum()
+                if tot > 0:
+                    add = (fl[j] * y * part / tot).tolist()
+                    share = [a + d for a, d in zip(share, add, strict=True)]
         return share
 
     def ionic_strength(self, state: ModelState) -> np.ndarray:
@@ -398,6 +459,12 @@ class MediumModel:
         """The ZSR residual of this model's media at a known osmolality y [osmol/kg] (see
         :class:`ZSRResidual`)."""
         return ZSRResidual(self, y)
+
+
+def _owner(col: np.ndarray) -> tuple[int, float] | None:
+    """(index, coefficient) of the one nonzero entry of a stoichiometry column, or None (several or none)."""
+    nz = np.flatnonzero(col)
+    return (int(nz[0]), float(col[nz[0]])) if nz.size == 1 else None
 
 
 @dataclass(frozen=True)

@@ -45,6 +45,8 @@ class MixtureInput:
     neutral_m : (B, k) molalities [mol/kg] of the neutral solutes in ``neutral`` order
     peg_c : (B, p) PEG concentrations [g PEG / g water] of the grades in ``peg_grades``
     T : temperature [K]
+
+    One row may give ion_m, neutral_m and peg_c as lists of Python floats (no arrays to make).
     """
 
     pitzer: object | None
@@ -111,7 +113,7 @@ def zsr_osmolality(inp: MixtureInput, *, start: tuple | None = None) -> MixtureR
 
 def _single_row(inp: MixtureInput) -> bool:
     for a in (inp.ion_m, inp.neutral_m, inp.peg_c):
-        if a is not None:
+        if a is not None and type(a) is not list:  # a list: one row of Python floats
             shape = a.shape if isinstance(a, np.ndarray) else np.shape(a)
             if len(shape) == 2 and shape[0] != 1:
                 return False
@@ -237,16 +239,22 @@ def _grouped(neutral: Sequence[NeutralParams], peg_grades: Sequence[int], nm_use
     return groups
 
 
+def _as_row(a) -> list[float]:
+    """One row of amounts as a list of Python floats (a list of floats is taken as it is)."""
+    return a if type(a) is list else np.asarray(a, dtype=float).reshape(-1).tolist()
+
+
 def _one_row(inp: MixtureInput, start: tuple | None) -> _System:
     T = float(inp.T)
     im = None
     if inp.pitzer is not None and inp.ion_m is not None:
-        im = np.asarray(inp.ion_m, dtype=float).reshape(-1)
-    M_e = _in_order(im.tolist()) if im is not None else 0.0
+        im = _as_row(inp.ion_m)
+    M_e = _in_order(im) if im is not None else 0.0
     has_e = M_e > 0
-    nm = np.asarray(inp.neutral_m, dtype=float).reshape(1, -1) if len(inp.neutral) else _NO_COLUMNS
-    pc = np.asarray(inp.peg_c, dtype=float).reshape(1, -1) if len(inp.peg_grades) else _NO_COLUMNS
-    nml, pcl = nm[0].tolist(), pc[0].tolist()
+    nml = _as_row(inp.neutral_m) if len(inp.neutral) else []
+    pcl = _as_row(inp.peg_c) if len(inp.peg_grades) else []
+    nm = np.array([nml]) if nml else _NO_COLUMNS
+    pc = np.array([pcl]) if pcl else _NO_COLUMNS
     groups = _grouped(inp.neutral, inp.peg_grades, [j for j, v in enumerate(nml) if v > 0],
                       [j for j, v in enumerate(pcl) if v > 0])
     for grp in groups:

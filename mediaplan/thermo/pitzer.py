@@ -380,7 +380,7 @@ class PitzerSystem:
         self.b = float(params.b)
         self._a_coeffs = tuple(params.a_phi_coeffs)
         self._a_cache: dict[float, float] = {}    # T [K] -> A_phi, a few temperatures (see _a_phi_scalar)
-        self._row_sums: tuple[bytes, _Parts | None] = (b"", None)   # the last composition's full pass
+        self._row_sums: tuple[tuple, _Parts | None] = ((), None)   # the last composition's full pass
         self._entry_cache: dict[float, list] = {}   # T [K] -> nonzero pair-matrix entries (see _entries)
         zv = np.array(z, dtype=float)
         self.charges = np.array(z, dtype=int)
@@ -607,7 +607,8 @@ class PitzerSystem:
 
         Parameters
         ----------
-        m0 : array (n_ions,) or (B, n_ions), free-ion molalities [mol/kg] in ``self.ions`` order
+        m0 : array (n_ions,) or (B, n_ions), free-ion molalities [mol/kg] in ``self.ions`` order (one row
+            may come as a list of Python floats)
         T : float, temperature [K]
 
         Returns
@@ -623,14 +624,18 @@ class PitzerSystem:
         √I. At t = 1 the result is the full pass's own number (bit for bit); elsewhere it agrees with it
         to rounding (about 1e-15 relative).
         """
-        m0 = self._check(m0)
-        if m0.ndim == 1 and np.ndim(T) == 0:
+        if type(m0) is list and len(m0) == self._n and type(T) is float:
+            row = m0  # one row as Python floats: no array to make
+        else:
+            m0 = self._check(m0)
+            row = m0.tolist() if m0.ndim == 1 and np.ndim(T) == 0 else None
+        if row is not None:
             # the last composition's full pass serves every temperature (a medium at its own temperature,
             # then at 0 °C for the freezing point): one tuple, replaced atomically (safe across threads)
-            key = m0.tobytes()
+            key = tuple(row)
             last_key, sums = self._row_sums
             if last_key != key:
-                sums = _Parts(self, m0.tolist(), T)
+                sums = _Parts(self, row, T)
                 self._row_sums = (key, sums)
             return _Scaled(self, sums, T)
         if m0.ndim == 2 and np.ndim(T) == 0:
@@ -767,7 +772,8 @@ class _Scaled:
         q = parts.q
         T = float(T)
         if T != parts.T and parts.dq is not None:
-            q = (np.array(q) + (system._basis_at(T) - system._basis_at(parts.T)) @ parts.dq).tolist()
+            dq = (system._basis_at(T) - system._basis_at(parts.T)) @ parts.dq
+            q = [a + d for a, d in zip(q, dq.tolist(), strict=True)]  # elementwise: the bits of array + array
         self._row = isinstance(parts.mtot, float)
         self._empty = parts.empty
         row_empty = self._row and self._empty
