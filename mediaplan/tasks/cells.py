@@ -12,10 +12,11 @@ from dataclasses import dataclass, replace
 from typing import Any
 
 from mediaplan.medium.errors import AmountError
-from mediaplan.medium.evaluate import ISOTONIC_TOLERANCE
 from mediaplan.medium.units import parse_fraction, parse_target
 from mediaplan.tasks.records import TableView
-from mediaplan.thermo.potential import osmolality_from_potential
+
+# the engine (evaluate, thermo and numpy) is imported where a figure is computed, not when a plan's [cells]
+# table is read
 
 
 @dataclass(frozen=True, eq=False)
@@ -100,6 +101,8 @@ class ReferenceInForce:
 
 
 def _mosmol(text: str, field: str, T: float) -> float:
+    from mediaplan.thermo.potential import osmolality_from_potential
+
     t = parse_target(str(text), field=field)
     value = t.value * 1000.0 if t.kind == "osmolality" else float(osmolality_from_potential(t.value, T)) * 1000.0
     if value <= 0:
@@ -159,6 +162,8 @@ def cell_tolerance(text: str | None, cells) -> float:
     if text is None and ref is not None and ref.tolerance is not None:
         return parse_fraction(ref.tolerance, field="cells.tolerance", upper=0.5)
     if text is None:
+        from mediaplan.medium.evaluate import ISOTONIC_TOLERANCE
+
         return ISOTONIC_TOLERANCE
     return parse_fraction(text, field="cells.tolerance", upper=0.5)
 

@@ -5,12 +5,13 @@ from __future__ import annotations
 import math
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field, replace
-from typing import Any
-
-import numpy as np
+from typing import TYPE_CHECKING, Any
 
 from mediaplan.medium.errors import FitError
 from mediaplan.tasks.records import TableView
+
+if TYPE_CHECKING:  # numpy is imported where counts are made, not when a plan's [series] table is read
+    import numpy as np
 
 #: name of the level column and of the level key in a plan's series table
 POTENTIAL_COLUMN = "water_potential_mpa"
@@ -30,6 +31,8 @@ class Counts:
     @property
     def n_levels(self) -> int:
         # distinct levels (NaNs as one, as numpy.unique counts them; unique itself would import numpy.ma)
+        import numpy as np
+
         x = np.asarray(self.water_potential_mpa, dtype=float).ravel()
         nan = np.isnan(x)
         v = np.sort(x[~nan])
@@ -146,6 +149,8 @@ def counts_from_series(series: SeriesRecord, *, file: str | None = None,
             xs.append(float(x))
             ys.append(float(y))
             ns.append(float(n))
+    import numpy as np
+
     notes = [f"{skipped} level(s) without counts skipped"] if skipped else []
     counts = Counts(np.array(xs), np.array(ys), np.array(ns), file or "plan", temperature_k, notes)
     check_counts(counts, file)
