@@ -747,10 +747,9 @@ class ZSRTargets:
                 q = start / start.sum()
                 phi = self._phi_star(np.tile(q, (K, 1)), np.arange(K))
                 L += (phi / self.y)[:, None] * tot[None, :]
-                for j in range(4):
-                    if tot[j] > 0:
-                        d = np.abs(ions[j] / tot[j] - q)
-                        same = same and bool(np.all(d <= 1e-15 + 1e-12 * np.abs(q)))
+                has = tot > 0
+                d = np.abs(ions[has] / tot[has, None] - q)
+                same = bool(np.all(d <= 1e-15 + 1e-12 * q))
             else:
                 same = not np.any(tot > 0)
         return LineResidual(*L.T, A, G, C, D), same
@@ -781,9 +780,11 @@ class LineResidual:
         a2 = Q * D - T * G
         a1 = P * D + Q * C + T * A - (R - 1.0) * G
         a0 = P * C + (R - 1.0) * A
-        with np.errstate(divide="ignore", invalid="ignore"):
-            x = 2.0 * (-a0) / (a1 + np.sqrt(a1 * a1 - 4.0 * a2 * a0))
-        return np.where(np.isfinite(x) & (x >= 0), x, np.nan)
+        disc = a1 * a1 - 4.0 * a2 * a0
+        den = a1 + np.sqrt(np.maximum(disc, 0.0))
+        ok = (disc >= 0) & (den > 0)
+        x = np.divide(-2.0 * a0, den, out=np.full(den.shape, np.nan), where=ok)
+        return np.where(x >= 0, x, np.nan)
 
 
 #: up to this many rows of one ion composition, :meth:`ZSRTargets._ion_total` works in plain floats

@@ -183,8 +183,8 @@ def bracketed_roots(f: Callable[[np.ndarray, np.ndarray], np.ndarray], lo, hi, f
 
     Returns
     -------
-    (K,) roots [same unit as x]; NaN for a row whose function stays below 0 up to hi (no root in the
-    bracket).
+    (K,) roots [same unit as x]; NaN for a row whose function does not change sign in its bracket (above 0
+    already at lo, or still below 0 at hi).
     """
     x1 = np.array(lo, dtype=float, ndmin=1)
     x2 = np.array(hi, dtype=float, ndmin=1)
@@ -239,8 +239,8 @@ def bracketed_roots(f: Callable[[np.ndarray, np.ndarray], np.ndarray], lo, hi, f
                 x2[rp], f2[rp] = xp, fp
     tol_abs = xtol * np.maximum(sc, x_floor)
     out = np.where(f1 == 0, x1, x2)
-    out[~(f2 >= 0)] = np.nan  # no root below hi
-    open_ = (f1 != 0) & (f2 != 0) & (f2 >= 0)
+    out[~(f2 >= 0) | ~(f1 <= 0)] = np.nan  # no sign change in the bracket
+    open_ = (f1 < 0) & (f2 > 0)
     if guess is None or window > 0:
         with np.errstate(divide="ignore", invalid="ignore"):
             t = np.where(open_, f1 / (f1 - f2), 0.5)
@@ -313,8 +313,8 @@ def _one_bracketed_root(f, x1: float, x2: float, f1: float | None, f2: float | N
                 x2, f2 = p, v
     if f1 == 0:
         return x1, calls
-    if not f2 >= 0:
-        return math.nan, calls
+    if not f2 >= 0 or not f1 <= 0:
+        return math.nan, calls  # no sign change in the bracket
     if f2 == 0:
         return x2, calls
     if first is not None and window <= 0 and math.isfinite(first) and x2 > x1:

@@ -626,7 +626,7 @@ def solve_target(recipe: Recipe, catalog: Catalog, target: TargetSpec | str, osm
 _ROW0 = np.zeros(1, dtype=int)
 #: half-width [-] of the window tried first around the root of :func:`mediaplan.medium.model.sweep_line`:
 #: by whether the guess is exact (to rounding) or a first approximation (the ion proportions change)
-GUESS_WINDOW = {True: 1e-9, False: 2e-2}
+GUESS_WINDOW = {True: 1e-9, False: 0.1}
 
 
 def _root_below_solubility(sweep: Sweep, f, f0: float, saturating: Sequence[Component]) -> float | None:

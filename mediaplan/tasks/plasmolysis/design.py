@@ -239,7 +239,8 @@ def design_series(background: Recipe, osmoticum: str, potentials_pa: Sequence[fl
     T = mixer.T
     psi = np.asarray(potentials_pa, dtype=float)
     y_target = potential.osmolality_from_potential(psi, T)
-    y_bg = float(mixer.sweep.osmolality(0.0)[0])
+    st_bg = mixer.sweep.state(0.0)
+    y_bg = float(st_bg.mix.osmolality[0])
     psi_bg = float(potential.potential_from_osmolality(y_bg, T))
     above = np.nonzero(y_target <= y_bg)[0]
     if above.size:
@@ -247,8 +248,7 @@ def design_series(background: Recipe, osmoticum: str, potentials_pa: Sequence[fl
         raise InfeasibleError(f"level {i + 1} ({psi[i] / 1e6:.4g} MPa) is not more negative than the background "
                               f"itself ({psi_bg / 1e6:.4g} MPa)", field="series.first",
                               hint="start the series below the background's potential, or dilute the background")
-    _refuse_beyond_solubility(mixer, comp, psi, y_target)
-    n_x, st = _level_amounts(mixer, y_target, psi, comp)
+    n_x, st, targets = _level_amounts(mixer, y_target, psi, comp)
     W, solutes = mixer.water_and_solutes(st)
     M = mixer.model.M[mixer.k]
     vol_l = background.volume_m3 * 1000.0
@@ -271,7 +271,7 @@ def design_series(background: Recipe, osmoticum: str, potentials_pa: Sequence[fl
                           preparation_text=preparation_sentence(preparation, design_background(background),
                                                                 comp.id, f"{vol_l * 1000.0:g} mL"))
     if stock is not None:
-        _add_stock(design, mixer, stock, y_target, vol_l)
+        _add_stock(design, mixer, stock, y_target, vol_l, st_bg, targets)
         _stock_saturation(design, comp, mixer, background)
     design.warnings = _design_warnings(design, comp, mixer)
     return design
@@ -342,8 +342,9 @@ def _stock_saturation(design: SeriesDesign, comp: Component, mixer: _Background,
 
 
 def _level_amounts(mixer: _Background, y_target: np.ndarray, psi: np.ndarray,
-                   comp: Component) -> tuple[np.ndarray, ModelState]:
-    """Osmoticum [mol/m^3] of every level, and the solved medium of each (one batched model call).
+                   comp: Component) -> tuple[np.ndarray, ModelState, ZSRTargets | None]:
+    """Osmoticum [mol/m^3] of every level, the solved medium of each (one batched model call), and the ZSR
+    residual at the levels' osmolalities (None when the forward search found them).
 
     All levels at once: one vectorised root finding (:func:`mediaplan.medium.roots.bracketed_roots`) on the
     ZSR residual at each level's osmolality (:func:`mediaplan.medium.model.sweep_residuals`), started from
@@ -352,26 +353,44 @@ def _level_amounts(mixer: _Background, y_target: np.ndarray, psi: np.ndarray,
     osmoticum and the space the volume leaves. The levels are then solved forward; should any of them not
     come back at its own osmolality (:data:`_FORWARD_CHECK`), or not be reached before the volume runs out,
     the levels are found on the forward model itself (:func:`_level_amounts_forward`), which also words
-    the refusal."""
+    the refusal. A level past the osmoticum's solubility is refused (:func:`_refuse_beyond_solubility`);
+    the solubility limit itself is worked out only when some level's amount passes it."""
     sweep = mixer.sweep
     room = sweep.limit().x * (1.0 - 1e-12)  # a hair inside: a batch sums the volumes in another order
+    n_x = targets = None
     if room > 0:
         f = sweep_residuals(sweep, y_target)
+        targets = f.targets
         line, exact = sweep_line(sweep, f)
         K = y_target.size
         guess = line.root()
         n_x = roots.bracketed_roots(line if exact else f, np.zeros(K), np.full(K, room), first=guess,
                                     window=_GUESS_WINDOW[exact], scale=guess, xtol=_XTOL, rtol=_RTOL, x_floor=1e-9)
-        if np.all(np.isfinite(n_x)):
-            st = sweep.state(n_x)
-            y = st.mix.osmolality
-            if np.all(np.isfinite(y)) and np.all(np.abs(y / y_target - 1.0) <= _FORWARD_CHECK):
-                return n_x, st
-    return _level_amounts_forward(mixer, y_target, psi, comp)
+    found = n_x is not None and bool(np.all(np.isfinite(n_x)))
+    if not found or _past_solubility(mixer, comp, n_x):
+        _refuse_beyond_solubility(mixer, comp, psi, y_target)
+    if found:
+        st = sweep.state(n_x)
+        y = st.mix.osmolality
+        if np.all(np.isfinite(y)) and np.all(np.abs(y / y_target - 1.0) <= _FORWARD_CHECK):
+            return n_x, st, targets
+    return (*_level_amounts_forward(mixer, y_target, psi, comp), None)
+
+
+def _past_solubility(mixer: _Background, comp: Component, n_x: np.ndarray) -> bool:
+    """Whether some level's osmoticum, with every form of its substance in the model (the components
+    :meth:`~mediaplan.medium.model.Sweep.limit` counts), is past its solubility at the series temperature."""
+    capped, _ = comp.soluble_at(mixer.T)
+    m_sat = capped.saturation_molality if capped.solubility is not None else None
+    if m_sat is None:
+        return False
+    comps = mixer.model.components
+    idx = [i for i, cc in enumerate(comps) if (cc.substance == capped.substance if capped.substance else cc is capped)]
+    return bool(idx) and bool(np.any(mixer.sweep.molality(n_x)[:, idx].sum(axis=1) > m_sat))
 
 
 #: half-width [-] of the window tried first around the closed-form root (by whether it is exact)
-_GUESS_WINDOW = {True: 1e-9, False: 2e-2}
+_GUESS_WINDOW = {True: 1e-9, False: 0.1}
 #: how closely [-] each level solved forward must give back its own osmolality (the ZSR residual's root and
 #: the forward ZSR solution agree to about 1e-12; anything wider means the forward model is past its range)
 _FORWARD_CHECK = 1e-8
@@ -400,15 +419,17 @@ def _upper_bound(mixer: _Background, y_max: float, psi: np.ndarray, comp: Compon
 
 
 def _add_stock(design: SeriesDesign, mixer: _Background, stock_text: str, y_target: np.ndarray,
-               vol_l: float) -> None:
-    """Volumes of stock and diluent per level, from the water content of each (not C1V1 = C2V2)."""
+               vol_l: float, st_d: ModelState | None = None, targets: ZSRTargets | None = None) -> None:
+    """Volumes of stock and diluent per level, from the water content of each (not C1V1 = C2V2).
+    ``st_d``: the background solved (the diluent), when already at hand; ``targets``: the ZSR residual at
+    the levels' osmolalities for this model, when already at hand."""
     amt = parse_amount(stock_text, field="series.stock")
     model, k = mixer.model, mixer.k
     n_s, b_s = model.amounts_to_arrays([Amount(0.0, "molar", "0 mM")] * k + [amt])
     n_stock, b_stock = mixer.sweep.n0.copy(), mixer.sweep.b0.copy()
     n_stock[k], b_stock[k] = n_s[k], b_s[k]
     st_s = model.solve(n_stock[None, :], b_stock[None, :])
-    st_d = mixer.sweep.state(0.0)
+    st_d = mixer.sweep.state(0.0) if st_d is None else st_d
     y_s = float(st_s.mix.osmolality[0])
     if not math.isfinite(y_s):  # e.g. an electrolyte background pushed past Pitzer's range by the stock
         raise InfeasibleError(f"the stock ({stock_text}) is past the range of the models: its water potential "
@@ -431,7 +452,7 @@ def _add_stock(design: SeriesDesign, mixer: _Background, stock_text: str, y_targ
         b = (f * c_s + (1 - f) * c_d) / water
         return model.solve(np.zeros_like(b), b), water[:, 0]
 
-    fr, st_m, water = _mixing_fractions(model, c_s, c_d, W_s, W_d, y_target, mix_state)
+    fr, st_m, water = _mixing_fractions(model, c_s, c_d, W_s, W_d, y_target, mix_state, targets)
     # the mixture's own volume per m^3 of (stock + diluent) volumes: water / (water per m^3 of mixture)
     shrink = water / st_m.water_kg_per_m3
     total_ml = vol_l * 1000.0
@@ -448,7 +469,7 @@ def _add_stock(design: SeriesDesign, mixer: _Background, stock_text: str, y_targ
 
 
 def _mixing_fractions(model, c_s: np.ndarray, c_d: np.ndarray, W_s: float, W_d: float, y_target: np.ndarray,
-                      mix_state) -> tuple[np.ndarray, ModelState, np.ndarray]:
+                      mix_state, eq: ZSRTargets | None = None) -> tuple[np.ndarray, ModelState, np.ndarray]:
     """Volume fraction of stock [-] in each level's mixture, with the mixture solved (and its water [kg per
     m^3 of stock and diluent]).
 
@@ -456,7 +477,7 @@ def _mixing_fractions(model, c_s: np.ndarray, c_d: np.ndarray, W_s: float, W_d: 
     vectorised root finding as the levels (:func:`_level_amounts`) on the ZSR residual at each level's
     osmolality, from the closed-form root (exact when stock and diluent hold the ions in the same
     proportions), checked forward; the forward search of before when the check fails."""
-    eq = ZSRTargets(model, y_target)
+    eq = ZSRTargets(model, y_target) if eq is None else eq
     K = y_target.size
     zero = np.zeros_like(c_s)
 
