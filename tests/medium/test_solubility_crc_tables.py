@@ -39,6 +39,7 @@ def g_per_100g(mass_percent: float) -> float:
     ("potassium_dihydrogen_phosphate", 20.0, 18.25),    # KH2PO4, between the J Chem 2018 rows
     ("potassium_nitrate", 30.0, 31.3),                  # KNO3 (replaces a recalled row, same 45.6 g)
     ("sodium_chloride", 0.0, 26.28),                    # NaCl (replaces a recalled row)
+    ("iron_ii_sulfate_heptahydrate", 0.0, 13.5),        # FeSO4 (iron stock; catalog/components/iron.yaml)
 ])
 def test_rows_are_the_handbook_figures(catalog, cid, t_c, mass_percent):
     sat = catalog.components[cid].saturation_at(T0 + t_c)
