@@ -1,7 +1,7 @@
 """Mutation probe of the value tests: does the suite notice a wrong number?
 
 Each mutant changes ONE number of the tree: a parameter of the bundled catalog (Pitzer beta0, beta1, C-phi,
-theta, psi; a Norrish K), a coefficient of the PEG equations, a physical constant or a coefficient of the
+theta, psi, a first temperature derivative; a Norrish K), a coefficient of the PEG equations, a physical constant or a coefficient of the
 water and potential modules, or one amount of a published medium. The change is +5 % by default, and a sign
 slip or a decimal slip (x10) where such a slip is a plausible transcription error. For every mutant the
 script runs a fast subset of the suite (the value tests of that kind of number, listed in SUBSETS) in a
