@@ -27,7 +27,8 @@ idle time; with ``--idle 0`` the first action competes with it. While the action
 records the longest time the event loop did not answer ("loop blocked": keys and paints wait that long).
 Target: no screen takes over 0.2 s to show and the loop is never blocked over 0.2 s; a solve, design or
 fit started before the warm start is done shows "solving..." at once and its answer when ready. To measure
-an older version, run this script with PYTHONPATH pointing at that version's source tree. Prints medians.
+an older version, give ``--source`` that version's source tree (the editable install is then set aside in
+every child). Prints medians.
 """
 
 from __future__ import annotations
@@ -79,9 +80,22 @@ Bare().run()
 """
 
 
+#: the source tree measured (--source; passed to the children in MEDIAPLAN_BENCH_SOURCE); None: the installed one
+SOURCE = os.environ.get("MEDIAPLAN_BENCH_SOURCE") or None
+
+
+def use_source(source: str | None) -> None:
+    """Import mediaplan from ``source`` (a checkout of another version), not from the editable install."""
+    if source:
+        sys.meta_path[:] = [f for f in sys.meta_path if "editable" not in repr(f).lower()]
+        sys.path.insert(0, source)
+
+
 def _open_code(plan: Path) -> str:
     # the app is headless here: the command's check for a terminal is told yes, the rest is the real path
-    return ("import sys; from mediaplan.cli.main import main; import mediaplan.cli.commands.open as o; "
+    prelude = (f"import sys; sys.meta_path[:] = [f for f in sys.meta_path if 'editable' not in repr(f).lower()]; "
+               f"sys.path.insert(0, {SOURCE!r}); ") if SOURCE else ""
+    return (prelude + "import sys; from mediaplan.cli.main import main; import mediaplan.cli.commands.open as o; "
             f"o.has_terminal = lambda: True; sys.exit(main(['open', {str(plan)!r}, '--no-recovery']))")
 
 
@@ -98,11 +112,13 @@ def _child(code: str, env: dict) -> tuple[float, float]:
     return wall, (after.ru_utime - before.ru_utime) + (after.ru_stime - before.ru_stime)
 
 
-def cold_starts(plan: Path, n: int, env: dict) -> dict[str, list[tuple[float, float]]]:
+def cold_starts(plan: Path, n: int, env: dict, *, figures: bool = True) -> dict[str, list[tuple[float, float]]]:
     """Rounds of: the bare app, the app to its first paint, the app to its figures; (wall, cpu) each [s]."""
     kinds = {"bare Textual app": (BARE_APP, {}),
              "first paint": (_open_code(plan), {"MEDIAPLAN_TUI_EXIT_AFTER_PAINT": "1"}),
              "figures shown": (_open_code(plan), {"MEDIAPLAN_TUI_EXIT_AFTER_PAINT": "figures"})}
+    if not figures:
+        del kinds["figures shown"]
     out: dict[str, list[tuple[float, float]]] = {k: [] for k in kinds}
     for code, extra in kinds.values():  # untimed: compiles the bytecode, fills the user's caches
         _child(code, {**env, **extra})
@@ -279,8 +295,15 @@ def main() -> None:
                     help="seconds between the first paint and the first action")
     ap.add_argument("--no-bytecode", action="store_true",
                     help="children compile every module at each start (no bytecode kept)")
+    ap.add_argument("--paint-only", action="store_true",
+                    help="no 'figures shown' starts (versions whose first paint has the figures)")
+    ap.add_argument("--source", help="measure the mediaplan of this source tree (another version's checkout)")
     ap.add_argument("--child-first", nargs=3, metavar=("PLAN", "IDLE", "KIND"), help=argparse.SUPPRESS)
     args = ap.parse_args()
+    global SOURCE
+    if args.source:
+        SOURCE = os.environ["MEDIAPLAN_BENCH_SOURCE"] = str(Path(args.source).resolve())
+    use_source(SOURCE)
     if args.child_first:
         plan, idle, kind = args.child_first
         print(json.dumps(asyncio.run(first_actions(Path(plan), float(idle), kind))))
@@ -296,7 +319,7 @@ def main() -> None:
         os.environ.update({k: env[k] for k in ("MEDIAPLAN_STATE_DIR", "MEDIAPLAN_CONFIG_DIR", "XDG_CACHE_HOME")})
         plan = Path(tmp) / "bench.toml"
         plan.write_text(PLAN)
-        starts = cold_starts(plan, args.starts, env) if args.starts else {}
+        starts = cold_starts(plan, args.starts, env, figures=not args.paint_only) if args.starts else {}
         total, ev_only = asyncio.run(edit_latencies(plan, args.edits)) if args.edits else ([], [])
         firsts = {idle: first_action_runs(plan, args.firsts, idle, env) for idle in args.idle} if args.firsts else {}
     if starts:
