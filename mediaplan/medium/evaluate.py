@@ -125,8 +125,14 @@ def evaluate(recipe: Recipe, catalog: Catalog, *, cell_reference_mosmol: float |
     comps = [ln.component for ln in lines]
     model = compiled(catalog, comps, T)
     n, b = model.amounts_to_arrays([ln.amount for ln in lines])
-    check_plausible(lines, molality_of(model, lines, n, b), catalog.pitzer)
-    st = model.solve_row(n, b)
+    try:
+        W = float(model.water(n, b))
+    except MediaplanError:
+        molality_of(model, lines, n, b)  # the error that names the line taking the most volume
+        raise
+    molality = n / W + b  # what molality_of gives (MediumModel.molality)
+    check_plausible(lines, molality, catalog.pitzer)
+    st = model.solve_row(n, b, W=W, molality=molality)
     mix = st.mix
     y = float(mix.osmolality[0])
     ideal = float(mix.ideal[0])
@@ -138,7 +144,6 @@ def evaluate(recipe: Recipe, catalog: Catalog, *, cell_reference_mosmol: float |
     aw0 = float(potential.water_activity(y0))
     theta = float(potential.freezing_point_depression(aw0))
     psi = float(potential.potential_from_aw(aw, T))
-    W = float(st.water_kg_per_m3[0])
     n_all = st.n_per_m3[0]
     osmolarity = float(n_all @ model.particles)  # ideal osmol per m^3 of medium
     vh = float(potential.vant_hoff_potential(osmolarity, T))

@@ -108,6 +108,7 @@ class MediumModel:
                 S[i, species.index(sp)] += n
         self._S = S
         self.M = np.array([(c.molar_mass or 0.0) / 1000.0 for c in self.components])  # kg/mol as sold
+        self._M_list = self.M.tolist()
         self.M_anh = np.array([(c.anhydrous_molar_mass or 0.0) / 1000.0 for c in self.components])
         self.hydrate = np.array([c.hydrate_water for c in self.components])
         self.rho_liquid = np.array([(c.density or 0.0) * 1000.0 for c in self.components])
@@ -180,10 +181,10 @@ class MediumModel:
     # ---- amounts -> moles -------------------------------------------------------------------
     def amounts_to_arrays(self, amounts: Sequence) -> tuple[np.ndarray, np.ndarray]:
         """Per component: (n [mol per m^3 medium], b [mol per kg water]) from Amount objects."""
-        n = np.zeros(len(self.components))
-        b = np.zeros(len(self.components))
+        n = [0.0] * len(self.components)
+        b = [0.0] * len(self.components)
         for i, (c, a) in enumerate(zip(self.components, amounts, strict=True)):
-            M = self.M[i]
+            M = self._M_list[i]
             if a.kind in ("mass_conc", "mass_per_water", "vol_frac") and M <= 0:
                 if not c.species:
                     continue  # agar, charcoal: no solutes
@@ -196,12 +197,12 @@ class MediumModel:
                 if self.rho_liquid[i] <= 0:
                     raise MediaplanError(f"{c.id}: a volume fraction needs the liquid's density",
                                          hint="give a mass or molar amount, or add density to its catalog entry")
-                n[i] = a.value * self.rho_liquid[i] / M
+                n[i] = a.value * float(self.rho_liquid[i]) / M
             elif a.kind == "molal":
                 b[i] = a.value
             elif a.kind == "mass_per_water":
                 b[i] = a.value / M
-        return n, b
+        return np.array(n), np.array(b)
 
     # ---- the volume balance -----------------------------------------------------------------
     def free_volume(self, n: np.ndarray) -> np.ndarray:
@@ -220,7 +221,7 @@ class MediumModel:
         """
         n, b = np.asarray(n, dtype=float), np.asarray(b, dtype=float)
         free = 1.0 - n @ self.v
-        if np.any(free < MIN_FREE_VOLUME):
+        if (free < MIN_FREE_VOLUME) if n.ndim == 1 else np.any(free < MIN_FREE_VOLUME):
             raise MediaplanError("the solutes would fill the whole volume: no water left",
                                  hint="check the amounts and their units")
         rho_w = self.rho_w if T is None or float(T) == self.T else float(water.density(float(T)))
@@ -264,13 +265,16 @@ class MediumModel:
         mix = self.mixture(species_m, T)
         return ModelState(W, n_all, molality, species_m, mix)
 
-    def solve_row(self, n: np.ndarray, b: np.ndarray) -> ModelState:
+    def solve_row(self, n: np.ndarray, b: np.ndarray, *, W: float | None = None,
+                  molality: np.ndarray | None = None) -> ModelState:
         """One composition, n [mol per m^3 of medium] and b [mol per kg water] (n_comp,), solved at the model's
         temperature: the state :meth:`solve` gives for the batch of that one row (leading axis 1), with the
         bookkeeping on one row's arrays (the same elementwise arithmetic; the sums of the volume balance and
-        of the species may differ from the batch's in the last bit)."""
-        W = float(self.water(n, b))
-        molality = n / W + b
+        of the species may differ from the batch's in the last bit). W [kg water per m^3] and the molalities
+        [mol/kg], when the caller has them (from :meth:`water`), are not computed again."""
+        if W is None or molality is None:
+            W = float(self.water(n, b))
+            molality = n / W + b
         species_m = molality @ self._S
         mix = self.mixture(species_m[None, :], self.T)
         return ModelState(np.array([W]), (molality * W)[None, :], molality[None, :], species_m[None, :], mix)

@@ -309,7 +309,7 @@ def _within_limits(lines: list[Line], molality, pitzer) -> bool:
         if len(_LIMITS) >= 64:
             _LIMITS.clear()
         _LIMITS[key] = got
-    m = [float(x) for x in molality]
+    m = molality.tolist() if hasattr(molality, "tolist") else [float(x) for x in molality]
     for x in m:
         if not (x >= 0 and math.isfinite(x)):
             return False
