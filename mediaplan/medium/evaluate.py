@@ -131,7 +131,7 @@ def evaluate(recipe: Recipe, catalog: Catalog, *, cell_reference_mosmol: float |
         molality_of(model, lines, n, b)  # the error that names the line taking the most volume
         raise
     molality = n / W + b  # what molality_of gives (MediumModel.molality)
-    check_plausible(lines, molality, catalog.pitzer)
+    check_plausible(lines, molality, catalog.pitzer, model=model)
     st = model.solve_row(n, b, W=W, molality=molality)
     mix = st.mix
     y = float(mix.osmolality[0])

@@ -164,6 +164,9 @@ class MediumModel:
         self._memo: dict = {}
         # per neutral and PEG species: (component, stoichiometry) of the one component that brings it, or None
         self._neutral_owner = [_owner(col) for col in self._S_neutral]
+        # per component: its ions' stoichiometry, the nonzero entries and the whole row (see shares_row)
+        self._S_ion_rows = self._S_ion.tolist()
+        self._ion_terms = [[v for v in row if v != 0.0] for row in self._S_ion_rows]
         self._peg_owner = [_owner(col) for col in self._S_peg]
 
     def memo(self, key: tuple, make: Callable[[], object]) -> object:
@@ -350,16 +353,23 @@ class MediumModel:
         molality = state.molality[row]
         y = mix.osmolality[row]
         nc = molality.shape[0]
+        m = molality.tolist()
+        share = [0.0] * nc
         if self._ion_idx:
-            share = np.zeros(nc)
-            ion_c = (molality[:, None] * self._S_ion).sum(axis=1)
-            tot = ion_c.sum()
+            # Σ_k m_i S_ik per component, then over the components, summed as numpy sums (pairwise_sum)
+            ion_c = []
+            for mi, terms in zip(m, self._ion_terms, strict=True):
+                if len(terms) <= 2:  # zeros add exactly, so two terms give the same bits in any order
+                    acc = 0.0
+                    for s_ik in terms:
+                        acc += mi * s_ik
+                else:
+                    acc = pairwise_sum([mi * s_ik for s_ik in self._S_ion_rows[len(ion_c)]])
+                ion_c.append(acc)
+            tot = pairwise_sum(ion_c)
             if tot > 0:
-                share += float(mix.fraction_electrolyte[row]) * y * ion_c / tot
-            share = share.tolist()
-        else:
-            share = [0.0] * nc
-        m = None
+                fy = float(mix.fraction_electrolyte[row]) * float(y)
+                share = [fy * c / tot for c in ion_c]
         for fractions, columns, owners in ((mix.fraction_neutral[row], self._S_neutral, self._neutral_owner),
                                            (mix.fraction_peg[row], self._S_peg, self._peg_owner)):
             if not columns:
@@ -369,8 +379,6 @@ class MediumModel:
                 owner = owners[j]
                 if owner is not None:  # one component brings this species: its share, on floats
                     i, coeff = owner
-                    if m is None:
-                        m = molality.tolist()
                     part = m[i] * coeff
                     if part > 0:
                         share[i] += fl[j] * float(y) * part / part
@@ -463,6 +471,31 @@ class MediumModel:
         """The ZSR residual of this model's media at a known osmolality y [osmol/kg] (see
         :class:`ZSRResidual`)."""
         return ZSRResidual(self, y)
+
+
+def pairwise_sum(values: list[float]) -> float:
+    """Σ values as numpy sums a 1-D float64 array (its pairwise summation: eight running sums for 8 to 128
+    terms, halves above), so that one row on Python floats gives the bits of the same row on arrays."""
+    n = len(values)
+    if n < 8:
+        acc = 0.0
+        for v in values:
+            acc += v
+        return acc
+    if n > 128:
+        half = n // 2
+        half -= half % 8
+        return pairwise_sum(values[:half]) + pairwise_sum(values[half:])
+    r = values[:8]
+    i = 8
+    stop = n - n % 8
+    while i < stop:
+        r = [r[j] + values[i + j] for j in range(8)]
+        i += 8
+    acc = ((r[0] + r[1]) + (r[2] + r[3])) + ((r[4] + r[5]) + (r[6] + r[7]))
+    for v in values[i:]:
+        acc += v
+    return acc
 
 
 def _owner(col: np.ndarray) -> tuple[int, float] | None:

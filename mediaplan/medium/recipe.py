@@ -242,7 +242,7 @@ class Recipe:
 _BASE_LINES: dict[tuple, tuple] = {}
 
 
-def check_plausible(lines: list[Line], molality, pitzer=None) -> None:
+def check_plausible(lines: list[Line], molality, pitzer=None, *, model=None) -> None:
     """Refuse amounts no medium can hold, before any model is asked about them.
 
     Parameters
@@ -250,6 +250,8 @@ def check_plausible(lines: list[Line], molality, pitzer=None) -> None:
     lines : the effective recipe (:meth:`Recipe.lines`)
     molality : molality of each line's component [mol/kg water], same order
     pitzer : the catalog's Pitzer parameters (``Catalog.pitzer``), for the range of each salt's own pair
+    model : the compiled model of these lines (:func:`~mediaplan.medium.model.compiled`), when the caller has
+        it: the limits are then kept with it
 
     Raises
     ------
@@ -258,7 +260,7 @@ def check_plausible(lines: list[Line], molality, pitzer=None) -> None:
     25 °C solubility (:attr:`Component.saturation_molality`), or past :data:`PLAUSIBLE_MAX_MOLALITY` without
     a solubility, or when a molality is not a finite number.
     """
-    if _within_limits(lines, molality, pitzer):
+    if _within_limits(lines, molality, pitzer, model):
         return
     total: dict[str, float] = {}
     first: dict[str, Line] = {}
@@ -299,16 +301,21 @@ def check_plausible(lines: list[Line], molality, pitzer=None) -> None:
 _LIMITS: dict[tuple, tuple] = {}
 
 
-def _within_limits(lines: list[Line], molality, pitzer) -> bool:
+def _within_limits(lines: list[Line], molality, pitzer, model=None) -> bool:
     """True when every molality is finite and no substance reaches its limit: the answer of
     :func:`check_plausible` without building its messages (False: let it look, and say what is wrong)."""
-    key = tuple((ln.component.id, ln.component.digest, ln.origin == "base") for ln in lines)
-    got = _LIMITS.get(key)
-    if got is None or got[0] is not pitzer:  # the parameters object is kept: its id cannot be reused
-        got = (pitzer, _limits(lines, pitzer))
-        if len(_LIMITS) >= 64:
-            _LIMITS.clear()
-        _LIMITS[key] = got
+    if model is not None and model.catalog.pitzer is pitzer and len(model.components) == len(lines):
+        # the model fixes the components (ids and digests) and the parameters: only the origins can differ
+        got = model.memo(("plausible", tuple(ln.origin == "base" for ln in lines)),
+                         lambda: (pitzer, _limits(lines, pitzer)))
+    else:
+        key = tuple((ln.component.id, ln.component.digest, ln.origin == "base") for ln in lines)
+        got = _LIMITS.get(key)
+        if got is None or got[0] is not pitzer:  # the parameters object is kept: its id cannot be reused
+            got = (pitzer, _limits(lines, pitzer))
+            if len(_LIMITS) >= 64:
+                _LIMITS.clear()
+            _LIMITS[key] = got
     m = molality.tolist() if hasattr(molality, "tolist") else [float(x) for x in molality]
     for x in m:
         if not (x >= 0 and math.isfinite(x)):

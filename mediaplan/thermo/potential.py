@@ -24,6 +24,8 @@ _FP_B = 4.8e-6
 
 def water_activity(osmolality):
     """a_w [-] from osmolality [osmol/kg]."""
+    if type(osmolality) is float:  # one figure: numpy's exp of it, without making an array first
+        return np.exp(-M_WATER * osmolality)
     return np.exp(-M_WATER * np.asarray(osmolality, dtype=float))
 
 
@@ -34,7 +36,7 @@ def osmolality_from_aw(aw):
 
 def potential_from_aw(aw, T):
     """Water (solute) potential psi_s [Pa] = R T / V_w(T) * ln a_w; T [K]."""
-    return R * T / water.molar_volume(T) * np.log(np.asarray(aw, dtype=float))
+    return R * T / water.molar_volume(T) * np.log(aw if type(aw) is float else np.asarray(aw, dtype=float))
 
 
 def potential_from_osmolality(osmolality, T):
@@ -49,15 +51,19 @@ def osmolality_from_potential(psi, T):
 
 def vant_hoff_potential(osmolarity, T):
     """The van't Hoff potential -c R T [Pa] of an ideal solution; osmolarity c [osmol/m^3]."""
+    if type(osmolarity) is float:
+        return -osmolarity * R * T
     return -np.asarray(osmolarity, dtype=float) * R * T
 
 
 def freezing_point_depression(aw_at_freezing):
     """θ [K] from the water activity at the freezing point (positive root of the quadratic)."""
-    L = -np.log(np.asarray(aw_at_freezing, dtype=float))
+    L = -np.log(aw_at_freezing if type(aw_at_freezing) is float else np.asarray(aw_at_freezing, dtype=float))
     return (-_FP_A + np.sqrt(_FP_A**2 + 4 * _FP_B * L)) / (2 * _FP_B)
 
 
 def osmometer_reading(theta):
     """Osmolality [osmol/kg] a freezing-point osmometer displays for a depression θ [K]."""
+    if type(theta) is float:
+        return theta / K_F_OSMOMETER
     return np.asarray(theta, dtype=float) / K_F_OSMOMETER
