@@ -287,7 +287,9 @@ def _batch(inp: MixtureInput) -> _System:
     pc = np.atleast_2d(np.asarray(inp.peg_c, dtype=float)) if len(inp.peg_grades) else None
     im = (np.atleast_2d(np.asarray(inp.ion_m, dtype=float))
           if inp.pitzer is not None and inp.ion_m is not None else None)
-    B = next(a.shape[0] for a in (im, nm, pc, np.zeros((1, 0))) if a is not None)
+    # rows: from the groups' arrays, else from whatever was given (a medium of no solutes: columns of none)
+    given = [np.shape(a)[0] for a in (inp.ion_m, inp.neutral_m, inp.peg_c) if a is not None and np.ndim(a) == 2]
+    B = next((a.shape[0] for a in (im, nm, pc) if a is not None), given[0] if given else 1)
     nm = np.zeros((B, 0)) if nm is None else nm
     pc = np.zeros((B, 0)) if pc is None else pc
     M_e = _in_order(list(im.T)) if im is not None else np.zeros(B)
