@@ -707,10 +707,13 @@ class ZSRTargets:
         """φ of the electrolyte group alone at osmolality y of each row, at ion proportions q (k, n_ions)."""
         known = self._q[rows]
         stale = ~np.all(np.abs(q - known) <= 1e-15 + 1e-12 * np.abs(known), axis=1)
+        phi = self._phi[rows]
         if np.any(stale):
             r, qs = rows[stale], q[stale]
-            self._q[r], self._phi[r] = qs, self.y[r] / self._ion_total(self.y[r], qs)
-        return self._phi[rows]
+            phi[stale] = self.y[r] / self._ion_total(self.y[r], qs)
+            # remembered per row (a row given twice with different proportions keeps the last)
+            self._q[r], self._phi[r] = qs, phi[stale]
+        return phi
 
     def _ion_total(self, y: np.ndarray, q: np.ndarray) -> np.ndarray:
         """Total ion molality t [mol/kg] with t·φ(t·q) = y [osmol/kg] for each row (q: proportions): secant

@@ -155,6 +155,11 @@ def increasing_roots(f_batch: Callable[[np.ndarray], np.ndarray], targets: np.nd
 MAX_STEPS = 100
 #: up to this many rows :func:`bracketed_roots` works row by row in plain floats
 FLOAT_ROWS = 4
+#: the batched paths of the solver and the designer run under these numpy error settings and treat any
+#: floating-point trouble (amounts so large they overflow...) as "not settled here": the scalar path of
+#: before then answers, or refuses, as it always did
+FAST_PATH_ERRORS = {"over": "raise", "invalid": "raise", "divide": "raise"}
+FAST_PATH_FAILURES = (FloatingPointError, OverflowError, ZeroDivisionError)
 
 
 def bracketed_roots(f: Callable[[np.ndarray, np.ndarray], np.ndarray], lo, hi, f_lo=None, f_hi=None, *,

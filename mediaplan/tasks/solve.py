@@ -642,14 +642,19 @@ def _root_below_solubility(sweep: Sweep, f, f0: float, saturating: Sequence[Comp
     room = sweep.limit().x * (1.0 - 1e-12)
     if room <= 0:
         return None
-    line, exact = sweep_line(sweep, f)
-    guess = line.root()
-    # along a line whose ion proportions stay put the residual is the line's closed form (plain numbers)
-    x = float(roots.bracketed_roots(line if exact else f, np.zeros(1), np.array([room]), np.array([f0]), None,
-                                    first=guess, window=GUESS_WINDOW[exact], scale=guess)[0])
-    if not math.isfinite(x) or _past_solubility(sweep, x, saturating):
+    try:
+        with np.errstate(**roots.FAST_PATH_ERRORS):
+            line, exact = sweep_line(sweep, f)
+            guess = line.root()
+            # along a line whose ion proportions stay put the residual is the line's closed form (plain numbers)
+            x = float(roots.bracketed_roots(line if exact else f, np.zeros(1), np.array([room]), np.array([f0]),
+                                            None, first=guess, window=GUESS_WINDOW[exact], scale=guess)[0])
+            if not math.isfinite(x) or _past_solubility(sweep, x, saturating):
+                return None
+    except roots.FAST_PATH_FAILURES:
         return None
     return x
+
 
 
 def _added(recipe: Recipe, catalog: Catalog, s: _Setup, new: Recipe, ev_of, held: dict[str, str],
@@ -690,23 +695,28 @@ def additions_at(recipe: Recipe, catalog: Catalog, osmotica: Sequence[str], ys: 
     room = sweep.limit().x * (1.0 - 1e-12)
     if not room > 0:
         return out
-    f = sweep_residuals(sweep, np.asarray(ys, dtype=float))
-    f0 = f(np.zeros(K), np.arange(K))
-    todo = np.nonzero(f0 <= -1e-9)[0]  # the others: on target, or to be lowered or diluted
-    if todo.size == 0:
-        return out
-    line, exact = sweep_line(sweep, f)
-    guess = line.root()[todo]
-    fun = line if exact else f
-    x = roots.bracketed_roots(lambda xx, rows: fun(xx, todo[rows]), np.zeros(todo.size), np.full(todo.size, room),
-                              f0[todo], None, first=guess, window=GUESS_WINDOW[exact], scale=guess)
     T_sol, _ = _solubility_temperature(recipe)
     saturating = [c.soluble_at(T_sol)[0] for c in s.free]
+    try:
+        with np.errstate(**roots.FAST_PATH_ERRORS):
+            f = sweep_residuals(sweep, np.asarray(ys, dtype=float))
+            f0 = f(np.zeros(K), np.arange(K))
+            todo = np.nonzero(f0 <= -1e-9)[0]  # the others: on target, or to be lowered or diluted
+            if todo.size == 0:
+                return out
+            line, exact = sweep_line(sweep, f)
+            guess = line.root()[todo]
+            fun = line if exact else f
+            x = roots.bracketed_roots(lambda xx, rows: fun(xx, todo[rows]), np.zeros(todo.size),
+                                      np.full(todo.size, room), f0[todo], None, first=guess,
+                                      window=GUESS_WINDOW[exact], scale=guess)
+            found = [(i, xi) for i, xi in zip(todo.tolist(), x.tolist(), strict=True)
+                     if math.isfinite(xi) and not _past_solubility(sweep, xi, saturating)]
+    except roots.FAST_PATH_FAILURES:
+        return out
     before = _molarities(recipe, catalog) if held or any(c.id in s.line_ids for c in s.free) else {}
     ids = {c.id for c in s.free}
-    for i, xi in zip(todo.tolist(), x.tolist(), strict=True):
-        if not math.isfinite(xi) or _past_solubility(sweep, xi, saturating):
-            continue
+    for i, xi in found:
         g1 = _grams_per_litre(s.path.build(xi, True), catalog, ids)
         out[i] = {c.id: g1.get(c.id, 0.0) - before.get(c.id, (0.0, 0.0))[1] for c in s.free}
     return out

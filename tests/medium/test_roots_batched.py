@@ -145,3 +145,14 @@ def test_targets_reused_for_a_second_line_of_the_same_ions(ms_sweeps):
     first = eq(m)
     assert np.array_equal(eq(m), first)
     assert math.isfinite(float(first.sum()))
+
+
+def test_one_target_asked_at_several_compositions_in_one_call(ms_sweeps):
+    """A row given more than once in one call (the finder's first call tries a window around its guess):
+    each composition gets its own electrolyte phi, as when asked alone. With KCl added, the ion
+    proportions differ from point to point."""
+    sweep = ms_sweeps["KCl"]
+    xs = np.array([50.0, 200.0, 400.0])  # mol/m^3 of KCl (made-up points)
+    together = ZSRTargets(sweep.model, [0.6])(sweep.molality(xs), np.zeros(3, dtype=int))  # 0.6 osmol/kg (common practice)
+    alone = [ZSRTargets(sweep.model, [0.6])(sweep.molality(np.array([x])))[0] for x in xs]
+    np.testing.assert_allclose(together, alone, rtol=1e-13)

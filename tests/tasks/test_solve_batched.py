@@ -97,6 +97,7 @@ def _close(a, b, path=""):
     ("b5_15C", ["peg8000"], "isotonic+10%", {"cell_reference_mosmol": 450.0}),  # a cell sap of 450 mOsm/kg (from memory)
     ("ms_sucrose", ["sucrose", "mannitol"], "-1.2 MPa", {"hold": {"sucrose": "20 g/L"}}),
     ("water", ["sorbitol", "mannitol"], "-0.9 MPa", {"ratio": [1, 1]}),
+    ("kno3_4C", ["KCl"], "-1.8 MPa", {}),  # the ions' proportions change along the sweep
 ])
 def test_whole_answer_and_its_range_equal_the_scalar_path(catalog, monkeypatch, medium, osmotica, target, kw):
     """The solution (JSON) and the range of its addition, now and with the root of before (Brent's method

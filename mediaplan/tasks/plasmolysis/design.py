@@ -358,16 +358,23 @@ def _level_amounts(mixer: _Background, y_target: np.ndarray, psi: np.ndarray,
     sweep = mixer.sweep
     room = sweep.limit().x * (1.0 - 1e-12)  # a hair inside: a batch sums the volumes in another order
     n_x = targets = None
+    past = found = False
     if room > 0:
-        f = sweep_residuals(sweep, y_target)
-        targets = f.targets
-        line, exact = sweep_line(sweep, f)
-        K = y_target.size
-        guess = line.root()
-        n_x = roots.bracketed_roots(line if exact else f, np.zeros(K), np.full(K, room), first=guess,
-                                    window=_GUESS_WINDOW[exact], scale=guess, xtol=_XTOL, rtol=_RTOL, x_floor=1e-9)
-    found = n_x is not None and bool(np.all(np.isfinite(n_x)))
-    if not found or _past_solubility(mixer, comp, n_x):
+        try:
+            with np.errstate(**roots.FAST_PATH_ERRORS):
+                f = sweep_residuals(sweep, y_target)
+                line, exact = sweep_line(sweep, f)
+                K = y_target.size
+                guess = line.root()
+                n_x = roots.bracketed_roots(line if exact else f, np.zeros(K), np.full(K, room), first=guess,
+                                            window=_GUESS_WINDOW[exact], scale=guess, xtol=_XTOL, rtol=_RTOL,
+                                            x_floor=1e-9)
+                found = bool(np.all(np.isfinite(n_x)))
+                past = found and _past_solubility(mixer, comp, n_x)
+                targets = f.targets
+        except roots.FAST_PATH_FAILURES:
+            found = False
+    if not found or past:
         _refuse_beyond_solubility(mixer, comp, psi, y_target)
     if found:
         st = sweep.state(n_x)
@@ -485,10 +492,15 @@ def _mixing_fractions(model, c_s: np.ndarray, c_d: np.ndarray, W_s: float, W_d: 
         f = np.asarray(f, dtype=float)[:, None]
         return eq((f * c_s + (1 - f) * c_d) / (f * W_s + (1 - f) * W_d), rows)
 
-    line, exact = eq.along(c_d, c_s - c_d, zero, zero, W_d, -(W_s - W_d), 1.0, 0.0)
-    guess = line.root()
-    fr = roots.bracketed_roots(line if exact else f_rows, np.zeros(K), np.ones(K), first=guess,
-                               window=_GUESS_WINDOW[exact], scale=guess, xtol=_XTOL, rtol=_RTOL, x_floor=1e-9)
+    try:
+        with np.errstate(**roots.FAST_PATH_ERRORS):
+            line, exact = eq.along(c_d, c_s - c_d, zero, zero, W_d, -(W_s - W_d), 1.0, 0.0)
+            guess = line.root()
+            fr = roots.bracketed_roots(line if exact else f_rows, np.zeros(K), np.ones(K), first=guess,
+                                       window=_GUESS_WINDOW[exact], scale=guess, xtol=_XTOL, rtol=_RTOL,
+                                       x_floor=1e-9)
+    except roots.FAST_PATH_FAILURES:
+        fr = np.full(K, np.nan)
     if np.all(np.isfinite(fr)):
         st_m, water = mix_state(fr)
         y = st_m.mix.osmolality
