@@ -91,6 +91,14 @@ class Evaluation:
         return finite(d)
 
 
+def _component_rows(comps) -> list[tuple]:
+    """Per component, what its row of an evaluation takes from the catalog: id, name, formula, group,
+    hazard, reflection coefficient, the σ its share is weighted by (1 without one) and its group's label."""
+    return [(c.id, c.name, c.formula, c.group, c.hazard, c.reflection_coefficient,
+             c.reflection_coefficient if c.reflection_coefficient is not None else 1.0,
+             GROUP_LABELS.get(c.group, c.group)) for c in comps]
+
+
 def tidy_volume_l(v: float) -> float:
     """A batch volume [L] as output, to 12 significant digits: a typed volume ("2 L", "250 mL") has far
     fewer, and the litre's conversion factor, (0.1 m)³, leaves noise in the 16th (2 L -> 2.0000000000000004).
@@ -155,20 +163,19 @@ def evaluate(recipe: Recipe, catalog: Catalog, *, cell_reference_mosmol: float |
     groups: dict[str, float] = {}
     eff = 0.0
     new_result = ComponentResult.__new__
-    for i, ln in enumerate(lines):
-        c = ln.component
+    for i, (ln, (cid, name, formula, group, hazard, refl, sigma, label)) in enumerate(
+            zip(lines, model.memo(("component_rows",), lambda: _component_rows(comps)), strict=True)):
         sh = share_abs[i]
-        sigma = c.reflection_coefficient if c.reflection_coefficient is not None else 1.0
         eff += sigma * sh
-        label = GROUP_LABELS.get(c.group, c.group)
         groups[label] = groups.get(label, 0.0) + sh * 1000.0
         r = new_result(ComponentResult)  # the fields set directly; the amount's text when first read
-        r.__dict__.update(
-            id=c.id, name=c.name, formula=c.formula, group=c.group, _amount_of=ln.amount, origin=ln.origin,
-            confidence=ln.confidence, molarity_mmol_per_l=n_list[i], molality_mmol_per_kg=molality[i] * 1000,
-            osmolality_mosmol_per_kg=sh * 1000.0, osmolality_ideal_mosmol_per_kg=molality[i] * particles[i] * 1000,
-            share=sh / y if y > 0 else 0.0, grams_per_litre=n_list[i] * molar_mass[i], hazard=c.hazard,
-            reflection_coefficient=c.reflection_coefficient)
+        r.__dict__ = {
+            "id": cid, "name": name, "formula": formula, "group": group, "_amount_of": ln.amount,
+            "origin": ln.origin, "confidence": ln.confidence, "molarity_mmol_per_l": n_list[i],
+            "molality_mmol_per_kg": molality[i] * 1000, "osmolality_mosmol_per_kg": sh * 1000.0,
+            "osmolality_ideal_mosmol_per_kg": molality[i] * particles[i] * 1000,
+            "share": sh / y if y > 0 else 0.0, "grams_per_litre": n_list[i] * molar_mass[i], "hazard": hazard,
+            "reflection_coefficient": refl}
         results.append(r)
     ion_I = float(model.ionic_strength(st)[0])
     solute_mass = float(n_all @ model.M_anh)  # kg anhydrous solute per m^3

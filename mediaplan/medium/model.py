@@ -33,7 +33,14 @@ from mediaplan.thermo import neutral as _neutral
 from mediaplan.thermo import peg as _peg
 from mediaplan.thermo import water
 from mediaplan.thermo.ions import parse_species
-from mediaplan.thermo.mixing import MixingSpan, MixtureInput, MixtureResult, mixing_span, zsr_osmolality
+from mediaplan.thermo.mixing import (
+    MixingSpan,
+    MixtureInput,
+    MixtureResult,
+    mixing_span,
+    pairwise_sum,
+    zsr_osmolality,
+)
 from mediaplan.thermo.params import NeutralParams
 from mediaplan.thermo.potential import potential_from_osmolality
 
@@ -471,31 +478,6 @@ class MediumModel:
         """The ZSR residual of this model's media at a known osmolality y [osmol/kg] (see
         :class:`ZSRResidual`)."""
         return ZSRResidual(self, y)
-
-
-def pairwise_sum(values: list[float]) -> float:
-    """Σ values as numpy sums a 1-D float64 array (its pairwise summation: eight running sums for 8 to 128
-    terms, halves above), so that one row on Python floats gives the bits of the same row on arrays."""
-    n = len(values)
-    if n < 8:
-        acc = 0.0
-        for v in values:
-            acc += v
-        return acc
-    if n > 128:
-        half = n // 2
-        half -= half % 8
-        return pairwise_sum(values[:half]) + pairwise_sum(values[half:])
-    r = values[:8]
-    i = 8
-    stop = n - n % 8
-    while i < stop:
-        r = [r[j] + values[i + j] for j in range(8)]
-        i += 8
-    acc = ((r[0] + r[1]) + (r[2] + r[3])) + ((r[4] + r[5]) + (r[6] + r[7]))
-    for v in values[i:]:
-        acc += v
-    return acc
 
 
 def _owner(col: np.ndarray) -> tuple[int, float] | None:

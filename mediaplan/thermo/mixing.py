@@ -180,6 +180,31 @@ _ARRAYS = _Ops(where=np.where, maximum=np.maximum, clip=np.clip, abs=np.abs, log
                worst=lambda a: float(np.max(a)) if np.size(a) else 0.0, peg=_peg_array)
 
 
+def pairwise_sum(values: list[float]) -> float:
+    """Σ values as numpy sums a 1-D float64 array (its pairwise summation: eight running sums for 8 to 128
+    terms, halves above), so that one row on Python floats gives the bits of the same row on arrays."""
+    n = len(values)
+    if n < 8:
+        acc = 0.0
+        for v in values:
+            acc += v
+        return acc
+    if n > 128:
+        half = n // 2
+        half -= half % 8
+        return pairwise_sum(values[:half]) + pairwise_sum(values[half:])
+    r = values[:8]
+    i = 8
+    stop = n - n % 8
+    while i < stop:
+        r = [r[j] + values[i + j] for j in range(8)]
+        i += 8
+    acc = ((r[0] + r[1]) + (r[2] + r[3])) + ((r[4] + r[5]) + (r[6] + r[7]))
+    for v in values[i:]:
+        acc += v
+    return acc
+
+
 # ---- the system ---------------------------------------------------------------------------------
 #: one row of no columns (a medium without neutral solutes or without PEG); read-only, so it can be shared
 _NO_COLUMNS = np.zeros((1, 0))
@@ -218,8 +243,8 @@ class _System:
     phi_at: Callable | None  # scale [-] -> Pitzer φ of the medium's own ion molalities times the scale
     electrolytes: bool  # the Pitzer step runs at all
     groups: list[_Group]
-    neutral_m: np.ndarray  # (B, k) [mol/kg]
-    peg_c: np.ndarray  # (B, p) [g/g water]
+    neutral_m: np.ndarray  # (B, k) [mol/kg] (one row: no columns; its amounts are neutral_list)
+    peg_c: np.ndarray  # (B, p) [g/g water] (one row: no columns; its amounts are peg_list)
     peg_grades: Sequence[int]
     warm: bool  # restart from ``start``
     neutral_list: list[float] | None  # one row: neutral_m[0] and peg_c[0] as Python floats
@@ -253,8 +278,7 @@ def _one_row(inp: MixtureInput, start: tuple | None) -> _System:
     has_e = M_e > 0
     nml = _as_row(inp.neutral_m) if len(inp.neutral) else []
     pcl = _as_row(inp.peg_c) if len(inp.peg_grades) else []
-    nm = np.array([nml]) if nml else _NO_COLUMNS
-    pc = np.array([pcl]) if pcl else _NO_COLUMNS
+    nm = pc = _NO_COLUMNS  # one row keeps its amounts as the lists nml and pcl (see _result)
     groups = _grouped(inp.neutral, inp.peg_grades, [j for j, v in enumerate(nml) if v > 0],
                       [j for j, v in enumerate(pcl) if v > 0])
     for grp in groups:
@@ -434,7 +458,7 @@ def _result(ops: _Ops, s: _System, y, x, fe, phi_c, state, active, bad) -> Mixtu
                 src, dst = (nml, fnl) if grp.kind == "n" else (pcl, fpl)
                 for j in grp.members:
                     dst[j] = src[j] / xg
-        ideal = (s.M_e + (float(nm.sum()) if nml else 0.0)
+        ideal = (s.M_e + (pairwise_sum(nml) if nml else 0.0)  # the sum of the array of them, bit for bit
                  + sum(pcl[j] * 1000.0 / g for j, g in enumerate(s.peg_grades)))
         one = np.array([y if active else 0.0, ideal, phi_c, s.phi_own, fe])
         return MixtureResult(one[0:1], one[1:2], one[2:3], one[3:4], one[4:5],

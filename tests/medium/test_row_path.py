@@ -27,11 +27,12 @@ import pytest
 
 from mediaplan.files.planfile import read
 from mediaplan.medium.evaluate import evaluate
-from mediaplan.medium.model import compiled, pairwise_sum
+from mediaplan.medium.model import compiled
 from mediaplan.medium.recipe import Recipe, ScaledAmount
 from mediaplan.medium.units import parse_amount
 from mediaplan.thermo import potential
 from mediaplan.thermo.constants import T0
+from mediaplan.thermo.mixing import pairwise_sum
 
 #: agreement asked of the row path against the array path [relative]
 AGREE = 1e-12
