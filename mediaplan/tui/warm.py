@@ -140,8 +140,16 @@ def warm_up(recipe: Recipe, catalog: Catalog, on_step: Callable[[str], None] | N
     return took
 
 
+#: the niceness the warm start's thread takes after its engine step (0: none). A low priority keeps a
+#: single-core machine's screen quick, but on a busy machine the starved thread holds the import lock of a
+#: module the screen's thread or the user's own solve or fit then waits for (measured in bench_tui.py)
+WARM_NICENESS = 19
+
+
 def _lower_priority() -> None:
+    if not WARM_NICENESS:
+        return
     try:  # this thread only (Linux gives each thread its own priority)
-        os.setpriority(os.PRIO_PROCESS, threading.get_native_id(), 19)
+        os.setpriority(os.PRIO_PROCESS, threading.get_native_id(), WARM_NICENESS)
     except (AttributeError, OSError):
         pass

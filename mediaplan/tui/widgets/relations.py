@@ -145,12 +145,20 @@ class RelationsPanel(Static):
 
     def _figures_content(self, width: int) -> Content:
         ev = self.evaluation
-        if ev is None and self.pending:
-            return Content.styled(COMPUTING, "dim italic")
-        if ev is None:
+        if ev is None and not self.pending:
             return Content.styled("No figures: " + (self.error or "nothing to evaluate yet"), "bold")
-        f = figures(ev)
         label_w = max(width - 21, 1)
+        if ev is None:  # the figures' lines with a dot for each value, so the screen keeps its shape
+            dim = "dim"
+            return Content("\n").join(
+                [Content.assemble(fit_left("", label_w), (fit_right("non-ideal", 10), dim),
+                                  (fit_right("van't Hoff", 11), dim))]
+                + [Content.assemble(fit_left(label, label_w), (fit_right("…", 10), dim), (fit_right("…", 11), dim))
+                   for label in ("mOsm/kg", "ψs MPa", "ψs bar")]
+                + [Content.assemble(fit_left(label, max(width - 11, 1)), (fit_right("…", 11), dim))
+                   for label in ("water activity", "freezes at °C")]
+                + [Content.styled(COMPUTING, "dim italic")])
+        f = figures(ev)
 
         def pair(label, a, b, a_style="", b_style=""):
             return Content.assemble(fit_left(label, label_w), (fit_right(a, 10), a_style),
