@@ -158,7 +158,10 @@ def pitzer_default(ctx: Context) -> list[Warning_]:
     if not miss:
         return []
     z = ctx.model.ion_charges
-    total_w = sum(v for sp, v in m_of.items() if z[sp] > 0) * sum(v for sp, v in m_of.items() if z[sp] < 0)
+    m = list(m_of.values())  # in model order, as the charges
+    signs = list(z.values())
+    total_w = sum([v for v, q in zip(m, signs, strict=True) if q > 0]) * sum(
+        [v for v, q in zip(m, signs, strict=True) if q < 0])
     weights = sorted(((m_of[c] * m_of[a], c, a) for c, a in miss), reverse=True)  # weightiest first
     frac = sum(w for w, _, _ in weights) / total_w if total_w > 0 else 0.0
     named = ", ".join(f"{c.split('[')[0]}–{a.split('[')[0]}" for _, c, a in weights[:3]) + (
@@ -236,8 +239,7 @@ def solubility(ctx: Context) -> list[Warning_]:
                                 f"({g_T:.3g} g/100 g water {where_T}): it will not all dissolve", c.id))
             continue
         if store is not None:
-            kept = (f"kept at {celsius(T_store)}" + (" (the stated storage temperature)" if stated is not None
-                                                     else " (a cold room; the plan states no storage temperature)"))
+            kept = _kept(T_store, stated is not None) if m > SOLUBILITY_MARGIN * store.molality else ""
             if m > store.molality:
                 out.append(Warning_("solubility", f"{sub} at {m:.3g} mol/kg is {100 * m / store.molality:.0f} % of "
                                     f"its solubility at {celsius(T_store)} ({store.g_per_100g_water:.3g} g/100 g "
@@ -249,6 +251,12 @@ def solubility(ctx: Context) -> list[Warning_]:
             out.append(Warning_("solubility", f"{sub} is at {100 * m / m_T:.0f} % of its solubility {where_T}: "
                                 "it may crystallise in the cold", c.id))
     return out
+
+
+def _kept(T_store: float, stated: bool) -> str:
+    """Where the medium is kept, in words (T_store [K])."""
+    return f"kept at {celsius(T_store)}" + (" (the stated storage temperature)" if stated
+                                            else " (a cold room; the plan states no storage temperature)")
 
 
 def _solubility_limits(lines: list[Line], T: float, T_store: float) -> list[tuple]:

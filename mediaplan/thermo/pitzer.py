@@ -425,6 +425,8 @@ class PitzerSystem:
                 nu_c, nu_a = -z[j] // g, z[i] // g
                 self._pairs.append((i, j, 0.5 * bp.max_m * (nu_c * z[i] ** 2 + nu_a * z[j] ** 2)))
         self.missing_pairs: tuple[tuple[str, str], ...] = tuple(missing)
+        #: the lowest ionic strength [mol/kg] at which some pair's parameters are past their data
+        self._min_pair_imax = min((imax for _, _, imax in self._pairs), default=math.inf)
         self._alphas = np.array(sorted(exp_terms), dtype=float)
         self._neg_alphas = -self._alphas
         self._neg_alpha_list = self._neg_alphas.tolist()
@@ -701,6 +703,8 @@ class PitzerSystem:
         if m.ndim != 1:
             raise ValueError("max_molality_exceeded takes one composition (1-D array)")
         I = float(m @ self._z2h)
+        if not I > self._min_pair_imax:  # below every pair's range (a dilute medium): nothing to look at
+            return []
         ml = m.tolist()
         return [(self.ions[i], self.ions[j]) for i, j, imax in self._pairs
                 if ml[i] > 0 and ml[j] > 0 and imax < I]
