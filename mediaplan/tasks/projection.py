@@ -36,15 +36,17 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from mediaplan.medium.catalog import Catalog
 from mediaplan.medium.errors import AmountError
-from mediaplan.medium.evaluate import ISOTONIC_TOLERANCE, Evaluation, evaluate
 from mediaplan.medium.recipe import Recipe
 from mediaplan.medium.units import Amount, parse_fraction  # re-exported: the one fraction reader
 from mediaplan.tasks.records import TableView
 from mediaplan.thermo.constants import M_WATER
+
+if TYPE_CHECKING:  # the engine is imported where a projection is computed, so reading a plan needs no numpy
+    from mediaplan.medium.evaluate import Evaluation
 
 #: the published range of sucrose hydrolysis on autoclaving in ordinary media [fraction]
 HYDROLYSIS_TYPICAL = (0.05, 0.20)
@@ -204,7 +206,7 @@ def _molal_recipe(recipe: Recipe, molal: dict[str, float]) -> Recipe:
 
 def project(recipe: Recipe, catalog: Catalog, settings: ProjectionSettings, *,
             cell_reference_mosmol: float | None = None,
-            isotonic_tolerance: float = ISOTONIC_TOLERANCE) -> Projection:
+            isotonic_tolerance: float | None = None) -> Projection:
     """As made, after autoclaving and after the culture period, each evaluated from scratch.
 
     Parameters
@@ -213,7 +215,12 @@ def project(recipe: Recipe, catalog: Catalog, settings: ProjectionSettings, *,
     catalog : component catalog (glucose and fructose are looked up in it)
     settings : fractions and weeks (see :class:`ProjectionSettings`)
     cell_reference_mosmol : cell sap osmolality [mOsm/kg] for tonicity in each stage, or None
+    isotonic_tolerance : "isotonic" band [fraction of the cell reference]; None takes the engine's default
     """
+    from mediaplan.medium.evaluate import ISOTONIC_TOLERANCE, evaluate
+
+    if isotonic_tolerance is None:
+        isotonic_tolerance = ISOTONIC_TOLERANCE
     kw = dict(cell_reference_mosmol=cell_reference_mosmol, isotonic_tolerance=isotonic_tolerance)
     made = evaluate(recipe, catalog, **kw)
     proj = Projection(settings, [Stage("as made", recipe, made)])
