@@ -18,7 +18,7 @@ __version__ = "0.1.0"
 __all__ = [
     "Catalog", "Evaluation", "MediaplanError", "Plan", "PlasmolysisFit", "PrepSheet", "Recipe", "SeriesDesign",
     "Solution", "budget", "check_reading", "design_series", "evaluate", "fit_counts", "load_catalog", "load_plan",
-    "prep_sheet", "solve_target",
+    "prep_sheet", "solve_target", "sweep",
 ]
 
 

@@ -39,7 +39,7 @@ from mediaplan.tasks.solve import Solution
 __all__ = [
     "Catalog", "Evaluation", "MediaplanError", "Plan", "PlasmolysisFit", "PrepSheet", "Recipe", "SeriesDesign",
     "Solution", "budget", "check_reading", "design_series", "evaluate", "fit_counts", "load_catalog", "load_plan",
-    "prep_sheet", "solve_target",
+    "prep_sheet", "solve_target", "sweep",
 ]
 
 #: volume of each level of a series designed without a plan (the command line's default too)
@@ -450,6 +450,9 @@ def sweep(medium: Recipe | Plan, amounts: Mapping[str, Sequence[str] | str], *, 
     -------
     dict : figure name -> a 1-D numpy array, one value per row, as :func:`evaluate` gives each (to 1e-12);
         rows are solved in chunks, so 10^6 variants need no more memory than their answers and one chunk
+
+    The figures are the model's values only: no warnings, cautions or intervals (evaluate the rows you act
+    on with :func:`evaluate` and :func:`budget` for those).
 
     Raises MediaplanError as :func:`evaluate` does when the most concentrated corner of the sweep (every varied
     component at its largest amount) holds more than a medium can, or a row leaves no water.
