@@ -104,10 +104,10 @@ def increasing_roots(f_batch: Callable[[np.ndarray], np.ndarray], targets: np.nd
     """x in [lo, hi] with f(x) = target for each target; f increasing (batched: one call for many x).
 
     One batched call on a grid (denser near ``lo``) brackets every target; a second batched call
-    evaluates the linear interpolation inside each bracket, which tightens it; :func:`increasing_root`
-    then refines all roots together with :func:`bracketed_roots` (one batched call per step for the rows
-    still open: a model call costs about the same for one row as for fifty). Grid points without a finite value (past the model's range) are
-    left out, and so is the grid beyond the first point where the function stops increasing.
+    evaluates the linear interpolation inside each bracket, which tightens it; :func:`bracketed_roots`
+    then refines all roots together (one batched call per step for the rows still open: a model call
+    costs about the same for one row as for fifty). Grid points without a finite value (past the model's
+    range) are left out, and so is the grid beyond the first point where the function stops increasing.
 
     Parameters
     ----------

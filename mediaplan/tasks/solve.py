@@ -22,10 +22,16 @@ where m_g°(a_w*) is the molality of the binary solution of solute group g that 
 activity (computed once: Norrish inverse for neutral solutes, Michel equations for PEG, Pitzer for
 the electrolytes), and m_g(x) the group's molality in the medium after the addition (water content
 from the apparent molar volumes: :meth:`mediaplan.medium.model.MediumModel.water`), the residual of
-:meth:`mediaplan.medium.model.Sweep.residual_at`. The left side grows monotonically with x, so Brent's
-method (:mod:`mediaplan.medium.roots`) finds the root below the upper bound of
-:meth:`mediaplan.medium.model.Sweep.limit` (the osmoticum's solubility, or the water left). The answer is then
-re-evaluated from scratch with :func:`mediaplan.medium.evaluate.evaluate`. A tonicity target with
+:meth:`mediaplan.medium.model.Sweep.residual_at` (batched: :func:`mediaplan.medium.model.sweep_residuals`).
+The left side grows monotonically with x. With the electrolytes' φ held at the target (exact when the
+addition leaves the ion proportions as they are: a neutral osmoticum) it is a ratio of polynomials in x whose
+root is a quadratic's (:func:`mediaplan.medium.model.sweep_line`); from that first guess the vectorised
+bracketed root finder (:func:`mediaplan.medium.roots.bracketed_roots`) confirms the root in two or three
+steps, the bracket kept from no addition to the space the volume leaves (:meth:`Sweep.limit`). The
+osmoticum's solubility is checked at the root; only when it stops the addition is its limit worked out, and
+Brent's method (:func:`mediaplan.medium.roots.increasing_root`) then searches below it, as it does whenever
+the batched path does not settle the answer. The answer is then re-evaluated from scratch with
+:func:`mediaplan.medium.evaluate.evaluate`. A tonicity target with
 permeating solutes (reflection coefficient below 1) has no such shortcut and is solved on the full
 evaluation directly (slower, still exact).
 
@@ -634,10 +640,10 @@ def _root_below_solubility(sweep: Sweep, f, f0: float, saturating: Sequence[Comp
     (:func:`mediaplan.medium.model.sweep_residuals`) is zero, when that x is below every solubility in
     ``saturating``; None otherwise (the caller then works out which limit stops it).
 
-    One vectorised root finding (:func:`mediaplan.medium.roots.bracketed_roots`), bracketed by x = 0 (residual ``f0`` < 0) and the
-    space the volume leaves (:meth:`Sweep.limit` without solubilities); the solubilities are checked at the
-    root only (the substance's molality grows with x, so a root below saturation means no solubility limit
-    comes first)."""
+    One vectorised root finding (:func:`mediaplan.medium.roots.bracketed_roots`), bracketed by x = 0
+    (residual ``f0`` < 0) and the space the volume leaves (:meth:`Sweep.limit` without solubilities); the
+    solubilities are checked at the root only (the substance's molality grows with x, so a root below
+    saturation means no solubility limit comes first)."""
     # a hair inside the limit: a batch of rows sums the volumes in another order than the one row of limit()
     room = sweep.limit().x * (1.0 - 1e-12)
     if room <= 0:

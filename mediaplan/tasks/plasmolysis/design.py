@@ -17,8 +17,8 @@ In water the two are the same. When a stock is named, the levels are also given 
 diluent. The stock is the osmoticum in the background (as the preparation says); the diluent is the
 background. The mixture's composition
 per kg of water follows from the water content per litre of stock and diluent (the model's
-solution density), not from C1V1 = C2V2; the mixing ratio is solved (brentq) so that the mixture
-has the level's water potential, which in water means the level's osmoticum molality exactly.
+solution density), not from C1V1 = C2V2; the mixing ratio is solved (for all levels at once) so that the
+mixture has the level's water potential, which in water means the level's osmoticum molality exactly.
 The two volumes are then scaled so that the mixture's own volume is the batch volume.
 """
 
