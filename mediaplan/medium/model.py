@@ -133,6 +133,10 @@ class MediumModel:
                 v.append(0.0)
         self.v = np.array(v)
         self._ion_idx = [k for k, sp in enumerate(species) if parse_species(sp).is_ion]
+        # the ions' columns as a slice when they follow one another (a view, not a copy), else an index array
+        self._ion_sel = (slice(self._ion_idx[0], self._ion_idx[-1] + 1) if self._ion_idx and
+                         self._ion_idx == list(range(self._ion_idx[0], self._ion_idx[-1] + 1))
+                         else np.array(self._ion_idx, dtype=np.intp))
         self._peg_idx = [k for k, sp in enumerate(species) if sp in _PEG_GRADES]
         self._neutral_idx = [k for k, sp in enumerate(species)
                             if not parse_species(sp).is_ion and sp not in _PEG_GRADES]
@@ -401,7 +405,7 @@ class MediumModel:
         """Ionic strength I = ½ Σ m_i z_i² [mol/kg] of each row, (B,)."""
         if not self._ion_idx:
             return np.zeros(state.species_m.shape[0])
-        return 0.5 * (state.species_m[:, self._ion_idx] @ self._charge2)
+        return 0.5 * (state.species_m[:, self._ion_sel] @ self._charge2)
 
     # ---- the species by kind (for the validity checks) ---------------------------------------
     @property
@@ -465,7 +469,7 @@ class MediumModel:
         (ionic strength of the row above that of the pair's binary solution at its ``max_m``)."""
         if self._pitzer is None:
             return []
-        return self._pitzer.max_molality_exceeded(state.species_m[row, self._ion_idx])
+        return self._pitzer.max_molality_exceeded(state.species_m[row, self._ion_sel])
 
     # ---- a medium along a line of amounts ----------------------------------------------------
     def along(self, n0: np.ndarray, b0: np.ndarray, dn: np.ndarray, db: np.ndarray, *,
@@ -646,7 +650,7 @@ _MODEL_CACHE: OrderedDict[tuple, MediumModel] = OrderedDict()
 
 def compiled(catalog: Catalog, components: Sequence[Component], T: float) -> MediumModel:
     """A cached MediumModel for this catalog, component list and temperature."""
-    key = (id(catalog), tuple(c.id for c in components), tuple(c.digest for c in components), round(T, 6))
+    key = (id(catalog), tuple([c.id for c in components]), tuple([c.digest for c in components]), round(T, 6))
     model = _MODEL_CACHE.get(key)
     if model is None:
         model = MediumModel(catalog, components, T)

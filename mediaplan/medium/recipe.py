@@ -210,16 +210,18 @@ class Recipe:
             for ln in self._base_lines(catalog):
                 out[ln.component.id] = ln
         for cid, amt in self.amounts:
-            comp = catalog.resolve(cid, field=f"components.{cid}").component
+            comp = catalog.components.get(cid)  # an id: what resolve() finds first
+            if comp is None:
+                comp = catalog.resolve(cid, field=f"components.{cid}").component
             if comp.id in out:
                 # same component overridden; a different form of the same substance replaces it too
-                out[comp.id] = Line(comp, amt, "override")
+                out[comp.id] = _new(Line)._made(comp, amt, "override", None, False)
             else:
                 same = [k for k, ln in out.items() if ln.origin == "base" and ln.component.substance
-                        and ln.component.substance == comp.substance]
+                        and ln.component.substance == comp.substance] if out else []
                 for k in same:
                     del out[k]
-                out[comp.id] = Line(comp, amt, "override" if same else "user")
+                out[comp.id] = _new(Line)._made(comp, amt, "override" if same else "user", None, False)
         return [ln for ln in out.values() if not ln.amount.is_zero]
 
 

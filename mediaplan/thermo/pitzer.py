@@ -703,7 +703,7 @@ class PitzerSystem:
         if m.ndim != 1:
             raise ValueError("max_molality_exceeded takes one composition (1-D array)")
         I = float(m @ self._z2h)
-        if not I > self._min_pair_imax:  # below every pair's range (a dilute medium): nothing to look at
+        if not self._min_pair_imax < I:  # below every pair's range (a dilute medium): nothing to look at
             return []
         ml = m.tolist()
         return [(self.ions[i], self.ions[j]) for i, j, imax in self._pairs
