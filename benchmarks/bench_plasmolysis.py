@@ -4,8 +4,10 @@ Run: python benchmarks/bench_plasmolysis.py
 
 Designs of 8 and of 60 levels (the most a series may have) in water and in MS 1962 at half strength, by
 weight and with a stock (CPU time of this process, medians). Goal (issue 16): a 60-level series <= 20 ms.
-Paired in the same run: the 60 levels found by the forward search of before (a grid of forward ZSR solves,
-then the brackets refined on the forward osmolality) against the batched root finding of now.
+Paired in the same run: the 60 levels found by the forward search (a grid of forward ZSR solves, then the
+brackets refined on the forward osmolality: the designer's method before the batched residual, here with its
+brackets already finished together by ``roots.bracketed_roots``; it stays as the fallback) against the
+batched root finding on the ZSR residual from the closed-form root.
 """
 
 from __future__ import annotations
@@ -35,7 +37,7 @@ def median_ms(fn, repeat: int = 7) -> float:
 
 def sixty_levels(cat) -> None:
     """60 levels from -0.4 to -1.8 MPa in water and in MS 1962 x0.5, by weight and with a stock; and the
-    levels by the forward search of before (paired, same run)."""
+    levels by the forward search (the fallback; paired, same run)."""
     psi = potentials_between(-0.4e6, -1.8e6, 60)
     cases = {"water": Recipe(volume="50 mL"), "ms1962 x0.5": Recipe(volume="50 mL", base="ms1962", strength=0.5)}
     for name, bg in cases.items():
@@ -49,7 +51,7 @@ def sixty_levels(cat) -> None:
                                                                                                comp))
         print(f"design 60 levels in {name:12s}: by weight {by_weight:7.1f} ms, with stock {with_stock:7.1f} ms "
               f"(goal <= 20 ms; ratio to goal {max(by_weight, with_stock) / 20.0:.2f})")
-        print(f"  the 60 levels' amounts: forward search (before) {before:6.1f} ms, batched (now) {now:6.1f} ms; "
+        print(f"  the 60 levels' amounts: forward search {before:6.1f} ms, batched residual {now:6.1f} ms; "
               f"ratio now/before {now / before:.2f}")
 
 
