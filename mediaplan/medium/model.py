@@ -799,6 +799,12 @@ class LineResidual:
         return ((self.P[rows] + x * self.Q[rows]) * (self.C + x * self.D) / (self.A - x * self.G)
                 + self.R[rows] + x * self.T[rows] - 1.0)
 
+    def row(self, i: int) -> Callable[[float], float]:
+        """r of row i as a function of a float x [-] (plain numbers: the same arithmetic as a call)."""
+        P, Q, R, T = (float(v[i]) for v in (self.P, self.Q, self.R, self.T))
+        A, G, C, D = float(self.A), float(self.G), float(self.C), float(self.D)
+        return lambda x: (P + x * Q) * (C + x * D) / (A - x * G) + R + x * T - 1.0
+
     def root(self) -> np.ndarray:
         """x (K,) with r(x) = 0: the root of (P + xQ)(C + xD) + (R − 1 + xT)(A − xG) = 0 that the linear
         case continues (NaN where none lies at or above 0)."""

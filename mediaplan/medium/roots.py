@@ -202,11 +202,13 @@ def bracketed_roots(f: Callable[[np.ndarray, np.ndarray], np.ndarray], lo, hi, f
             return None if v is None else float(np.asarray(v, dtype=float).reshape(-1)[i])
 
         out, calls = np.empty(K), 0
+        by_row = getattr(f, "row", None)  # a function of plain numbers per row, when f offers one
         for i in range(K):
             row = np.array([i])
             out[i], c = _one_bracketed_root(lambda x, _rows, row=row: f(x, np.repeat(row, np.size(x))),
                                             float(x1[i]), float(x2[i]), one(f_lo, i), one(f_hi, i),
-                                            one(first, i), window, xtol * max(float(sc[i]), x_floor), rtol)
+                                            one(first, i), window, xtol * max(float(sc[i]), x_floor), rtol,
+                                            None if by_row is None else by_row(i))
             calls += c
         if counter is not None:
             counter.append(calls)
@@ -296,18 +298,21 @@ def bracketed_roots(f: Callable[[np.ndarray, np.ndarray], np.ndarray], lo, hi, f
 
 
 def _one_bracketed_root(f, x1: float, x2: float, f1: float | None, f2: float | None, first: float | None,
-                        window: float, tol_abs: float, rtol: float) -> tuple[float, int]:
-    """:func:`bracketed_roots` for one row, in plain floats: (root, batched calls made)."""
+                        window: float, tol_abs: float, rtol: float,
+                        f_float: Callable[[float], float] | None = None) -> tuple[float, int]:
+    """:func:`bracketed_roots` for one row, in plain floats: (root, batched calls made). ``f_float``: the
+    row's function of a float, when there is one (then used in place of ``f``)."""
     row1 = np.zeros(1, dtype=int)
     calls = 0
     pts = [x for x, v in ((x1, f1), (x2, f2)) if v is None]
     if first is not None and window > 0 and math.isfinite(first):
         pts += [p for p in (first * (1.0 - window), first * (1.0 + window)) if x1 < p < x2]
     if pts:
-        vals = f(np.array(pts), np.zeros(len(pts), dtype=int))
+        vals = ([f_float(p) for p in pts] if f_float is not None
+                else f(np.array(pts), np.zeros(len(pts), dtype=int)).tolist())
         calls += 1
         got = {}
-        for p, v in zip(pts, vals.tolist(), strict=True):
+        for p, v in zip(pts, vals, strict=True):
             got[p] = math.inf if v != v else v
         f1 = got.pop(x1) if f1 is None else f1
         f2 = got.pop(x2) if f2 is None else f2
@@ -331,7 +336,7 @@ def _one_bracketed_root(f, x1: float, x2: float, f1: float | None, f2: float | N
         width = x2 - x1
         tl = 0.5 * (tol_abs + rtol * abs(x1)) / abs(width)
         xt = x1 + min(max(t, tl), 1.0 - tl) * width
-        ft = float(f(np.array([xt]), row1)[0])
+        ft = float(f_float(xt)) if f_float is not None else float(f(np.array([xt]), row1)[0])
         calls += 1
         if ft != ft:
             ft = math.inf  # no answer there: past the model's range, so past the root
