@@ -145,9 +145,10 @@ def evaluate(recipe: Recipe, catalog: Catalog, *, cell_reference_mosmol: float |
     y = float(mix.osmolality[0])
     ideal = float(mix.ideal[0])
     # freezing-point osmometer: the same medium at 0 °C
-    y0 = float(model.mixture(st.species_m, T0, start=mix.state).osmolality[0]) if lines else y
+    y0 = float(model.mixture(st.species_m, T0, start=mix.state, osmolality_only=True).osmolality[0]) \
+        if lines else y
     if not math.isfinite(y0):  # the warm start can lie too far away (concentrated PEG): solve from cold
-        y0 = float(model.mixture(st.species_m, T0).osmolality[0])
+        y0 = float(model.mixture(st.species_m, T0, osmolality_only=True).osmolality[0])
     aw = float(potential.water_activity(y))
     aw0 = float(potential.water_activity(y0))
     theta = float(potential.freezing_point_depression(aw0))

@@ -293,9 +293,11 @@ class MediumModel:
         mix = self.mixture(species_m[None, :], self.T)
         return ModelState(np.array([W]), (molality * W)[None, :], molality[None, :], species_m[None, :], mix)
 
-    def mixture(self, species_m: np.ndarray, T: float, *, start: tuple | None = None) -> MixtureResult:
+    def mixture(self, species_m: np.ndarray, T: float, *, start: tuple | None = None,
+                osmolality_only: bool = False) -> MixtureResult:
         """ZSR solution for species molalities (B, n_species) [mol/kg] at temperature T [K];
-        ``start``: ``MixtureResult.state`` of the same composition (warm start)."""
+        ``start``: ``MixtureResult.state`` of the same composition (warm start); ``osmolality_only``: of one
+        row, only ``osmolality`` and ``state`` (see :func:`~mediaplan.thermo.mixing.zsr_osmolality`)."""
         species_m = np.atleast_2d(species_m)
         if species_m.shape[0] == 1:  # one composition: its amounts as Python floats (the same products)
             sp = species_m[0].tolist()
@@ -303,7 +305,7 @@ class MediumModel:
                 self._pitzer, [sp[k] for k in self._ion_idx] if self._ion_idx else None, self._neutral_params,
                 [sp[k] for k in self._neutral_idx], self._peg_grades,
                 [sp[k] * g / 1000.0 for k, g in zip(self._peg_idx, self._peg_grades, strict=True)], float(T)),
-                start=start)
+                start=start, osmolality_only=osmolality_only)
         ion_m = species_m[:, self._ion_idx] if self._ion_idx else None
         neutral_m = species_m[:, self._neutral_idx]
         # PEG: g PEG per g water = molality [mol/kg] * molar mass [g/mol] / 1000

@@ -82,13 +82,16 @@ class MixtureResult:
     state: tuple | None = None
 
 
-def zsr_osmolality(inp: MixtureInput, *, start: tuple | None = None) -> MixtureResult:
+def zsr_osmolality(inp: MixtureInput, *, start: tuple | None = None,
+                   osmolality_only: bool = False) -> MixtureResult:
     """Solve the ZSR rule for the osmolality of the mixture (vectorised over B rows).
 
     Parameters
     ----------
     inp : the amounts of every solute group (see :class:`MixtureInput`)
     start : ``MixtureResult.state`` of the same single composition (at another temperature): a warm start
+    osmolality_only : for one composition, fill in only ``osmolality`` and ``state`` (the other fields are
+        None): the answer of a second temperature whose shares no one reads (a batch is always full)
 
     Notes
     -----
@@ -106,7 +109,9 @@ def zsr_osmolality(inp: MixtureInput, *, start: tuple | None = None) -> MixtureR
     group leaves the range where Pitzer's φ is positive has no answer (NaN), on either path.
     """
     if (isinstance(inp.T, float) or np.ndim(inp.T) == 0) and _single_row(inp):
-        return _newton(_FLOATS, _one_row(inp, start), start)
+        system = _one_row(inp, start)
+        system.light = osmolality_only
+        return _newton(_FLOATS, system, start)
     with np.errstate(divide="ignore", invalid="ignore"):  # 0/0 in rows of pure water: masked, exact
         return _newton(_ARRAYS, _batch(inp), None)
 
@@ -249,6 +254,7 @@ class _System:
     warm: bool  # restart from ``start``
     neutral_list: list[float] | None  # one row: neutral_m[0] and peg_c[0] as Python floats
     peg_list: list[float] | None
+    light: bool = False  # one row: osmolality and state only (see zsr_osmolality's osmolality_only)
 
 
 def _grouped(neutral: Sequence[NeutralParams], peg_grades: Sequence[int], nm_used, pc_used) -> list[_Group]:
@@ -450,6 +456,9 @@ def _result(ops: _Ops, s: _System, y, x, fe, phi_c, state, active, bad) -> Mixtu
     Hoff sum; NaN in every field of the rows in ``bad``."""
     nm, pc = s.neutral_m, s.peg_c
     if ops is _FLOATS:
+        if s.light:
+            return MixtureResult(np.array([y if active else 0.0]), None, None, None, None, None, None,
+                                 state=None if bad else state)
         nml, pcl = s.neutral_list, s.peg_list
         fill = math.nan if bad else 0.0
         fnl, fpl = [fill] * len(nml), [fill] * len(pcl)
