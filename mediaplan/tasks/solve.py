@@ -556,7 +556,14 @@ def solve_target(recipe: Recipe, catalog: Catalog, target: TargetSpec | str, osm
     common = dict(target=spec, osmotica=[c.id for c in comps_os], target_osmolality_mosmol_per_kg=y * 1000.0,
                   target_potential_mpa=psi_t, matched=matched, start_recipe=recipe, ratio=r, hold=held or None,
                   _evaluate=ev_of)
-    f0 = f(0.0)
+    line = exact = None
+    if not full:  # the residual along the path in closed form (plain numbers when the ions keep proportion)
+        try:
+            with np.errstate(**roots.FAST_PATH_ERRORS):
+                line, exact = sweep_line(s.path.sweep, f.rows)
+        except roots.FAST_PATH_FAILURES:
+            line = None
+    f0 = line.row(0)(0.0) if exact else f(0.0)
     if abs(f0) < 1e-9:
         ev0 = ev_of(s.recipe)
         return Solution(status="on_target", recipe=s.recipe, evaluation=ev0, additions=[], reduction=None,
@@ -602,7 +609,8 @@ def solve_target(recipe: Recipe, catalog: Catalog, target: TargetSpec | str, osm
     # ---- bracket: solubility and volume ---------------------------------------------------
     path = s.path
     capped = {c.id: c.soluble_at(T_sol) for c in s.free}
-    x = None if full else _root_below_solubility(path.sweep, f.rows, f0, [cc for cc, _ in capped.values()])
+    x = None if line is None else _root_below_solubility(path.sweep, f.rows, f0, [cc for cc, _ in capped.values()],
+                                                         line, exact)
     if x is not None:
         return _added(recipe, catalog, s, path.build(x, True), ev_of, held, matched, common)
     limit = path.sweep.limit([cc for cc, _ in capped.values()])
@@ -635,10 +643,12 @@ _ROW0 = np.zeros(1, dtype=int)
 GUESS_WINDOW = {True: 1e-9, False: 0.1}
 
 
-def _root_below_solubility(sweep: Sweep, f, f0: float, saturating: Sequence[Component]) -> float | None:
+def _root_below_solubility(sweep: Sweep, f, f0: float, saturating: Sequence[Component], line=None,
+                           exact: bool = False) -> float | None:
     """The x where the ZSR residual ``f`` (x, rows) of the medium along ``sweep`` at one target osmolality
     (:func:`mediaplan.medium.model.sweep_residuals`) is zero, when that x is below every solubility in
-    ``saturating``; None otherwise (the caller then works out which limit stops it).
+    ``saturating``; None otherwise (the caller then works out which limit stops it). ``line, exact``: the
+    residual's closed form along the sweep (:func:`mediaplan.medium.model.sweep_line`), when at hand.
 
     One vectorised root finding (:func:`mediaplan.medium.roots.bracketed_roots`), bracketed by x = 0
     (residual ``f0`` < 0) and the space the volume leaves (:meth:`Sweep.limit` without solubilities); the
@@ -650,7 +660,8 @@ def _root_below_solubility(sweep: Sweep, f, f0: float, saturating: Sequence[Comp
         return None
     try:
         with np.errstate(**roots.FAST_PATH_ERRORS):
-            line, exact = sweep_line(sweep, f)
+            if line is None:
+                line, exact = sweep_line(sweep, f)
             guess = line.root()
             # along a line whose ion proportions stay put the residual is the line's closed form (plain numbers)
             x = float(roots.bracketed_roots(line if exact else f, np.zeros(1), np.array([room]), np.array([f0]),
