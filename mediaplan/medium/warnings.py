@@ -150,25 +150,32 @@ def peg_mixture(ctx: Context) -> list[Warning_]:
 def pitzer_default(ctx: Context) -> list[Warning_]:
     """Ion pairs present without Pitzer parameters (catalog pitzer.yaml), with the weight of the
     cation–anion interaction terms they carry (product of molalities, heaviest named first)."""
-    missing = ctx.model.ion_pairs_without_parameters
-    if not missing:
+    model = ctx.model
+    if not model.ion_pairs_without_parameters:
         return []
-    m_of = ctx.model.ion_molalities(ctx.state)
-    miss = [(c, a) for c, a in missing if m_of[c] > 0 and m_of[a] > 0]
-    if not miss:
+    pairs, signs = model.memo(("pitzer_default",), lambda: _default_pairs(model))
+    m = list(model.ion_molalities(ctx.state).values())  # in model order, as the charges
+    weights = [(m[i] * m[j], c, a) for i, j, c, a in pairs if m[i] > 0 and m[j] > 0]
+    if not weights:
         return []
-    z = ctx.model.ion_charges
-    m = list(m_of.values())  # in model order, as the charges
-    signs = list(z.values())
+    weights.sort(reverse=True)  # weightiest first
     total_w = sum([v for v, q in zip(m, signs, strict=True) if q > 0]) * sum(
         [v for v, q in zip(m, signs, strict=True) if q < 0])
-    weights = sorted(((m_of[c] * m_of[a], c, a) for c, a in miss), reverse=True)  # weightiest first
-    frac = sum(w for w, _, _ in weights) / total_w if total_w > 0 else 0.0
+    frac = sum([w for w, _, _ in weights]) / total_w if total_w > 0 else 0.0
     named = ", ".join(f"{c.split('[')[0]}–{a.split('[')[0]}" for _, c, a in weights[:3]) + (
         " …" if len(weights) > 3 else "")
-    return [Warning_("pitzer_default", f"{len(miss)} ion pair{'s' if len(miss) > 1 else ''} without Pitzer "
+    return [Warning_("pitzer_default", f"{len(weights)} ion pair{'s' if len(weights) > 1 else ''} without Pitzer "
                      f"parameters ({named}): Debye–Hückel term only, {100 * frac:.2g} % of the "
                      "cation–anion interactions")]
+
+
+def _default_pairs(model: MediumModel) -> tuple[list[tuple[int, int, str, str]], list[int]]:
+    """(the ion pairs without Pitzer parameters as (cation index, anion index, cation, anion) in the model's
+    ion order, the ions' charges): what :func:`pitzer_default` looks at, per model."""
+    ions = list(model.ion_charges)
+    where = {ion: k for k, ion in enumerate(ions)}
+    return ([(where[c], where[a], c, a) for c, a in model.ion_pairs_without_parameters],
+            list(model.ion_charges.values()))
 
 
 def pitzer_range(ctx: Context) -> list[Warning_]:
