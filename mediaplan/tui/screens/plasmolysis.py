@@ -212,8 +212,8 @@ class SeriesScreen(Screen):
             table.add_column(label, key=key)
         self._show_levels()
         table.focus()
-        if self.query("#series-plot.plot-waiting"):
-            self._import_plot()
+        if self.query("#series-plot.plot-waiting"):  # after this screen's first paint, not competing with it
+            self.call_after_refresh(self._import_plot)
 
     @work(thread=True, exit_on_error=False, group="plot")
     def _import_plot(self) -> None:
