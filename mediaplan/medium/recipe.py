@@ -231,48 +231,48 @@ class Recipe:
         objects at each use). At a new strength only the scaled lines are made, each amount a
         :class:`ScaledAmount` (formatted when first read)."""
         medium = catalog.medium(self.base, field="base")
-        full = _cached_lines(catalog, medium, (self.base, 1.0, None))
-        if full is None:
+        got = _FULL_LINES.get(self.base)
+        if got is not None and got[0] is medium and all(
+                [catalog.components.get(ln.component.id) is ln.component for ln in got[1]]):
+            full = got[1]
+        else:
             full = [Line(catalog.components[ml.component], ml.amount, "base", ml.confidence, False)
                     for ml in medium.lines]
-            _keep_lines((self.base, 1.0, None), medium, full)
+            if len(_FULL_LINES) >= 16:
+                _FULL_LINES.clear()
+            _FULL_LINES[self.base] = (medium, full)  # the medium kept: its id cannot be reused while cached
         if self.strength == 1:
             return full
         key = (self.base, self.strength, self.strength_scope)
-        lines = _cached_lines(catalog, medium, key)
-        if lines is not None:
-            return lines
+        got = _BASE_LINES.get(key)
+        if got is not None and got[0] is full:  # made from these full-strength lines
+            return got[1]
         groups, f = STRENGTH_SCOPES[self.strength_scope], self.strength
         lines = []
         for ln in full:
-            if groups is None or ln.component.group in groups:
+            comp = ln.component
+            if groups is None or comp.group in groups:
                 a = ln.amount
                 amt = _new(ScaledAmount)  # made field by field: what ScaledAmount(...) and Line(...) make
                 _set(amt, "__dict__", {"value": a.value * f, "kind": a.kind, "_like": a.text})
-                ln = _new(Line)._made(ln.component, amt, "base", ln.confidence, True)
+                scaled = _new(Line)
+                _set(scaled, "__dict__", {"component": comp, "amount": amt, "origin": "base",
+                                          "confidence": ln.confidence, "scaled": True})
+                ln = scaled
             lines.append(ln)
-        _keep_lines(key, medium, lines)
+        if len(_BASE_LINES) >= 16:
+            _BASE_LINES.clear()
+        _BASE_LINES[key] = (full, lines)
         return lines
 
 
 _new, _set = object.__new__, object.__setattr__
 
 
-def _cached_lines(catalog: Catalog, medium, key: tuple) -> list[Line] | None:
-    got = _BASE_LINES.get(key)
-    if got is not None and got[0] is medium and all(
-            catalog.components.get(ln.component.id) is ln.component for ln in got[1]):
-        return got[1]
-    return None
-
-
-def _keep_lines(key: tuple, medium, lines: list[Line]) -> None:
-    if len(_BASE_LINES) >= 16:
-        _BASE_LINES.clear()
-    _BASE_LINES[key] = (medium, lines)  # the medium kept: its id cannot be reused while cached
-
-
-#: (base id, strength, scope) -> (the catalog's Medium, its lines at that strength): see Recipe._base_lines
+#: base id -> (the catalog's Medium, its lines at full strength); (base id, strength, scope) -> (those
+#: full-strength lines, the lines at that strength): see Recipe._base_lines. Two tables, so that many new
+#: strengths do not push the full-strength lines out.
+_FULL_LINES: dict[str, tuple] = {}
 _BASE_LINES: dict[tuple, tuple] = {}
 
 
