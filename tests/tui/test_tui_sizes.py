@@ -627,3 +627,17 @@ async def test_warm_start_readies_solver_series_and_sheet(catalog):
         assert len(warmed) == 1 and {"solve", "series", "sheet", "screens"} <= set(warmed[0].took)
         assert app.warmed == warmed[0].took
         assert isinstance(app.screen, MainScreen) and not app.session.dirty  # warming changed nothing
+
+
+@run_async
+async def test_a_detail_line_too_long_for_80_columns_ends_in_an_ellipsis(catalog):
+    """At 80x24 the detail line has one row: a cut line says so with "…", never ends mid-word silently."""
+    app = app_for(Session(Plan(recipe=Recipe(base="ms1962").with_amount("sucrose", "30 g/L")), catalog))
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        main_of(app).query_one("RecipeTable").select_id("ammonium_nitrate")
+        await pilot.pause()
+        line = next(ln for ln in screen_text(app).splitlines() if "ammonium nitrate NH4NO3 ·" in ln)
+        shown = line.split("│")[0].strip() if "│" in line else line.strip()
+        assert shown.startswith("ammonium nitrate NH4NO3 · 1650 mg/L")
+        assert shown.endswith("…"), shown
