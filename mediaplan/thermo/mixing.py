@@ -111,7 +111,7 @@ def zsr_osmolality(inp: MixtureInput, *, start: tuple | None = None,
     if (isinstance(inp.T, float) or np.ndim(inp.T) == 0) and _single_row(inp):
         system = _one_row(inp, start)
         system.light = osmolality_only
-        return _newton(_FLOATS, system, start)
+        return _newton_row(system, start)
     with np.errstate(divide="ignore", invalid="ignore"):  # 0/0 in rows of pure water: masked, exact
         return _newton(_ARRAYS, _batch(inp), None)
 
@@ -449,6 +449,132 @@ def _newton(ops: _Ops, s: _System, start: tuple | None) -> MixtureResult:
             break
     fe = where(active & has_e, 1.0 / e_scale(y), 0.0)
     return _result(ops, s, y, x, fe, phi_c, (y, tuple(x), g, s_c), active, bad)
+
+
+def _newton_row(s: _System, start: tuple | None) -> MixtureResult:
+    """:func:`_newton` with the arithmetic :data:`_FLOATS`, written out for one row: the same operations on
+    the same Python floats in the same order (the same bits; the tests hold the two together), without the
+    indirection of ``ops`` a step of a small system spends most of its time in."""
+    T, has_e, electrolytes = s.T, s.has_e, s.electrolytes
+    log1p, M_w = math.log1p, M_WATER
+    groups = [(grp.kind == "n", grp.key, grp.m) for grp in s.groups]
+    peg = _peg_float
+    # additive first guess: each group's own binary osmolality, the electrolytes at their own φ
+    y = s.M_e * (1.0 if math.isnan(s.phi_own) else s.phi_own)
+    o0 = []
+    for neutral, key, m in groups:
+        if neutral:
+            u = M_w * m
+            d = 1.0 + u
+            xs = u / d
+            o = (log1p(u) + key * xs * xs) / M_w
+        else:
+            o, _ = peg(m, T, int(key))
+        o0.append(o)
+        y = y + o
+    active = y > 0
+    if not active:  # pure water
+        return _result(_FLOATS, s, 0.0, [1.0] * len(groups), 0.0, 1.0, None, False, False)
+    if not groups and electrolytes:
+        # the electrolytes alone: ZSR's one group is its own binary solution at scale 1, y = M_e φ(1)
+        phi1 = s.phi_at(1.0)
+        if phi1 > 0:
+            y = s.M_e * phi1
+            return _result(_FLOATS, s, y, [], 1.0, phi1, (y, (), 0.0, 1.0), True, False)
+    x = [m * (y / o if o != 0 else 1.0) for (_, _, m), o in zip(groups, o0, strict=True)]
+    s_c, phi_c, g = y * 0.0 + 1.0, s.phi_own, y * 0.0
+    if s.warm:
+        y, x, g, s_c = start[0], list(start[1]), start[2], start[3]
+        if not electrolytes and all(grp.kind == "n" for grp in s.groups):
+            return _result(_FLOATS, s, y, x, 0.0, phi_c, (y, tuple(x), g, s_c), True, False)
+        if has_e:
+            phi_c = s.phi_at(s_c)
+    Me = s.M_e if has_e else 1.0
+    phi_at = s.phi_at
+    log = math.log
+    # per group: (neutral, K, 2 K, Σ m); 2.0 * K * xs is (2.0 * K) * xs, so 2 K made once gives the same bits
+    terms = [(neutral, key, 2.0 * key, m) for neutral, key, m in groups]
+    n_groups = len(terms)
+    R_of = [0.0] * n_groups
+    d_of = [0.0] * n_groups
+    last_dphi = math.inf if electrolytes else 0.0
+    for _ in range(_MAX_OUTER):
+        g1 = 1.0 + g
+        if electrolytes:
+            # e_scale(y) of _newton: (y s_c^g / (Me φ_c))^(1/(1+g)), its factors made once per step
+            sg, mp, ex = s_c**g, Me * phi_c, 1.0 / g1
+            re = 1.0 / ((y * sg / mp) ** ex) if has_e else 0.0
+        else:
+            re = 0.0
+        F = re - 1.0
+        denom = -re / (g1 * y)
+        rhs = 0.0
+        settled = True
+        lim = 1e-10 * y
+        for k, (neutral, key, key2, m) in enumerate(terms):
+            xg = x[k]
+            if neutral:
+                u = M_w * xg
+                d = 1.0 + u
+                xs = u / d
+                R = (log1p(u) + key * xs * xs) / M_w - y
+                d = 1.0 / d + key2 * xs / (d * d)
+            else:
+                o, d = peg(xg, T, int(key))
+                R = o - y
+            a = m / (xg * xg) / d
+            F = F + m / xg
+            denom = denom - a
+            rhs = rhs + a * R
+            R_of[k] = R
+            d_of[k] = d
+            if settled and not abs(R) <= lim:
+                settled = False
+        num = -F - rhs
+        dy = num / denom if denom != 0 else 0.0
+        # min(max(v, lo), hi) written out (the same choices, NaN included)
+        y_new = y + dy
+        lo = 0.2 * y
+        if lo > y_new:
+            y_new = lo
+        hi = 5.0 * y
+        if hi < y_new:
+            y_new = hi
+        dy = y_new - y
+        for k in range(n_groups):
+            xg = x[k]
+            v = xg + (dy - R_of[k]) / d_of[k]
+            lo = 0.2 * xg
+            x[k] = lo if lo > v else v
+        y = y_new
+        done = settled and abs(dy) <= _TOL * y
+        if done and last_dphi <= _PHI_TOL:
+            break  # the electrolyte group had already settled: no further Pitzer evaluation needed
+        dphi = 0.0
+        if electrolytes:
+            s_new = (y * sg / mp) ** ex
+            phi_pred = phi_c * (s_new / s_c) ** g
+            phi_new = phi_at(s_new)
+            if not phi_new > 0:
+                return _result(_FLOATS, s, math.nan, x, math.nan, math.nan, None, True, True)
+            dphi = float(abs(phi_new - phi_pred))
+            r = s_new / s_c
+            ls = log(r) if r > 0 else (-math.inf if r == 0 else math.nan)
+            if abs(ls) > 1e-9:
+                r = phi_new / phi_c
+                lp = log(r) if r > 0 else (-math.inf if r == 0 else math.nan)
+                gn = lp / ls if ls != 0 else 0.0
+                if gn < -0.5:
+                    gn = -0.5
+                if gn > 2.0:
+                    gn = 2.0
+                g = gn
+            s_c, phi_c = s_new, phi_new
+        last_dphi = dphi
+        if done and dphi <= _PHI_TOL:
+            break
+    fe = 1.0 / ((y * s_c**g / (Me * phi_c)) ** (1.0 / (1.0 + g))) if has_e else 0.0
+    return _result(_FLOATS, s, y, x, fe, phi_c, (y, tuple(x), g, s_c), True, False)
 
 
 def _result(ops: _Ops, s: _System, y, x, fe, phi_c, state, active, bad) -> MixtureResult:
