@@ -433,9 +433,8 @@ class MediumModel:
         """(species, molality [mol/kg], its binary model) of each neutral solute of the model (PEG apart)."""
         if not self._neutral_idx:
             return []
-        sm = state.species_m[row]
-        return [(self.species[k], float(sm[k]), p) for k, p in zip(self._neutral_idx, self._neutral_params,
-                                                                     strict=True)]
+        sm = state.species_m[row].tolist()
+        return [(self.species[k], sm[k], p) for k, p in zip(self._neutral_idx, self._neutral_params, strict=True)]
 
     def peg_solutes(self, state: ModelState, row: int = 0) -> list[tuple[int, float]]:
         """(grade [g/mol], concentration [g PEG / g water]) of each PEG grade of the model."""

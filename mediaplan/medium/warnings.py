@@ -19,7 +19,7 @@ from mediaplan.medium.recipe import Line, Recipe
 from mediaplan.thermo.constants import T0
 from mediaplan.thermo.peg import PEG_VALIDITY
 from mediaplan.thermo.potential import potential_from_osmolality
-from mediaplan.thermo.precipitation import calcium_saturation
+from mediaplan.thermo.precipitation import SPECIES_READ, calcium_saturation
 
 if TYPE_CHECKING:
     from mediaplan.medium.evaluate import Evaluation
@@ -153,14 +153,14 @@ def pitzer_default(ctx: Context) -> list[Warning_]:
     model = ctx.model
     if not model.ion_pairs_without_parameters:
         return []
-    pairs, signs = model.memo(("pitzer_default",), lambda: _default_pairs(model))
-    m = list(model.ion_molalities(ctx.state).values())  # in model order, as the charges
+    pairs, cations, anions, ion_idx = model.memo(("pitzer_default",), lambda: _default_pairs(model))
+    sm = ctx.state.species_m[0].tolist()
+    m = [sm[k] for k in ion_idx]  # the ion molalities in model order (MediumModel.ion_molalities)
     weights = [(m[i] * m[j], c, a) for i, j, c, a in pairs if m[i] > 0 and m[j] > 0]
     if not weights:
         return []
     weights.sort(reverse=True)  # weightiest first
-    total_w = sum([v for v, q in zip(m, signs, strict=True) if q > 0]) * sum(
-        [v for v, q in zip(m, signs, strict=True) if q < 0])
+    total_w = sum([m[k] for k in cations]) * sum([m[k] for k in anions])
     frac = sum([w for w, _, _ in weights]) / total_w if total_w > 0 else 0.0
     named = ", ".join(f"{c.split('[')[0]}–{a.split('[')[0]}" for _, c, a in weights[:3]) + (
         " …" if len(weights) > 3 else "")
@@ -169,13 +169,17 @@ def pitzer_default(ctx: Context) -> list[Warning_]:
                      "cation–anion interactions")]
 
 
-def _default_pairs(model: MediumModel) -> tuple[list[tuple[int, int, str, str]], list[int]]:
-    """(the ion pairs without Pitzer parameters as (cation index, anion index, cation, anion) in the model's
-    ion order, the ions' charges): what :func:`pitzer_default` looks at, per model."""
+def _default_pairs(model: MediumModel) -> tuple[list[tuple[int, int, str, str]], list[int], list[int], list[int]]:
+    """What :func:`pitzer_default` looks at, per model: the ion pairs without Pitzer parameters as (cation
+    index, anion index, cation, anion) in the model's ion order; the indices of the cations and of the
+    anions in that order; the ions' columns among the model's species."""
     ions = list(model.ion_charges)
     where = {ion: k for k, ion in enumerate(ions)}
+    charges = list(model.ion_charges.values())
+    column = {sp: k for k, sp in enumerate(model.species)}
     return ([(where[c], where[a], c, a) for c, a in model.ion_pairs_without_parameters],
-            list(model.ion_charges.values()))
+            [k for k, q in enumerate(charges) if q > 0], [k for k, q in enumerate(charges) if q < 0],
+            [column[ion] for ion in ions])
 
 
 def pitzer_range(ctx: Context) -> list[Warning_]:
@@ -209,7 +213,12 @@ def precipitation(ctx: Context) -> list[Warning_]:
     if not ctx.model.has_electrolytes:
         return []
     out = []
-    present = ctx.model.species_present(ctx.state)
+    model = ctx.model
+    read = model.memo(("precipitation",), lambda: [(sp, k) for k, sp in enumerate(model.species)
+                                                    if sp in SPECIES_READ])
+    sm = ctx.state.species_m[0].tolist()
+    # what MediumModel.species_present gives, of the species the screen reads
+    present = {sp: sm[k] for sp, k in read if sm[k] > 0}
     for an, name, ratio in calcium_saturation(present, ctx.evaluation.ionic_strength_mol_per_kg):
         if ratio > PRECIPITATION_RATIO:
             word = "exceeds" if ratio > 1 else "approaches"
@@ -344,8 +353,16 @@ def density_estimate(ctx: Context) -> list[Warning_]:
     model = ctx.model
     if not model.default_volume:
         return []
-    by_id = {c.id: c for c in ctx.evaluation.components}
-    big = [cid for cid in model.default_volume if cid in by_id and by_id[cid].grams_per_litre > DENSITY_ESTIMATE_G_PER_L]
+    comps = ctx.evaluation.components
+    if len(comps) == len(model.components):  # the rows are the model's components, in its order
+        rows = model.memo(("density_estimate",), lambda: [(c.id, i) for i, c in enumerate(model.components)
+                                                          if c.id in model.default_volume])
+        # default_volume lists each id once, in model order
+        big = [cid for cid, i in rows if comps[i].id == cid and comps[i].grams_per_litre > DENSITY_ESTIMATE_G_PER_L]
+    else:
+        by_id = {c.id: c for c in comps}
+        big = [cid for cid in model.default_volume
+               if cid in by_id and by_id[cid].grams_per_litre > DENSITY_ESTIMATE_G_PER_L]
     if big:
         return [Warning_("density_estimate", "no apparent molar volume for " + ", ".join(big) +
                          ": estimated from a solid density of 1.5 g/cm³")]

@@ -18,6 +18,8 @@ KSP = {("Ca[2+]", "SO4[2-]"): (10**-4.58, "calcium sulfate (gypsum)"),
        ("Ca[2+]", "HPO4[2-]"): (10**-6.59, "calcium hydrogen phosphate (brushite)")}
 #: fraction of orthophosphate present as HPO4[2-] at pH 5.8 (pKa2 = 7.2): 10^(5.8-7.2)/(1+10^(5.8-7.2))
 HPO4_FRACTION_PH58 = 10 ** (5.8 - 7.2) / (1 + 10 ** (5.8 - 7.2))
+#: the species :func:`calcium_saturation` reads from its molalities (any other may be left out of them)
+SPECIES_READ = frozenset({"Ca[2+]", "HPO4[2-]", "H2PO4[-]", *(an for _cat, an in KSP)})
 
 
 def davies_log10_gamma(z: int, ionic_strength: float) -> float:
