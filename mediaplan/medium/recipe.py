@@ -253,12 +253,21 @@ class Recipe:
             comp = ln.component
             if groups is None or comp.group in groups:
                 a = ln.amount
-                amt = _new(ScaledAmount)  # made field by field: what ScaledAmount(...) and Line(...) make
-                _set(amt, "__dict__", {"value": a.value * f, "kind": a.kind, "_like": a.text})
-                scaled = _new(Line)
-                _set(scaled, "__dict__", {"component": comp, "amount": amt, "origin": "base",
-                                          "confidence": ln.confidence, "scaled": True})
-                ln = scaled
+                # made field by field, in each new object's own namespace (cheaper than giving it a new
+                # one): what ScaledAmount(...) and Line(...) make
+                amt = _new(ScaledAmount)
+                d = amt.__dict__
+                d["value"] = a.value * f
+                d["kind"] = a.kind
+                d["_like"] = a.text
+                conf = ln.confidence
+                ln = _new(Line)
+                d = ln.__dict__
+                d["component"] = comp
+                d["amount"] = amt
+                d["origin"] = "base"
+                d["confidence"] = conf
+                d["scaled"] = True
             lines.append(ln)
         if len(_BASE_LINES) >= 16:
             _BASE_LINES.clear()
