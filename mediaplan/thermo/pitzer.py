@@ -494,6 +494,8 @@ class PitzerSystem:
                           if self._has_etheta else [])
         self._z2h_list, self._absz_list = self._z2h.tolist(), self._absz.tolist()
         self._basis: dict[float, np.ndarray] = {}   # T [K] -> temperature_basis(T), a few temperatures
+        self._entry_rows: dict[float, list] = {}    # T [K] -> _entries(T) grouped by k, for one row
+        self._basis_shift: dict[tuple, np.ndarray] = {}  # (T, T_from) -> basis(T) - basis(T_from)
 
     # -----------------------------------------------------------------------------------------------------
     def a_phi(self, T: float) -> float | np.ndarray:
@@ -668,6 +670,29 @@ class PitzerSystem:
             self._basis[T] = got
         return got
 
+    def _shift(self, T: float, T_from: float) -> np.ndarray:
+        """``_basis_at(T) - _basis_at(T_from)`` (the same array), kept for a few pairs of temperatures."""
+        key = (T, T_from)
+        got = self._basis_shift.get(key)
+        if got is None:
+            got = self._basis_at(T) - self._basis_at(T_from)
+            if len(self._basis_shift) >= _T_CACHE_SIZE:
+                self._basis_shift = {}
+            self._basis_shift[key] = got
+        return got
+
+    def _entries_by_k(self, T: float) -> list[list[tuple[int, int, float]]]:
+        """:meth:`_entries` at T [K] as one list of (i, j, value) per k, each in the order of ``_entries``."""
+        got = self._entry_rows.get(T)
+        if got is None:
+            got = [[] for _ in range(self._K)]
+            for k, i, j, val in self._entries(T):
+                got[k].append((i, j, val))
+            if len(self._entry_rows) >= _T_CACHE_SIZE:
+                self._entry_rows = {}
+            self._entry_rows[T] = got
+        return got
+
     def _a_phi_scalar(self, T: float) -> float:
         T = float(T)
         A = self._a_cache.get(T)
@@ -731,7 +756,7 @@ class _Parts:
     products sum in an order that depends on the batch's shape).
     """
 
-    __slots__ = ("T", "mtot", "I0", "Z0", "q", "dq", "psi", "S0", "empty")
+    __slots__ = ("T", "mtot", "I0", "Z0", "q", "dq", "psi", "S0", "empty", "W")
 
     def __init__(self, system: PitzerSystem, m: list, T: float) -> None:
         self.T = float(T)
@@ -741,9 +766,18 @@ class _Parts:
             mtot = mtot + m[j]
             I0 = I0 + m[j] * z2h[j]
             Z0 = Z0 + m[j] * absz[j]
-        q = [0.0] * system._K
-        for k, i, j, val in system._entries(T):
-            q[k] = q[k] + (val * m[i]) * m[j]
+        if isinstance(m[0], float):
+            # one row: each k's terms added in a local, in _entries' order (0.0 + the first term, as below)
+            q = []
+            for terms in system._entries_by_k(T):
+                acc = 0.0
+                for i, j, val in terms:
+                    acc = acc + (val * m[i]) * m[j]
+                q.append(acc)
+        else:
+            q = [0.0] * system._K
+            for k, i, j, val in system._entries(T):
+                q[k] = q[k] + (val * m[i]) * m[j]
         psi = 0.0
         for a, b, c, val in system._psi_list:
             psi = psi + ((m[a] * m[b]) * m[c]) * val
@@ -759,6 +793,7 @@ class _Parts:
         self.mtot, self.I0, self.Z0, self.q, self.psi, self.S0 = mtot, I0, Z0, q, psi, S0
         self.empty = mtot <= 0.0
         self.dq = None
+        self.W = None  # the E-theta weights, made by the first _Scaled (they do not depend on T)
         if system._has_dT and isinstance(mtot, float):  # one row: sums at other temperatures without a pass
             mv = np.array(m)
             self.dq = (mv @ system._dflat).reshape(5, system._K, system._n) @ mv
@@ -776,7 +811,7 @@ class _Scaled:
         q = parts.q
         T = float(T)
         if T != parts.T and parts.dq is not None:
-            dq = (system._basis_at(T) - system._basis_at(parts.T)) @ parts.dq
+            dq = system._shift(T, parts.T) @ parts.dq
             q = [a + d for a, d in zip(q, dq.tolist(), strict=True)]  # elementwise: the bits of array + array
         self._row = isinstance(parts.mtot, float)
         self._empty = parts.empty
@@ -789,8 +824,11 @@ class _Scaled:
         self._qa = q[2:]
         self._na = system._neg_alpha_list
         self._psi = parts.psi
-        self._W = list(zip(system._prods6_list, _weights(system._ew_rows, parts.S0), strict=True)) \
-            if parts.S0 else []
+        W = parts.W
+        if W is None:
+            W = parts.W = list(zip(system._prods6_list, _weights(system._ew_rows, parts.S0), strict=True)) \
+                if parts.S0 else []
+        self._W = W
         self.phi1 = 1.0 if row_empty else None  # φ at t = 1, made when first asked
 
     def __call__(self, t):
