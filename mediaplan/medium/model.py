@@ -28,7 +28,7 @@ import numpy as np
 
 from mediaplan.medium import roots
 from mediaplan.medium.catalog import Catalog, Component
-from mediaplan.medium.errors import MediaplanError
+from mediaplan.medium.errors import InfeasibleError, MediaplanError
 from mediaplan.thermo import neutral as _neutral
 from mediaplan.thermo import peg as _peg
 from mediaplan.thermo import water
@@ -727,6 +727,11 @@ class ZSRTargets:
             t0, h0 = np.where(open_, t1, t0), np.where(open_, h1, h0)
             t1 = t1 - step
             open_ &= np.abs(step) > 1e-14 * np.abs(t1)
+        unsettled = open_ | ~np.isfinite(t1) | (t1 <= 0.0)
+        if unsettled.any():  # no positive root for these rows: each on its own, which refuses if none exists
+            t1 = t1.copy()
+            for i in np.flatnonzero(unsettled).tolist():
+                t1[i] = _secant_total(pitzer.scaled(q[0] if shared else q[i], T), float(y[i]))
         return t1
 
     def __call__(self, molality: np.ndarray, rows: np.ndarray | None = None) -> np.ndarray:
@@ -826,18 +831,33 @@ _FLOAT_ROWS = 8
 
 def _secant_total(phi: Callable[[float], float], y: float) -> float:
     """t [mol/kg] with t·φ(t) = y [osmol/kg] (φ of the scaled composition, a float function): the steps of
-    :meth:`ZSRTargets._ion_total` for one row."""
+    :meth:`ZSRTargets._ion_total` for one row. Raises :class:`~mediaplan.medium.errors.InfeasibleError` where
+    no positive root is found (see :func:`_unreachable`)."""
     t0 = y
     h0 = t0 * float(phi(t0)) - y
     t1 = y * t0 / (h0 + y)
     for _ in range(60):
-        if abs(t1 - t0) <= 1e-14 * abs(t1):
+        if not (t1 > 0.0 and math.isfinite(t1)):
             break
+        if abs(t1 - t0) <= 1e-14 * abs(t1):
+            return t1
         h1 = t1 * float(phi(t1)) - y
         if h1 == h0:
+            if abs(h1) <= 1e-12 * y:
+                return t1
             break
         t0, h0, t1 = t1, h1, t1 - h1 * (t1 - t0) / (h1 - h0)
-    return t1
+    raise _unreachable(y)
+
+
+def _unreachable(y: float) -> InfeasibleError:
+    """The salts of a medium alone never reach osmolality y [osmol/kg] in the Pitzer model at these proportions
+    and this temperature (their φ falls faster than their molality rises: at 0 °C a medium's salts can peak
+    near 7-8 osmol/kg), so the ZSR rule has no binary solution to refer to: refused, never extrapolated."""
+    return InfeasibleError(
+        f"a target of {y * 1000:.0f} mOsm/kg is beyond what the model can compute with this medium's salts at "
+        "this temperature: in the Pitzer model their osmolality never reaches it, far past the molalities their "
+        "parameters were measured for", hint="choose a target nearer the medium's own osmolality")
 
 
 def sweep_residuals(sweep: Sweep, y) -> Callable[[np.ndarray, np.ndarray], np.ndarray]:
