@@ -54,18 +54,19 @@ def chi2_sf(df: int, x: float) -> float:
             for k in range(1, m + 1):
                 s += t
                 t *= y / (k + 0.5)
-            return total + s
+            return min(1.0, total + s)  # a probability: rounding never lifts it above 1
         log_y = math.log(y)
-        return total + math.fsum(math.exp(-y + (k - 0.5) * log_y - math.lgamma(k + 0.5)) for k in range(1, m + 1))
+        return min(1.0, total + math.fsum(math.exp(-y + (k - 0.5) * log_y - math.lgamma(k + 0.5))
+                                          for k in range(1, m + 1)))
     if -y > _LOG_TINY:
         t = math.exp(-y)
         s = 0.0
         for k in range(m):
             s += t
             t *= y / (k + 1)
-        return s
+        return min(1.0, s)
     log_y = math.log(y)
-    return math.fsum(math.exp(-y + k * log_y - math.lgamma(k + 1)) for k in range(m))
+    return min(1.0, math.fsum(math.exp(-y + k * log_y - math.lgamma(k + 1)) for k in range(m)))
 
 
 def normal_quantile(p: float) -> float:
