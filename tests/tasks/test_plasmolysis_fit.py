@@ -54,6 +54,23 @@ def test_irls_matches_statsmodels_glm(link, seed):
 
 
 @pytest.mark.parametrize("link", ["logit", "probit"])
+@pytest.mark.parametrize("per_level", [1_000, 10_000, 100_000])
+def test_counts_the_model_fits_almost_exactly_converge(link, per_level):
+    """Thousands of cells per level on the model's own curve: the deviance is so small that its rounding
+    exceeds the deviance test, and the fit was refused as not converging; the coefficients settle."""
+    import statsmodels.api as sm  # a required reference library (tests/conftest.py)
+    x = np.linspace(-0.3, -1.7, 8)
+    n = np.full(x.size, float(per_level))
+    y = np.round(n * inverse_link(-6.5 * (x + 1.05), link))
+    g = fit_glm(x, y, n, link)
+    assert g.converged
+    L = sm.families.links.Logit() if link == "logit" else sm.families.links.Probit()
+    ref = sm.GLM(np.column_stack([y, n - y]), sm.add_constant(x), family=sm.families.Binomial(link=L)).fit(tol=1e-14)
+    np.testing.assert_allclose(g.coef, ref.params, rtol=1e-8)
+    assert -g.coef[0] / g.coef[1] == pytest.approx(-1.05, abs=2e-3)  # the curve the counts were drawn on
+
+
+@pytest.mark.parametrize("link", ["logit", "probit"])
 def test_fieller_agrees_with_delta_method_when_the_slope_is_sharp(link):
     # for g = q^2 V11 / b1^2 -> 0 Fieller's interval tends to the delta-method one (Finney 1971, sect. 4.5)
     import statsmodels.api as sm  # a required reference library (tests/conftest.py)
