@@ -69,6 +69,10 @@ SOLUBILITY_MARGIN = 0.8
 #: temperature [K] a medium or its stocks are taken to be kept at when the plan states none (common
 #: practice: a cold room or refrigerator at 4 °C)
 DEFAULT_STORAGE_K = 277.15
+#: relative margin [-] by which the evaluation's ionic strength must lie below every Pitzer pair's range for
+#: :func:`pitzer_range` to stop there (the two sums of I agree to about 1e-15; a wide margin, so the screen
+#: never decides what the full check would decide otherwise)
+PITZER_RANGE_SCREEN = 1e-9
 #: share of the osmolality [fraction] above which a component without a reflection coefficient is named
 REFLECTION_SHARE_NOTED = 0.01
 #: grams per litre above which an estimated apparent molar volume is worth a note (common practice: below
@@ -185,8 +189,15 @@ def _default_pairs(model: MediumModel) -> tuple[list[tuple[int, int, str, str]],
 def pitzer_range(ctx: Context) -> list[Warning_]:
     """Ion pairs whose Pitzer parameters are used beyond the ionic strength of their data (``max_m`` of
     each pair in catalog pitzer.yaml, with its source)."""
+    model = ctx.model
+    floor = model.memo(("pitzer_range",), lambda: model._pitzer.min_pair_ionic_strength
+                       if model._pitzer is not None else math.inf)
+    # the evaluation's ionic strength (the same sum in another order: within a few 1e-16 of the one
+    # ion_pairs_beyond_data makes) well below every pair's range: nothing to look at, no second sum
+    if ctx.evaluation.ionic_strength_mol_per_kg * (1.0 + PITZER_RANGE_SCREEN) < floor:
+        return []
     try:
-        over = ctx.model.ion_pairs_beyond_data(ctx.state)
+        over = model.ion_pairs_beyond_data(ctx.state)
     except Exception:  # noqa: BLE001 - a validity screen must never break an evaluation
         over = []
     return [Warning_("validity", f"{c}–{a}: ionic strength beyond the Pitzer parameters' data range")

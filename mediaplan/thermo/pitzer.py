@@ -712,6 +712,12 @@ class PitzerSystem:
         """Water activity a_w = exp(-M_w phi Σ m_i) [-] of the electrolyte solution, shape m.shape[:-1]."""
         return np.exp(-M_WATER * self.osmolality(m, T))
 
+    @property
+    def min_pair_ionic_strength(self) -> float:
+        """The lowest ionic strength [mol/kg] at which some pair's parameters are past their data (inf
+        without pairs): below it :meth:`max_molality_exceeded` finds nothing."""
+        return self._min_pair_imax
+
     def max_molality_exceeded(self, m: np.ndarray) -> list[tuple[str, str]]:
         """Pairs present whose binary parameters are used beyond their fitted range.
 
