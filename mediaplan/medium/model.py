@@ -472,6 +472,12 @@ class MediumModel:
             return []
         return self._pitzer.max_molality_exceeded(state.species_m[row, self._ion_sel])
 
+    @property
+    def pitzer_range_floor(self) -> float:
+        """The lowest ionic strength [mol/kg] at which some ion pair's Pitzer parameters are past their data
+        (inf without ions): below it :meth:`ion_pairs_beyond_data` finds nothing."""
+        return self._pitzer.min_pair_ionic_strength if self._pitzer is not None else math.inf
+
     # ---- a medium along a line of amounts ----------------------------------------------------
     def along(self, n0: np.ndarray, b0: np.ndarray, dn: np.ndarray, db: np.ndarray, *,
               x_max: float = math.inf) -> Sweep:

@@ -190,8 +190,7 @@ def pitzer_range(ctx: Context) -> list[Warning_]:
     """Ion pairs whose Pitzer parameters are used beyond the ionic strength of their data (``max_m`` of
     each pair in catalog pitzer.yaml, with its source)."""
     model = ctx.model
-    floor = model.memo(("pitzer_range",), lambda: model._pitzer.min_pair_ionic_strength
-                       if model._pitzer is not None else math.inf)
+    floor = model.pitzer_range_floor
     # the evaluation's ionic strength (the same sum in another order: within a few 1e-16 of the one
     # ion_pairs_beyond_data makes) well below every pair's range: nothing to look at, no second sum
     if ctx.evaluation.ionic_strength_mol_per_kg * (1.0 + PITZER_RANGE_SCREEN) < floor:

@@ -48,7 +48,7 @@ def _unscreened(ctx: W.Context) -> list[str]:
 def test_the_ionic_strength_screen_agrees_with_the_full_check_at_its_edge(catalog, name):
     mix = MIXTURES[name]
     ctx = _context(_recipe(mix, 1.0), catalog)
-    floor = ctx.model._pitzer.min_pair_ionic_strength
+    floor = ctx.model.pitzer_range_floor
     # the factor that brings I to the floor: I is close to proportional to the amounts; refine once
     f = floor / ctx.evaluation.ionic_strength_mol_per_kg
     f *= floor / _context(_recipe(mix, f), catalog).evaluation.ionic_strength_mol_per_kg
