@@ -40,9 +40,6 @@ def curve_points(fit: PlasmolysisFit, n: int = 121) -> CurvePoints:
     The band uses the same critical value as the fit's interval (normal, or t on the residual df
     when the fit was widened for overdispersion).
     """
-    from scipy.stats import norm
-    from scipy.stats import t as student_t
-
     ox = np.array([r["water_potential_mpa"] for r in fit.rows], dtype=float)
     lo, hi = float(ox.min()), float(ox.max())
     if fit.ci95_mpa is not None:
@@ -53,7 +50,14 @@ def curve_points(fit: PlasmolysisFit, n: int = 121) -> CurvePoints:
     V = np.asarray(fit.covariance)
     eta = fit.intercept + fit.slope_per_mpa * x
     se = np.sqrt(np.maximum(V[0, 0] + 2 * x * V[0, 1] + x * x * V[1, 1], 0.0))
-    q = float(student_t.ppf(0.975, fit.df)) if fit.widened else float(norm.ppf(0.975))
+    if fit.widened:
+        from scipy.stats import t as student_t  # only a widened fit needs t's quantile (and scipy)
+
+        q = float(student_t.ppf(0.975, fit.df))
+    else:
+        from mediaplan.tasks.plasmolysis.fit import Z_95  # scipy.stats.norm.ppf(0.975), the same float
+
+        q = Z_95
     a, b = inverse_link(eta - q * se, fit.link), inverse_link(eta + q * se, fit.link)
     return CurvePoints(
         x_mpa=x, fitted=inverse_link(eta, fit.link), band_low=np.minimum(a, b), band_high=np.maximum(a, b),
