@@ -16,6 +16,22 @@ from mediaplan.tui.app import MediaplanApp
 
 
 @pytest.fixture(autouse=True)
+def _isolated(tmp_path, monkeypatch):
+    """Each app test runs in its own folder, with its own config and state folders (recent plans, autosaves)."""
+    monkeypatch.setenv("MEDIAPLAN_CONFIG_DIR", str(tmp_path / "config"))
+    monkeypatch.setenv("MEDIAPLAN_STATE_DIR", str(tmp_path / "state"))
+    monkeypatch.chdir(tmp_path)
+
+
+@pytest.fixture(scope="module")
+def catalog():
+    """The catalog the app itself reads (bundled, then the user's and facility folders: none here)."""
+    from mediaplan.files.catalog import get_catalog
+
+    return get_catalog()
+
+
+@pytest.fixture(autouse=True)
 def _no_warm_start(request, monkeypatch):
     if "warm_start" not in request.keywords:
         monkeypatch.setattr(MediaplanApp, "WARM_START", False)

@@ -25,20 +25,6 @@ from mediaplan.tui.session import Session
 from mediaplan.tui.widgets.relations import figures
 
 
-@pytest.fixture(autouse=True)
-def _isolated(tmp_path, monkeypatch):
-    monkeypatch.setenv("MEDIAPLAN_CONFIG_DIR", str(tmp_path / "config"))
-    monkeypatch.setenv("MEDIAPLAN_STATE_DIR", str(tmp_path / "state"))
-    monkeypatch.chdir(tmp_path)
-
-
-@pytest.fixture(scope="module")
-def catalog():
-    from mediaplan.files.catalog import get_catalog
-
-    return get_catalog()
-
-
 async def retype(pilot, text: str) -> None:
     """Clear the focused field (Ctrl+U from its end) and type ``text``."""
     await pilot.press("end", "ctrl+u")

@@ -17,13 +17,6 @@ from mediaplan.tui.session import Session
 from tests.tui.tui_helpers import SIZE_IDS, SIZES, app_for, run_async, screen_lines
 
 
-@pytest.fixture(autouse=True)
-def _isolated(tmp_path, monkeypatch):
-    monkeypatch.setenv("MEDIAPLAN_CONFIG_DIR", str(tmp_path / "config"))
-    monkeypatch.setenv("MEDIAPLAN_STATE_DIR", str(tmp_path / "state"))
-    monkeypatch.chdir(tmp_path)
-
-
 def _write(path, recipe, title):
     planfile.write(Plan(recipe=recipe, title=title), path)
     return path

@@ -22,20 +22,6 @@ from mediaplan.tui.widgets.relations import COMPUTING, figures
 sizes = pytest.mark.parametrize("size", SIZES, ids=SIZE_IDS)
 
 
-@pytest.fixture(autouse=True)
-def _isolated(tmp_path, monkeypatch):
-    monkeypatch.setenv("MEDIAPLAN_CONFIG_DIR", str(tmp_path / "config"))
-    monkeypatch.setenv("MEDIAPLAN_STATE_DIR", str(tmp_path / "state"))
-    monkeypatch.chdir(tmp_path)
-
-
-@pytest.fixture(scope="module")
-def catalog():
-    from mediaplan.files.catalog import get_catalog
-
-    return get_catalog()
-
-
 class _NotYet:
     """The engine "being imported" until :meth:`arrive`; the app's warm start stands in for the real one."""
 

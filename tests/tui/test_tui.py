@@ -10,7 +10,6 @@ import re
 import pytest
 
 from mediaplan.files import planfile
-from mediaplan.files.catalog import get_catalog
 from mediaplan.files.planfile import Plan
 from mediaplan.medium.evaluate import evaluate
 from mediaplan.medium.recipe import Recipe
@@ -32,18 +31,6 @@ def run_async(fn):
     def wrapper(*args, **kwargs):
         return asyncio.run(fn(*args, **kwargs))
     return wrapper
-
-
-@pytest.fixture(autouse=True)
-def _isolated(tmp_path, monkeypatch):
-    monkeypatch.setenv("MEDIAPLAN_CONFIG_DIR", str(tmp_path / "config"))
-    monkeypatch.setenv("MEDIAPLAN_STATE_DIR", str(tmp_path / "state"))
-    monkeypatch.chdir(tmp_path)
-
-
-@pytest.fixture
-def catalog():
-    return get_catalog()
 
 
 def write_plan(path, recipe: Recipe, title="Test medium (invented)"):

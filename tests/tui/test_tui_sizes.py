@@ -24,7 +24,6 @@ from tui_helpers import (
 )
 
 from mediaplan.files import planfile
-from mediaplan.files.catalog import get_catalog
 from mediaplan.files.planfile import Plan
 from mediaplan.medium.evaluate import evaluate
 from mediaplan.medium.recipe import Recipe
@@ -36,18 +35,6 @@ from mediaplan.tui.session import Session
 from mediaplan.tui.widgets.relations import figures
 
 sizes = pytest.mark.parametrize("size", SIZES, ids=SIZE_IDS)
-
-
-@pytest.fixture(autouse=True)
-def _isolated(tmp_path, monkeypatch):
-    monkeypatch.setenv("MEDIAPLAN_CONFIG_DIR", str(tmp_path / "config"))
-    monkeypatch.setenv("MEDIAPLAN_STATE_DIR", str(tmp_path / "state"))
-    monkeypatch.chdir(tmp_path)
-
-
-@pytest.fixture(scope="module")
-def catalog():
-    return get_catalog()
 
 
 def main_of(app) -> MainScreen:

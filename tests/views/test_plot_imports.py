@@ -19,7 +19,7 @@ def test_the_critical_value_is_scipys_normal_quantile():
 
     from mediaplan.tasks.plasmolysis.fit import Z_95
 
-    assert Z_95 == float(norm.ppf(0.975))  # the same float, so the band is unchanged bit for bit
+    assert float(norm.ppf(0.975)) == Z_95  # the same float, so the band is unchanged bit for bit
 
 
 def test_curve_of_an_ordinary_fit_imports_no_scipy():
