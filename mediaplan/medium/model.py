@@ -409,6 +409,10 @@ class MediumModel:
             return np.zeros(state.species_m.shape[0])
         return 0.5 * (state.species_m[:, self._ion_sel] @ self._charge2)
 
+    def substance_columns(self, c: Component) -> list[int]:
+        """Columns of this model holding ``c``'s substance in any of its forms (``c`` alone without one)."""
+        return [i for i, cc in enumerate(self.components) if (cc.substance == c.substance if c.substance else cc is c)]
+
     # ---- the species by kind (for the validity checks) ---------------------------------------
     @property
     def has_electrolytes(self) -> bool:
@@ -579,12 +583,11 @@ class Sweep:
             while x > 0 and float(self.model.free_volume(self.arrays(x)[0])) < MIN_FREE_VOLUME:
                 x = float(np.nextafter(x, 0.0))  # rounding left the solutes a hair past the limit
         out = Limit(x)
-        comps = self.model.components
         for c in saturating:
             m_sat = c.saturation_molality
             if m_sat is None:
                 continue
-            idx = [i for i, cc in enumerate(comps) if (cc.substance == c.substance if c.substance else cc is c)]
+            idx = self.model.substance_columns(c)
 
             def sub_m(x, idx=idx):
                 return float(self.molality(x)[idx].sum())

@@ -745,12 +745,11 @@ def _past_solubility(sweep: Sweep, x: float, saturating: Sequence[Component]) ->
     if not saturating:
         return False
     m = sweep.molality(x)
-    comps = sweep.model.components
     for c in saturating:
         m_sat = c.saturation_molality
         if m_sat is None:
             continue
-        idx = [i for i, cc in enumerate(comps) if (cc.substance == c.substance if c.substance else cc is c)]
+        idx = sweep.model.substance_columns(c)
         if float(m[idx].sum()) > m_sat:
             return True
     return False
