@@ -61,13 +61,14 @@ def params_25c_only(params):
 _SYSTEMS: dict = {}
 
 
-def fpd(params, cation, anion, m):
-    """Freezing-point depression [K] of a binary 1-1 salt solution of molality m [mol/kg], φ at 0 °C."""
+def fpd(params, cation, anion, m, nu=(1, 1)):
+    """Freezing-point depression [K] of a binary salt solution of molality m [mol/kg] (nu cations, nu anions
+    per formula), φ at 0 °C."""
     key = (id(params), cation, anion)
     if key not in _SYSTEMS:
         _SYSTEMS[key] = (params, PitzerSystem([cation, anion], params))  # params kept alive: id stays unique
-    phi = float(_SYSTEMS[key][1].osmotic_coefficient(np.array([m, m]), T0))
-    aw = float(potential.water_activity(phi * 2.0 * m))
+    phi = float(_SYSTEMS[key][1].osmotic_coefficient(np.array([nu[0] * m, nu[1] * m]), T0))
+    aw = float(potential.water_activity(phi * (nu[0] + nu[1]) * m))
     return float(potential.freezing_point_depression(aw))
 
 

@@ -20,18 +20,14 @@ from 25 °C. NH4NO3 has no rows in the CRC table transcription read, and no term
 from __future__ import annotations
 
 import dataclasses
-from pathlib import Path
 
 import numpy as np
 import pytest
-import yaml
+import test_pitzer_temperature as nitrates  # the same catalog fixture and freezing-point helper
 
-from mediaplan.thermo import potential
-from mediaplan.thermo.pitzer import PitzerSystem, pitzer_params_from_dict
-
-CATALOG = Path(__file__).resolve().parents[2] / "catalog" / "pitzer.yaml"
-T0 = 273.15
 PAIR = ("NH4[+]", "Cl[-]")
+params = nitrates.params  # fixture: the catalog's Pitzer set
+fpd = nitrates.fpd
 
 # CRC Handbook of Chemistry and Physics, 102nd ed. (2021), "Concentrative properties of aqueous solutions",
 # ammonium chloride: molality m [mol/kg] and freezing-point depression [K] (printed to 0.01 K), rows as
@@ -44,22 +40,10 @@ CRC_NH42SO4 = [(0.154, 0.63), (0.57, 2.05), (1.441, 4.69)]
 
 
 @pytest.fixture(scope="module")
-def params():
-    with CATALOG.open(encoding="utf-8") as fh:
-        return pitzer_params_from_dict(yaml.safe_load(fh))
-
-
-@pytest.fixture(scope="module")
 def params_25c_only(params):
     binary = dict(params.binary)
     binary[PAIR] = dataclasses.replace(params.binary[PAIR], temperature_terms=())
     return dataclasses.replace(params, binary=binary)
-
-
-def fpd(params, cation, anion, m, nu=(1, 1)):
-    """Freezing-point depression [K] of a binary salt of molality m [mol/kg] (nu cations, nu anions), φ at 0 °C."""
-    phi = float(PitzerSystem([cation, anion], params).osmotic_coefficient(np.array([nu[0] * m, nu[1] * m]), T0))
-    return float(potential.freezing_point_depression(potential.water_activity(phi * sum(nu) * m)))
 
 
 @pytest.fixture(scope="module")
