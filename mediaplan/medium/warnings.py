@@ -9,8 +9,9 @@ A check states what it tests and where its threshold comes from.
 from __future__ import annotations
 
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
+from operator import itemgetter, mul
 from typing import TYPE_CHECKING
 
 from mediaplan.medium.catalog import Catalog, celsius
@@ -155,35 +156,61 @@ def pitzer_default(ctx: Context) -> list[Warning_]:
     """Ion pairs present without Pitzer parameters (catalog pitzer.yaml), with the weight of the
     cation–anion interaction terms they carry (product of molalities, heaviest named first)."""
     model = ctx.model
-    if not model.ion_pairs_without_parameters:
+    found = model.memo(("pitzer_default",), lambda: _default_pairs(model))
+    if found is None:
         return []
-    pairs, cations, anions, ion_idx = model.memo(("pitzer_default",), lambda: _default_pairs(model))
-    sm = ctx.state.species_m[0].tolist()
-    m = [sm[k] for k in ion_idx]  # the ion molalities in model order (MediumModel.ion_molalities)
-    weights = [(m[i] * m[j], c, a) for i, j, c, a in pairs if m[i] > 0 and m[j] > 0]
-    if not weights:
+    ions_of, cations_of, anions_of, firsts, seconds, names = found
+    m = ions_of(ctx.state.species_m[0].tolist())  # the ion molalities in model order (ion_molalities)
+    mi, mj = firsts(m), seconds(m)
+    if min(m) > 0:  # every ion present (the usual medium): every pair counts
+        ws = list(map(mul, mi, mj))
+    else:
+        kept = [(a * b, c, n, t) for a, b, c, n, t in zip(mi, mj, *names, strict=True) if a > 0 and b > 0]
+        ws = [w for w, _, _, _ in kept]
+        names = ([c for _, c, _, _ in kept], [n for _, _, n, _ in kept], [t for _, _, _, t in kept])
+    if not ws:
         return []
-    weights.sort(reverse=True)  # weightiest first
-    total_w = sum([m[k] for k in cations]) * sum([m[k] for k in anions])
-    frac = sum([w for w, _, _ in weights]) / total_w if total_w > 0 else 0.0
-    named = ", ".join(f"{c.split('[')[0]}–{a.split('[')[0]}" for _, c, a in weights[:3]) + (
-        " …" if len(weights) > 3 else "")
-    return [Warning_("pitzer_default", f"{len(weights)} ion pair{'s' if len(weights) > 1 else ''} without Pitzer "
+    desc = sorted(ws, reverse=True)  # weightiest first
+    # the three named: of the pairs at or above the third weight, the first three of the (weight, cation,
+    # anion) tuples sorted descending (so ties fall as they would in a sort of every pair's tuple)
+    cut = desc[min(2, len(desc) - 1)]
+    cations, anions, labels = names
+    top = sorted([(ws[k], cations[k], anions[k], labels[k]) for k, w in enumerate(ws) if w >= cut], reverse=True)[:3]
+    total_w = sum(cations_of(m)) * sum(anions_of(m))
+    frac = sum(desc) / total_w if total_w > 0 else 0.0
+    named = ", ".join([label for _, _, _, label in top]) + (" …" if len(ws) > 3 else "")
+    return [Warning_("pitzer_default", f"{len(ws)} ion pair{'s' if len(ws) > 1 else ''} without Pitzer "
                      f"parameters ({named}): Debye–Hückel term only, {100 * frac:.2g} % of the "
                      "cation–anion interactions")]
 
 
-def _default_pairs(model: MediumModel) -> tuple[list[tuple[int, int, str, str]], list[int], list[int], list[int]]:
-    """What :func:`pitzer_default` looks at, per model: the ion pairs without Pitzer parameters as (cation
-    index, anion index, cation, anion) in the model's ion order; the indices of the cations and of the
-    anions in that order; the ions' columns among the model's species."""
+def _gather(idx: list[int]) -> Callable[[Sequence], tuple]:
+    """A function that takes the items at ``idx`` of a sequence, as a tuple (itemgetter's, always a tuple)."""
+    if not idx:
+        return lambda seq: ()
+    if len(idx) == 1:
+        k = idx[0]
+        return lambda seq: (seq[k],)
+    return itemgetter(*idx)
+
+
+def _default_pairs(model: MediumModel) -> tuple | None:
+    """What :func:`pitzer_default` looks at, per model (None: every pair has parameters): gatherers of the
+    ion molalities in the model's ion order (from the species' molalities), of the cations', of the
+    anions', of each pair's cation and of each pair's anion (:func:`_gather`), and the pairs' names (a list
+    of cations, a list of anions, a list of the pairs as shown: "K–NO3")."""
+    missing = model.ion_pairs_without_parameters
+    if not missing:
+        return None
     ions = list(model.ion_charges)
     where = {ion: k for k, ion in enumerate(ions)}
     charges = list(model.ion_charges.values())
     column = {sp: k for k, sp in enumerate(model.species)}
-    return ([(where[c], where[a], c, a) for c, a in model.ion_pairs_without_parameters],
-            [k for k, q in enumerate(charges) if q > 0], [k for k, q in enumerate(charges) if q < 0],
-            [column[ion] for ion in ions])
+    return (_gather([column[ion] for ion in ions]),
+            _gather([k for k, q in enumerate(charges) if q > 0]), _gather([k for k, q in enumerate(charges) if q < 0]),
+            _gather([where[c] for c, _ in missing]), _gather([where[a] for _, a in missing]),
+            ([c for c, _ in missing], [a for _, a in missing],
+             [f"{c.split('[')[0]}–{a.split('[')[0]}" for c, a in missing]))
 
 
 def pitzer_range(ctx: Context) -> list[Warning_]:

@@ -60,3 +60,59 @@ def test_the_ionic_strength_screen_agrees_with_the_full_check_at_its_edge(catalo
         fired += bool(got)
         screened += ctx.evaluation.ionic_strength_mol_per_kg * (1 + W.PITZER_RANGE_SCREEN) < floor
     assert fired >= 3 and screened >= 2  # both sides of the edge were met
+
+
+def _pitzer_default_reference(ctx) -> list[str]:
+    """pitzer_default written plainly: every pair present as a (weight, cation, anion) tuple, sorted."""
+    model = ctx.model
+    ions = list(model.ion_charges)
+    column = {sp: k for k, sp in enumerate(model.species)}
+    m = {ion: float(ctx.state.species_m[0][column[ion]]) for ion in ions}
+    weights = sorted([(m[c] * m[a], c, a) for c, a in model.ion_pairs_without_parameters if m[c] > 0 and m[a] > 0],
+                     reverse=True)
+    if not weights:
+        return []
+    total = sum([m[i] for i in ions if model.ion_charges[i] > 0]) * sum([m[i] for i in ions if model.ion_charges[i] < 0])
+    frac = sum([w for w, _, _ in weights]) / total if total > 0 else 0.0
+    named = ", ".join(f"{c.split('[')[0]}–{a.split('[')[0]}" for _, c, a in weights[:3]) + (
+        " …" if len(weights) > 3 else "")
+    return [f"{len(weights)} ion pair{'s' if len(weights) > 1 else ''} without Pitzer parameters ({named}): "
+            f"Debye–Hückel term only, {100 * frac:.2g} % of the cation–anion interactions"]
+
+
+def test_the_unparametrised_pairs_note_matches_a_plain_sort_of_every_pair(catalog):
+    """The note on ion pairs without Pitzer parameters (gathered and sorted in C, the top three picked
+    by threshold) says what a plain sort of every pair's (weight, cation, anion) says, over a table of
+    ion compositions: random molalities, ions absent (zero), equal molalities (ties in weight, broken by
+    name), one ion pair alone, no pair at all."""
+    import random
+    from types import SimpleNamespace
+
+    import numpy as np
+
+    ctx = _context(Recipe(base="ms1962"), catalog)
+    base = ctx.state.species_m[0].copy()
+    ions = [k for k, sp in enumerate(ctx.model.species) if sp in ctx.model.ion_charges]
+    rng = random.Random(16)
+    cases = [base]
+    for _ in range(300):
+        sm = base.copy()
+        for k in ions:
+            sm[k] = rng.choice([0.0, 0.0, 1e-3, 2e-3, 10 ** rng.uniform(-9, 0.5), rng.random()])
+        cases.append(sm)
+    for keep in range(len(ions)):  # one ion left, then two, ...: single pairs and none
+        sm = base.copy()
+        for k in ions[keep + 1:]:
+            sm[k] = 0.0
+        cases.append(sm)
+    equal = base.copy()
+    equal[ions] = 0.004  # every pair the same weight: the names fall in descending name order
+    cases.append(equal)
+    fired = 0
+    for sm in cases:
+        fake = SimpleNamespace(recipe=ctx.recipe, catalog=catalog, lines=ctx.lines, model=ctx.model,
+                               state=SimpleNamespace(species_m=np.array([sm])), evaluation=ctx.evaluation, T=ctx.T)
+        got = [w.message for w in W.pitzer_default(fake)]
+        assert got == _pitzer_default_reference(fake), sm
+        fired += bool(got)
+    assert 0 < fired < len(cases)  # the table holds compositions with and without such pairs
