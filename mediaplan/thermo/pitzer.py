@@ -844,9 +844,9 @@ class _Scaled:
                 return 1.0
             if t == 1.0:
                 if self.phi1 is None:
-                    self.phi1 = self._phi(1.0)
+                    self.phi1 = self._phi_row(1.0)
                 return self.phi1
-            return self._phi(t)
+            return self._phi_row(t)
         phi = self._phi(np.asarray(t, dtype=float))
         return np.where(self._empty, 1.0, phi)
 
@@ -868,6 +868,37 @@ class _Scaled:
                 acc = acc + xdj(x * p6) * w
             s = s + t * acc / self._I0
         return 1.0 + 2.0 * s / (t * self._mtot)
+
+    def _phi_row(self, t: float) -> float:
+        """:meth:`_phi` of one row (t a float), written out: the same operations on the same floats in the
+        same order, with :func:`_x_dj_float` inlined (a row's φ is called a few times per ZSR solve)."""
+        exp = math.exp
+        I = t * self._I0
+        sqI = math.sqrt(I)
+        t2 = t * t
+        t3 = t2 * t
+        A = self._A
+        s = t2 * self._q0 + t3 * self._zq1 - A * I * sqI / (1.0 + self._b * sqI)
+        for qa, na in zip(self._qa, self._na, strict=True):
+            s = s + t2 * (qa * exp(na * sqI))
+        s = s + t3 * self._psi
+        if self._W:
+            log, c1, c2n, c3, c4, one_c2 = math.log, _J_C1, -_J_C2, _J_C3, _J_C4, _ONE_PLUS_J_C2
+            x = A * sqI
+            acc = 0.0
+            for p6, w in self._W:
+                xp = x * p6
+                lx = log(xp)
+                c3xc4 = c3 * exp(c4 * lx)
+                ex = c1 * exp(c2n * lx - c3xc4)
+                d = 4.0 + ex
+                acc = acc + xp * (4.0 + ex * (one_c2 + c4 * c3xc4)) / (d * d) * w
+            s = s + t * acc / self._I0
+        return 1.0 + 2.0 * s / (t * self._mtot)
+
+
+#: 1 + C2 of the J' algebra (:func:`_x_dj`), added once: ``1.0 + _J_C2 + ...`` adds it first too
+_ONE_PLUS_J_C2 = 1.0 + _J_C2
 
 
 def _weights(ew: list, S0: list) -> list:

@@ -74,6 +74,20 @@ def test_scaled_phi_is_the_full_pass(catalog, comp, T):
         assert batch(t)[0] == one(s) and batch(t)[1] == system.scaled(0.5 * m0, T)(2.0 * s)
 
 
+@pytest.mark.parametrize("comp", list(IONS))
+def test_a_row_and_a_batch_give_the_same_bits_over_many_scales(catalog, comp):
+    """One row's φ (its arithmetic written out on Python floats) and the batch's (numpy arrays) over 200
+    scales from 1e-4 to 10 and three temperatures, each from its own full pass: the same bits, not merely
+    close. (A row's pass carried from another temperature agrees to rounding only: see the test below.)"""
+    m0 = np.array(list(IONS[comp].values()))
+    scales = np.geomspace(1e-4, 10.0, 200)
+    for T in (273.15, 298.15, 310.15):
+        system = PitzerSystem(list(IONS[comp]), catalog.pitzer)
+        one = system.scaled(m0, T)
+        batch = system.scaled(np.tile(m0, (scales.size, 1)), T)(scales)
+        assert [one(float(t)) for t in scales] == batch.tolist()
+
+
 @pytest.mark.parametrize("T", [273.15, 277.15, 313.15])
 @pytest.mark.parametrize("comp", list(IONS))
 def test_a_pass_carried_to_another_temperature(catalog, comp, T):
