@@ -387,6 +387,10 @@ def _newton(ops: _Ops, s: _System, start: tuple | None) -> MixtureResult:
             return _result(ops, s, y, x, 0.0, phi_c, (y, tuple(x), g, s_c), True, False)
         if has_e:
             phi_c = s.phi_at(s_c)
+    if floats and has_e and not phi_c > 0:
+        # Pitzer's φ is past its range (<= 0) where the steps start: no answer, as for a step below (a
+        # batch's rows meet NaN at their first step and are marked bad there)
+        return _result(ops, s, math.nan, x, math.nan, math.nan, None, True, True)
     Me = where(has_e, s.M_e, 1.0)
     bad = active & False  # rows whose electrolytes left Pitzer's range (φ <= 0): no answer
 
@@ -489,6 +493,10 @@ def _newton_row(s: _System, start: tuple | None) -> MixtureResult:
             return _result(_FLOATS, s, y, x, 0.0, phi_c, (y, tuple(x), g, s_c), True, False)
         if has_e:
             phi_c = s.phi_at(s_c)
+    if has_e and not phi_c > 0:
+        # Pitzer's φ is past its range (<= 0) where the steps start: no answer, as for a step below (a
+        # power of a negative number would leave the real numbers)
+        return _result(_FLOATS, s, math.nan, x, math.nan, math.nan, None, True, True)
     Me = s.M_e if has_e else 1.0
     phi_at = s.phi_at
     log = math.log
