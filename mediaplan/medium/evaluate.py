@@ -12,7 +12,8 @@ from dataclasses import asdict, dataclass, field
 from mediaplan.medium.catalog import GROUP_LABELS, Catalog
 from mediaplan.medium.errors import AmountError, MediaplanError
 from mediaplan.medium.model import compiled
-from mediaplan.medium.recipe import Recipe, check_plausible, molality_of
+from mediaplan.medium.recipe import Recipe, check_plausible, molality_of, within_limits
+from mediaplan.medium.units import format_amount
 from mediaplan.medium.warnings import Context, Warning_, warnings_for
 from mediaplan.thermo import potential
 from mediaplan.thermo.constants import T0
@@ -41,9 +42,12 @@ class ComponentResult:
 
     def __getattr__(self, name: str):
         # evaluate() leaves ``amount`` to be written when first read (a base line at a new strength is
-        # formatted only for display): it keeps the Amount, whose text is the field's value
+        # formatted only for display): it keeps the Amount and the factor it is taken at (the strength of a
+        # scaled base line, else 1), whose text is the field's value
         if name == "amount" and "_amount_of" in self.__dict__:
-            text = self.__dict__["_amount_of"].text
+            a, f = self.__dict__["_amount_of"], self.__dict__.get("_factor", 1.0)
+            # a base line at a strength: the text ScaledAmount gives (the published text's unit and style)
+            text = a.text if f == 1.0 else format_amount(a.value * f, a.kind, like=a.text)
             self.__dict__["amount"] = text
             return text
         raise AttributeError(f"{type(self).__name__!r} object has no attribute {name!r}")
@@ -128,18 +132,24 @@ def evaluate(recipe: Recipe, catalog: Catalog, *, cell_reference_mosmol: float |
     cell_reference_mosmol : osmolality of the cells' sap [mOsm/kg] for tonicity, or None
     isotonic_tolerance : fraction of the reference within which the medium counts as isotonic
     """
-    lines = recipe.lines(catalog)
+    # a base at a strength: its scaled lines as the full-strength lines and the strength (no line object
+    # made per scaled line); recipe.lines() gives the lines themselves, where an error message needs them
+    lines, factors = recipe.lines_at_full_strength(catalog)
     T = recipe.temperature_k
     comps = [ln.component for ln in lines]
     model = compiled(catalog, comps, T)
-    n, b = model.amounts_to_arrays([ln.amount for ln in lines])
+    n, b = model.amounts_to_arrays([ln.amount for ln in lines], factors)
     try:
         W = float(model.water(n, b))
     except MediaplanError:
-        molality_of(model, lines, n, b)  # the error that names the line taking the most volume
+        # the error that names the line taking the most volume
+        molality_of(model, lines if factors is None else recipe.lines(catalog), n, b)
         raise
     molality = n / W + b  # what molality_of gives (MediumModel.molality)
-    check_plausible(lines, molality, catalog.pitzer, model=model)
+    if factors is None:
+        check_plausible(lines, molality, catalog.pitzer, model=model)
+    elif not within_limits(lines, molality, catalog.pitzer, model):  # the same components and origins
+        check_plausible(recipe.lines(catalog), molality, catalog.pitzer)  # says which line, in its amount
     st = model.solve_row(n, b, W=W, molality=molality)
     mix = st.mix
     y = float(mix.osmolality[0])
@@ -172,6 +182,7 @@ def evaluate(recipe: Recipe, catalog: Catalog, *, cell_reference_mosmol: float |
         r = new_result(ComponentResult)  # the fields set directly; the amount's text when first read
         r.__dict__ = {
             "id": cid, "name": name, "formula": formula, "group": group, "_amount_of": ln.amount,
+            "_factor": 1.0 if factors is None else factors[i],
             "origin": ln.origin, "confidence": ln.confidence, "molarity_mmol_per_l": n_list[i],
             "molality_mmol_per_kg": molality[i] * 1000, "osmolality_mosmol_per_kg": sh * 1000.0,
             "osmolality_ideal_mosmol_per_kg": molality[i] * particles[i] * 1000,
@@ -195,7 +206,7 @@ def evaluate(recipe: Recipe, catalog: Catalog, *, cell_reference_mosmol: float |
         ionic_strength_mol_per_kg=ion_I, water_kg_per_l=W / 1000.0, density_kg_per_l=density, groups=groups,
         effective_osmolality_mosmol_per_kg=eff * 1000.0, tonicity=tonicity,
     )
-    ev.warnings = warnings_for(Context(recipe, catalog, lines, model, st, ev, T))
+    ev.warnings = warnings_for(Context(recipe, catalog, lines, model, st, ev, T, factors))
     if not math.isfinite(theta):  # said in words, never a silent blank where a figure should be
         ev.warnings.insert(0, Warning_(
             "no_freezing_point", "no freezing-point or osmometer figure: at 0 °C the models have no solution for "

@@ -193,29 +193,34 @@ class MediumModel:
         return got
 
     # ---- amounts -> moles -------------------------------------------------------------------
-    def amounts_to_arrays(self, amounts: Sequence) -> tuple[np.ndarray, np.ndarray]:
-        """Per component: (n [mol per m^3 medium], b [mol per kg water]) from Amount objects."""
+    def amounts_to_arrays(self, amounts: Sequence, factors: Sequence[float] | None = None) -> tuple[np.ndarray, np.ndarray]:
+        """Per component: (n [mol per m^3 medium], b [mol per kg water]) from Amount objects, each taken
+        ``factors[i]`` times when factors are given (a base line at a strength: its value times the
+        strength, as :class:`~mediaplan.medium.recipe.ScaledAmount` holds it)."""
         n = [0.0] * len(self.components)
         b = [0.0] * len(self.components)
         for i, (c, a) in enumerate(zip(self.components, amounts, strict=True)):
+            kind, value = a.kind, a.value
+            if factors is not None:
+                value = value * factors[i]
             M = self._M_list[i]
-            if a.kind in ("mass_conc", "mass_per_water", "vol_frac") and M <= 0:
+            if kind in ("mass_conc", "mass_per_water", "vol_frac") and M <= 0:
                 if not c.species:
                     continue  # agar, charcoal: no solutes
                 raise MediaplanError(f"{c.id} has no molar mass in the catalog", hint="add molar_mass to its entry")
-            if a.kind == "mass_conc":
-                n[i] = a.value / M
-            elif a.kind == "molar":
-                n[i] = a.value
-            elif a.kind == "vol_frac":
+            if kind == "mass_conc":
+                n[i] = value / M
+            elif kind == "molar":
+                n[i] = value
+            elif kind == "vol_frac":
                 if self.rho_liquid[i] <= 0:
                     raise MediaplanError(f"{c.id}: a volume fraction needs the liquid's density",
                                          hint="give a mass or molar amount, or add density to its catalog entry")
-                n[i] = a.value * float(self.rho_liquid[i]) / M
-            elif a.kind == "molal":
-                b[i] = a.value
-            elif a.kind == "mass_per_water":
-                b[i] = a.value / M
+                n[i] = value * float(self.rho_liquid[i]) / M
+            elif kind == "molal":
+                b[i] = value
+            elif kind == "mass_per_water":
+                b[i] = value / M
         return np.array(n), np.array(b)
 
     # ---- the volume balance -----------------------------------------------------------------

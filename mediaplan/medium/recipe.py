@@ -205,10 +205,35 @@ class Recipe:
     def lines(self, catalog: Catalog) -> list[Line]:
         """Base formulation × strength (on the lines of :attr:`strength_scope`, marked ``scaled``), then user
         amounts (override by component id; 0 removes)."""
+        out = self._merged(catalog, self._base_lines(catalog) if self.base else ())
+        return [ln for ln in out.values() if not ln.amount.is_zero]
+
+    def lines_at_full_strength(self, catalog: Catalog) -> tuple[list[Line], list[float] | None]:
+        """:meth:`lines` with each scaled base line given as its full-strength line, and the factor its
+        amount takes: (lines, factors), factors[i] the strength for a scaled line and 1.0 for any other, or
+        None when nothing is scaled. The same components, origins and confidences in the same order as
+        :meth:`lines`; line i's amount there is ``lines[i].amount`` times ``factors[i]`` (its value
+        ``value * factor``, its text :func:`~mediaplan.medium.units.format_amount` of that value like the
+        published text). What an evaluation at a strength never seen before reads without making a line
+        object per scaled line (:func:`~mediaplan.medium.evaluate.evaluate`)."""
+        if not self.base or self.strength == 1:
+            return self.lines(catalog), None
+        groups, f = STRENGTH_SCOPES[self.strength_scope], self.strength
+        lines, factors = [], []
+        for ln in self._merged(catalog, self._full_lines(catalog)).values():
+            k = f if ln.origin == "base" and (groups is None or ln.component.group in groups) else 1.0
+            if ln.amount.value * k == 0.0:  # what ScaledAmount.is_zero (Amount.is_zero) says of the line
+                continue
+            lines.append(ln)
+            factors.append(k)
+        return lines, factors
+
+    def _merged(self, catalog: Catalog, base) -> dict[str, Line]:
+        """The base lines given, then the user's amounts over them (override by component id, and a
+        different form of the same substance replaces a base line too), by component id in order."""
         out: dict[str, Line] = {}
-        if self.base:
-            for ln in self._base_lines(catalog):
-                out[ln.component.id] = ln
+        for ln in base:
+            out[ln.component.id] = ln
         for cid, amt in self.amounts:
             comp = catalog.components.get(cid)  # an id: what resolve() finds first
             if comp is None:
@@ -222,25 +247,28 @@ class Recipe:
                 for k in same:
                     del out[k]
                 out[comp.id] = _new(Line)._made(comp, amt, "override" if same else "user", None, False)
-        return [ln for ln in out.values() if not ln.amount.is_zero]
+        return out
 
-
-    def _base_lines(self, catalog: Catalog) -> list[Line]:
-        """The lines of the base formulation at this strength and scope (kept for the last few bases asked:
-        the lines depend on the catalog's medium and components alone, which are checked to be the same
-        objects at each use). At a new strength only the scaled lines are made, each amount a
-        :class:`ScaledAmount` (formatted when first read)."""
+    def _full_lines(self, catalog: Catalog) -> list[Line]:
+        """The lines of the base formulation at full strength (kept for the last few bases asked: they depend
+        on the catalog's medium and components alone, which are checked to be the same objects at each use)."""
         medium = catalog.medium(self.base, field="base")
         got = _FULL_LINES.get(self.base)
         if got is not None and got[0] is medium and all(
                 [catalog.components.get(ln.component.id) is ln.component for ln in got[1]]):
-            full = got[1]
-        else:
-            full = [Line(catalog.components[ml.component], ml.amount, "base", ml.confidence, False)
-                    for ml in medium.lines]
-            if len(_FULL_LINES) >= 16:
-                _FULL_LINES.clear()
-            _FULL_LINES[self.base] = (medium, full)  # the medium kept: its id cannot be reused while cached
+            return got[1]
+        full = [Line(catalog.components[ml.component], ml.amount, "base", ml.confidence, False)
+                for ml in medium.lines]
+        if len(_FULL_LINES) >= 16:
+            _FULL_LINES.clear()
+        _FULL_LINES[self.base] = (medium, full)  # the medium kept: its id cannot be reused while cached
+        return full
+
+    def _base_lines(self, catalog: Catalog) -> list[Line]:
+        """The lines of the base formulation at this strength and scope (:meth:`_full_lines`, kept for the last
+        few strengths asked). At a new strength only the scaled lines are made, each amount a
+        :class:`ScaledAmount` (formatted when first read)."""
+        full = self._full_lines(catalog)
         if self.strength == 1:
             return full
         key = (self.base, self.strength, self.strength_scope)
@@ -303,7 +331,7 @@ def check_plausible(lines: list[Line], molality, pitzer=None, *, model=None) -> 
     25 °C solubility (:attr:`Component.saturation_molality`), or past :data:`PLAUSIBLE_MAX_MOLALITY` without
     a solubility, or when a molality is not a finite number.
     """
-    if _within_limits(lines, molality, pitzer, model):
+    if within_limits(lines, molality, pitzer, model):
         return
     total: dict[str, float] = {}
     first: dict[str, Line] = {}
@@ -344,7 +372,7 @@ def check_plausible(lines: list[Line], molality, pitzer=None, *, model=None) -> 
 _LIMITS: dict[tuple, tuple] = {}
 
 
-def _within_limits(lines: list[Line], molality, pitzer, model=None) -> bool:
+def within_limits(lines: list[Line], molality, pitzer, model=None) -> bool:
     """True when every molality is finite and no substance reaches its limit: the answer of
     :func:`check_plausible` without building its messages (False: let it look, and say what is wrong)."""
     if model is not None and model.catalog.pitzer is pitzer and len(model.components) == len(lines):

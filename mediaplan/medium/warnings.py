@@ -40,7 +40,12 @@ class Warning_:
 
 @dataclass
 class Context:
-    """Everything a check may read about one evaluated recipe (row 0 of ``state``); T [K]."""
+    """Everything a check may read about one evaluated recipe (row 0 of ``state``); T [K].
+
+    ``lines`` are the recipe's lines as :meth:`Recipe.lines_at_full_strength` gives them: with ``factors``
+    (not None), a scaled base line is its full-strength line and its amount is ``lines[i].amount`` times
+    ``factors[i]``. Their components, origins and confidences are those of :meth:`Recipe.lines`; a check
+    that reads an amount takes it from the evaluation's components (or applies the factor)."""
 
     recipe: Recipe
     catalog: Catalog
@@ -49,6 +54,7 @@ class Context:
     state: ModelState
     evaluation: Evaluation
     T: float
+    factors: list[float] | None = None
 
 
 #: share of the osmolality [fraction] from solutes without a published model above which the ideal
