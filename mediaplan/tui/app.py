@@ -31,6 +31,8 @@ from mediaplan.tui.words import in_app_words
 
 #: seconds of quiet after an edit before unsaved work is written to the recovery folder
 AUTOSAVE_DELAY = 2.0
+#: seconds between two priming steps (each a few milliseconds): keys and paints go first
+PRIME_PAUSE = 0.01
 #: set to 1 to exit right after the first painted screen, or to "figures" to exit once the first screen with
 #: the plan's figures is painted (start-up benchmark)
 EXIT_AFTER_PAINT = "MEDIAPLAN_TUI_EXIT_AFTER_PAINT"
@@ -57,6 +59,8 @@ class MediaplanApp(App):
     BINDINGS = bindings("app")
     #: warm the solver, series, fit and sheet after the first paint (tests of other things turn it off)
     WARM_START = True
+    #: import the screens and parse their widgets' stylesheets after the first paint (mediaplan.tui.quick)
+    PRIME_SCREENS = True
 
     class EngineReady(Message):
         """The warm start has imported the engine: the main screen can show the plan's figures."""
@@ -84,6 +88,8 @@ class MediaplanApp(App):
         self.warming_engine = False
         #: set when the app closes: the warm start begins no further step (closing never waits for them)
         self._warm_stop = threading.Event()
+        #: the priming steps not run yet (mediaplan.tui.quick)
+        self._prime_left: list = []
 
     @property
     def catalog(self) -> Catalog:
@@ -110,8 +116,34 @@ class MediaplanApp(App):
             self.call_after_refresh(self._say_catalog_mismatch)
         if self.WARM_START:
             self.call_after_refresh(self.warm_start)
+        if self.PRIME_SCREENS:
+            from mediaplan.tui.quick import prime_steps
+
+            self.call_after_refresh(self._prime, prime_steps(self))
         if self.offer_recovery:
             self.call_after_refresh(self._offer_recovery)
+
+    def _prime(self, steps: list) -> None:
+        """Run the next priming step (mediaplan.tui.quick) while the main screen is on top. A screen opened
+        meanwhile opens undisturbed: the priming stops, and goes on once the main screen is back."""
+        self._prime_left = steps
+        if not steps or self._warm_stop.is_set():
+            return
+        if not (self.screen_stack and isinstance(self.screen_stack[-1], MainScreen)):
+            self.screen_change_signal.subscribe(self, self._prime_again)
+            return
+        step = steps.pop(0)
+        try:
+            step()
+        except Exception:  # noqa: BLE001 - priming only saves time; the screen itself will do the work
+            pass
+        if steps:
+            self.set_timer(PRIME_PAUSE, lambda: self._prime(steps))
+
+    def _prime_again(self, screen) -> None:
+        if isinstance(screen, MainScreen):
+            self.screen_change_signal.unsubscribe(self)
+            self.set_timer(PRIME_PAUSE, lambda: self._prime(self._prime_left))
 
     @work(thread=True, exclusive=True, exit_on_error=False, group="warm", name="warm start")
     def warm_start(self) -> None:

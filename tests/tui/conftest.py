@@ -35,8 +35,11 @@ def catalog():
 def _no_warm_start(request, monkeypatch):
     if "warm_start" not in request.keywords:
         monkeypatch.setattr(MediaplanApp, "WARM_START", False)
+    if "prime_screens" not in request.keywords:  # its timers would keep the pilot's idle waits waiting
+        monkeypatch.setattr(MediaplanApp, "PRIME_SCREENS", False)
 
 
 def pytest_configure(config):
     config.addinivalue_line("markers", "warm_start: run the app with its warm start on")
+    config.addinivalue_line("markers", "prime_screens: run the app with its screens primed after the first paint")
 

@@ -26,7 +26,9 @@ from textual.worker import Worker, WorkerState
 
 from mediaplan.medium.errors import AmountError, MediaplanError
 from mediaplan.tasks.plasmolysis.counts import LevelRecord, SeriesRecord
+from mediaplan.tui.quick import StyledOnce
 from mediaplan.tui.widgets.fields import (
+    FieldInput,
     FieldMessage,
     ParsedValidator,
     TargetValidator,
@@ -38,6 +40,11 @@ from mediaplan.tui.words import SERIES_LABELS, in_app_words
 
 LEVEL_COLUMNS = (("level", "#"), ("psi", "ψ MPa"), ("osm", "mOsm/kg"), ("g", "g/batch"),
                  ("stock", "stock mL"), ("diluent", "water mL"), ("counts", "plasmolysed/total"))
+
+
+#: the plot's place before the first fit, and while the plotting library is being imported
+PLOT_EMPTY = "the fitted curve is drawn here (f fits the counts)"
+PLOT_PREPARING = "the plot is being prepared…"
 
 
 def parse_counts(text: str) -> list[tuple[int, int]]:
@@ -114,7 +121,7 @@ class CountsScreen(ModalScreen[list[tuple[int, int]] | None]):
         with Vertical(classes="dialog", id="counts-dialog") as box:
             box.border_title = "counts"
             yield Label(self.title_text, markup=False)
-            yield Input(self.text, id="counts-input", validators=[ParsedValidator(parse_counts, allow_empty=True)],
+            yield FieldInput(self.text, id="counts-input", validators=[ParsedValidator(parse_counts, allow_empty=True)],
                         placeholder="plasmolysed/total per sample, e.g. 12/50, 10/48")
             yield FieldMessage("one plasmolysed/total per counted sample · Enter keeps them · Esc cancels",
                                id="counts-message")
@@ -134,7 +141,7 @@ class CountsScreen(ModalScreen[list[tuple[int, int]] | None]):
         self.dismiss(None)
 
 
-class SeriesScreen(Screen):
+class SeriesScreen(StyledOnce, Screen):
     """Full screen: design row, levels table with counts, fitted curve."""
 
     BINDINGS = [
@@ -148,6 +155,7 @@ class SeriesScreen(Screen):
                 tooltip="Clear the counts of the level under the cursor (u brings them back)"),
     ]
     HORIZONTAL_BREAKPOINTS = [(0, "-narrow"), (120, "-wide")]
+    AUTO_FOCUS = "#series-levels"
 
     @dataclass
     class Designed(Message):
@@ -175,32 +183,32 @@ class SeriesScreen(Screen):
     def compose(self) -> ComposeResult:
         from mediaplan.tui.warm import module_ready
 
+        self.preset_width_class()
         s = self.series or SeriesRecord()
         yield Static(" plasmolysis series", id="topbar")
         with Grid(id="series-controls"):
             yield Label("first ψ", classes="field-label")
-            yield Input("-0.4 MPa", id="series-from", validators=[TargetValidator()], compact=True)
+            yield FieldInput("-0.4 MPa", id="series-from", validators=[TargetValidator()], compact=True)
             yield Label("last ψ", classes="field-label")
-            yield Input("-1.8 MPa", id="series-to", validators=[TargetValidator()], compact=True)
+            yield FieldInput("-1.8 MPa", id="series-to", validators=[TargetValidator()], compact=True)
             yield Label("levels", classes="field-label")
-            yield Input(str(len(s.levels or ()) or 8), id="series-steps", type="integer", compact=True)
+            yield FieldInput(str(len(s.levels or ()) or 8), id="series-steps", type="integer", compact=True)
             yield Label("osmoticum", classes="field-label")
-            yield Input(s.osmoticum if s.osmoticum is not None else "mannitol", id="series-osmoticum",
+            yield FieldInput(s.osmoticum if s.osmoticum is not None else "mannitol", id="series-osmoticum",
                         compact=True)
             yield Label("volume each", classes="field-label")
-            yield Input(s.volume if s.volume is not None else "50 mL", id="series-volume", compact=True)
+            yield FieldInput(s.volume if s.volume is not None else "50 mL", id="series-volume", compact=True)
         yield FieldMessage("d designs the levels · Enter on a level enters its counts · f fits · k keeps",
                            id="series-message")
         with ScrollableContainer(id="series-body"):
             yield DataTable(id="series-levels", cursor_type="row", zebra_stripes=True)
             with Vertical(id="series-right"):
                 yield Static("", id="series-fit")
-                if module_ready("textual_plotext"):
-                    from textual_plotext import PlotextPlot
-
-                    yield PlotextPlot(id="series-plot")
-                else:  # the screen shows at once; the plot follows once its library is in (a worker imports it)
-                    yield Static("the plot is being prepared…", id="series-plot", classes="plot-waiting")
+                # an empty plot takes as long to draw as a full one: a line of text holds its place until the
+                # first fit; the plotting library is imported by a worker after the screen's first paint
+                ready = module_ready("textual_plotext")
+                yield Static(PLOT_EMPTY if ready else PLOT_PREPARING, id="series-plot",
+                             classes="plot-empty" if ready else "plot-empty plot-waiting", markup=False)
         yield KeyBar()
 
     #: a fit's curve that arrived before the plot was in place (drawn once it is)
@@ -211,7 +219,6 @@ class SeriesScreen(Screen):
         for key, label in LEVEL_COLUMNS:
             table.add_column(label, key=key)
         self._show_levels()
-        table.focus()
         if self.query("#series-plot.plot-waiting"):  # after this screen's first paint, not competing with it
             self.call_after_refresh(self._import_plot)
 
@@ -223,14 +230,12 @@ class SeriesScreen(Screen):
 
     @on(PlotReady)
     async def _plot_ready(self) -> None:
-        from textual_plotext import PlotextPlot
-
-        waiting = self.query_one("#series-plot.plot-waiting")
-        await waiting.remove()
-        await self.query_one("#series-right").mount(PlotextPlot(id="series-plot"))
+        for waiting in self.query("#series-plot.plot-waiting").results(Static):
+            waiting.remove_class("plot-waiting")
+            waiting.update(PLOT_EMPTY)
         if self._points_waiting is not None:
             points, self._points_waiting = self._points_waiting, None
-            self._plot(points)
+            await self._plot(points)
 
     def _show_levels(self) -> None:
         table = self.query_one(DataTable)
@@ -351,13 +356,13 @@ class SeriesScreen(Screen):
             self.post_message(self.Fitted(None, error=in_app_words(exc, SERIES_LABELS)))
 
     @on(Fitted)
-    def _fitted(self, event: Fitted) -> None:
+    async def _fitted(self, event: Fitted) -> None:
         if not report(self.query_one(FieldMessage), event.error,
                       "k keeps the series and sets the cells' reference for tonicity"):
             return
         self.fit = event.fit
         self.query_one("#series-fit", Static).update(fit_summary(event.fit))
-        self._plot(event.points)
+        await self._plot(event.points)
         self.query_one("#series-plot").scroll_visible(animate=False)  # narrow: the curve comes into view
 
     @on(DataTable.RowHighlighted)
@@ -365,13 +370,17 @@ class SeriesScreen(Screen):
         """Narrow: the levels come back into view when the cursor moves on them."""
         event.data_table.scroll_visible(animate=False)
 
-    def _plot(self, cp) -> None:
-        """The fitted curve with its band, the observed proportions (o) and the 50 % point; round ticks."""
+    async def _plot(self, cp) -> None:
+        """The fitted curve with its band, the observed proportions (o) and the 50 % point; round ticks.
+        The first curve puts the plot in the place of the line of text that held it."""
         if self.query("#series-plot.plot-waiting"):
             self._points_waiting = cp
             return
         from textual_plotext import PlotextPlot
 
+        for empty in list(self.query("#series-plot.plot-empty")):
+            await empty.remove()
+            await self.query_one("#series-right").mount(PlotextPlot(id="series-plot"))
         widget = self.query_one(PlotextPlot)
         plt = widget.plt
         plt.clear_data()

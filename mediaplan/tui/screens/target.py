@@ -21,7 +21,8 @@ from textual.worker import Worker, WorkerState
 from mediaplan.files.plan_tables import TargetRecord, target_record_of
 from mediaplan.medium.errors import MediaplanError
 from mediaplan.medium.recipe import Recipe
-from mediaplan.tui.widgets.fields import FieldMessage, ParsedValidator, validated_value
+from mediaplan.tui.quick import StyledOnce
+from mediaplan.tui.widgets.fields import FieldInput, FieldMessage, ParsedValidator, validated_value
 from mediaplan.tui.words import in_app_words
 
 
@@ -62,8 +63,9 @@ def applicable(sol):
     return None
 
 
-class TargetScreen(ModalScreen[Applied | None]):
+class TargetScreen(StyledOnce, ModalScreen[Applied | None]):
     BINDINGS = [Binding("escape", "cancel", "Cancel", id="target.cancel", tooltip="Close without changing")]
+    AUTO_FOCUS = "#target-value"
 
     @dataclass
     class Solved(Message):
@@ -76,17 +78,18 @@ class TargetScreen(ModalScreen[Applied | None]):
         self.solution = None
 
     def compose(self) -> ComposeResult:
+        self.preset_width_class()
         t = self.session.plan.target or TargetRecord()
         catalog = self.session.catalog
         with Vertical(classes="dialog", id="target-dialog") as box:
             box.border_title = "target and osmoticum"
             with Grid(id="target-grid"):
                 yield Label("target", classes="field-label")
-                yield Input(t.value if t.value is not None else "-0.8 MPa", id="target-value",
+                yield FieldInput(t.value if t.value is not None else "-0.8 MPa", id="target-value",
                             validators=[ParsedValidator(check_target)],
                             placeholder="e.g. -0.8 MPa, 450 mOsm/kg or isotonic")
                 yield Label("osmotica", classes="field-label")
-                yield Input(", ".join(t.osmotica if t.osmotica is not None else ("mannitol",)), id="target-osmotica",
+                yield FieldInput(", ".join(t.osmotica if t.osmotica is not None else ("mannitol",)), id="target-osmotica",
                             validators=[ParsedValidator(lambda s: osmotica_ids(catalog, s))],
                             placeholder="one or two, e.g. mannitol")
             yield FieldMessage("Enter solves · one or two osmotica (two: added in equal moles)", id="target-message")
@@ -95,9 +98,6 @@ class TargetScreen(ModalScreen[Applied | None]):
                 yield Button("Solve", variant="primary", id="target-solve")
                 yield Button("Apply", id="target-apply", disabled=True)
                 yield Button("Cancel", id="target-cancel")
-
-    def on_mount(self) -> None:
-        self.query_one("#target-value", Input).focus()
 
     @on(Input.Changed)
     def _typed(self, event: Input.Changed) -> None:

@@ -97,6 +97,15 @@ def parse_strength(text: str) -> float:
     return value
 
 
+class FieldInput(Input):
+    """An Input styled once, when it mounts: the classes it takes while it is built (compact, valid or
+    invalid for its first value) do not style it beforehand (Textual would, and then again on mounting)."""
+
+    def update_node_styles(self, animate: bool = True) -> None:
+        if self.is_attached:
+            super().update_node_styles(animate)
+
+
 class FieldMessage(Static):
     """The inline message under an input: the validator's words, or a neutral hint."""
 

@@ -1,0 +1,160 @@
+"""Screens that open at once (mediaplan.tui.quick): the work left out or done ahead changes nothing shown.
+
+- a screen styled once (when its widgets mount) has the very styles a full restyle would give it;
+- its width class is the one Textual gives for the terminal's width;
+- the tinted backdrop of a dialog is Textual's own, segment for segment;
+- after the priming steps, opening the target dialog and the series screen parses no stylesheet;
+- the series screen shows a line of text where the curve will be, and the plot after the first fit.
+"""
+
+from __future__ import annotations
+
+import asyncio
+
+import pytest
+from rich.segment import Segment
+from rich.style import Style
+from textual.color import Color
+from textual.renderables.background_screen import BackgroundScreen
+from tui_helpers import DEMO_COUNTS, SIZE_IDS, SIZES, app_for, run_async, screen_text, settle, shoot_plan
+
+from mediaplan.tui import quick
+from mediaplan.tui.screens.plasmolysis import PLOT_EMPTY, SeriesScreen
+from mediaplan.tui.screens.target import TargetScreen
+from mediaplan.tui.session import Session
+
+sizes = pytest.mark.parametrize("size", SIZES, ids=SIZE_IDS)
+
+
+def _styles(screen) -> dict:
+    """Every node's applied styles, its component classes' too, as CSS text."""
+    out = {}
+    for node in screen.walk_children(with_self=True):
+        out[node] = [node.styles.css] + [node.get_component_styles(name).css
+                                         for name in sorted(node._get_component_classes())]
+    return out
+
+
+async def _open(app, pilot, key: str, kind: type):
+    await pilot.press(key)
+    while not (isinstance(app.screen, kind) and app.screen.is_mounted):
+        await asyncio.sleep(0.005)
+    await pilot.pause()
+    return app.screen
+
+
+@sizes
+@run_async
+async def test_screens_styled_once_have_the_styles_of_a_full_restyle(catalog, size):
+    app = app_for(Session(shoot_plan(), catalog))
+    async with app.run_test(size=size) as pilot:
+        await pilot.pause()
+        for key, kind in (("t", TargetScreen), ("p", SeriesScreen)):
+            screen = await _open(app, pilot, key, kind)
+            assert screen._shown_before
+            shown = _styles(screen)
+            assert len(shown) > 10
+            app.stylesheet.update(screen)  # what Textual would have done on showing it
+            assert _styles(screen) == shown
+            # the width class: the one Textual's own resize handling keeps
+            wide = size[0] >= 120
+            assert screen.has_class("-wide") == (wide and kind is SeriesScreen)
+            assert screen.has_class("-narrow") == (not wide and kind is SeriesScreen)
+            await pilot.press("escape")
+            await pilot.pause()
+
+
+@pytest.mark.parametrize(("breakpoints", "width", "expected"), [
+    ([(0, "-narrow"), (120, "-wide")], 80, "-narrow"),
+    ([(0, "-narrow"), (120, "-wide")], 119, "-narrow"),
+    ([(0, "-narrow"), (120, "-wide")], 120, "-wide"),
+    ([(120, "-wide"), (0, "-narrow")], 140, "-wide"),
+    ([(100, "-wide")], 80, None),
+    (None, 80, None),
+])
+def test_width_class_is_the_widest_breakpoint_not_wider_than_the_terminal(breakpoints, width, expected):
+    assert quick.width_class(breakpoints, width) == expected
+
+
+def test_backdrop_tints_every_segment_as_textual_does():
+    styles = [Style(color="#7fb069", bgcolor="#161b1f"), Style(color="red"), Style(bgcolor="#2a3339", bold=True),
+              Style(), None, Style(color="#8fc1e3", link="https://example.org")]
+    segments = [Segment(f"text {i}", styles[i % len(styles)]) for i in range(40)]
+    segments.insert(7, Segment("\n", None, [(1, 0)]))  # a control segment passes through
+    for color in (Color(22, 27, 31, 0.6), Color(0, 0, 0, 0.0), Color(255, 255, 255, 0.25)):
+        ours = list(quick.Backdrop.process_segments(segments, color))
+        textual = list(BackgroundScreen.process_segments(segments, color))
+        assert ours == textual
+
+
+@pytest.mark.prime_screens
+@run_async
+async def test_after_priming_the_first_screens_parse_no_stylesheet(catalog, monkeypatch):
+    import mediaplan.tui.app as app_module
+
+    monkeypatch.setattr(app_module, "PRIME_PAUSE", 0.001)
+    app = app_for(Session(shoot_plan(), catalog))
+    async with app.run_test(size=SIZES[0]) as pilot:
+        await pilot.pause()
+        for _ in range(400):
+            if not app._prime_left:
+                break
+            await asyncio.sleep(0.01)
+        assert not app._prime_left
+        parsed = set(app.stylesheet._parse_cache.keys())
+        for key, kind in (("t", TargetScreen), ("p", SeriesScreen)):
+            await _open(app, pilot, key, kind)
+            await pilot.press("escape")
+            await pilot.pause()
+        assert set(app.stylesheet._parse_cache.keys()) <= parsed
+
+
+@pytest.mark.prime_screens
+@run_async
+async def test_priming_waits_while_a_screen_is_open_and_goes_on_after(catalog, monkeypatch):
+    import mediaplan.tui.app as app_module
+
+    monkeypatch.setattr(app_module, "PRIME_PAUSE", 0.001)
+    app = app_for(Session(shoot_plan(), catalog))
+    async with app.run_test(size=SIZES[0]) as pilot:
+        while not app._prime_left:  # the priming has begun
+            await asyncio.sleep(0.001)
+        app.get_screen("main").action_set_target()  # before the priming is through
+        while not isinstance(app.screen, TargetScreen):
+            await asyncio.sleep(0.005)
+        left = len(app._prime_left)
+        assert left > 0
+        await asyncio.sleep(0.1)
+        assert len(app._prime_left) == left  # nothing runs while the dialog is open
+        await pilot.press("escape")
+        for _ in range(400):
+            if not app._prime_left:
+                break
+            await asyncio.sleep(0.01)
+        assert not app._prime_left
+
+
+@sizes
+@run_async
+async def test_series_plot_place_holds_a_line_until_the_first_fit(catalog, size):
+    from textual_plotext import PlotextPlot
+
+    from mediaplan.tui.screens.main import MainScreen  # noqa: F401 - the app's main screen
+
+    app = app_for(Session(shoot_plan(), catalog))
+    async with app.run_test(size=size) as pilot:
+        await pilot.pause()
+        screen = await _open(app, pilot, "p", SeriesScreen)
+        assert PLOT_EMPTY in screen_text(app) and not screen.query(PlotextPlot)
+        await pilot.press("d")
+        await settle(app, pilot)
+        for i, counts in enumerate(DEMO_COUNTS):
+            screen.series = screen.series.with_counts(i, counts)
+        await pilot.press("f")
+        await settle(app, pilot)
+        text = screen_text(app)
+        assert screen.fit is not None and PLOT_EMPTY not in text
+        assert len(screen.query(PlotextPlot)) == 1 and "50%" in text
+        await pilot.press("l")  # a second fit (probit) draws into the same plot
+        await settle(app, pilot)
+        assert len(screen.query(PlotextPlot)) == 1 and screen.fit.link == "probit"
