@@ -212,7 +212,8 @@ def evaluate(recipe: Recipe, catalog: Catalog, *, cell_reference_mosmol: float |
             "no_freezing_point", "no freezing-point or osmometer figure: at 0 °C the models have no solution for "
             "this medium (a solute's model is past its range there, e.g. far beyond its solubility); the "
             "figures at the medium's temperature stand"))
-    ev.cautions = [{"component": c.id, "caution": c.hazard} for c in comps if c.hazard]
+    ev.cautions = [{"component": cid, "caution": hazard}
+                   for cid, hazard in model.memo(("cautions",), lambda: [(c.id, c.hazard) for c in comps if c.hazard])]
     if not all(math.isfinite(v) for v in (ev.osmolality_mosmol_per_kg, ev.water_activity, ev.osmotic_potential_mpa)):
         raise MediaplanError("the models gave no finite answer for this medium",
                              hint="check for absurd amounts; the medium is past every model's range")

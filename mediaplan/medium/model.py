@@ -23,6 +23,7 @@ import math
 from collections import OrderedDict
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
+from operator import itemgetter
 
 import numpy as np
 
@@ -70,6 +71,17 @@ _PEG_GRADES = {"peg6000": 6000, "peg8000": 8000}
 #: sweep unchunked takes 3.2 GB; in chunks of 10^4, 0.4 GB and no more time)
 SOLVE_CHUNK = 10_000
 _MISSING = object()
+
+
+def _gather(idx: list[int]) -> Callable[[Sequence], list]:
+    """A function that takes the items at ``idx`` of a sequence, as a list (by itemgetter, in C)."""
+    if not idx:
+        return lambda seq: []
+    if len(idx) == 1:
+        k = idx[0]
+        return lambda seq: [seq[k]]
+    get = itemgetter(*idx)
+    return lambda seq: list(get(seq))
 _STATE_FIELDS = ("water_kg_per_m3", "n_per_m3", "molality", "species_m")
 _MIX_FIELDS = ("osmolality", "ideal", "electrolyte_phi", "electrolyte_phi_own", "fraction_electrolyte",
                "fraction_neutral", "fraction_peg")
@@ -140,7 +152,7 @@ class MediumModel:
         self._peg_idx = [k for k, sp in enumerate(species) if sp in _PEG_GRADES]
         self._neutral_idx = [k for k, sp in enumerate(species)
                             if not parse_species(sp).is_ion and sp not in _PEG_GRADES]
-        self._peg_grades = [_PEG_GRADES[species[k]] for k in self._peg_idx]
+        self._peg_grades = tuple(_PEG_GRADES[species[k]] for k in self._peg_idx)  # immutable: see _one_row
         self.ideal_neutral: list[str] = []
         nparams: list[NeutralParams] = []
         for k in self._neutral_idx:
@@ -150,7 +162,10 @@ class MediumModel:
                 p = NeutralParams(sp, "ideal", 0.0, float("inf"), "no published model: ideal solution assumed")
                 self.ideal_neutral.append(sp)
             nparams.append(p)
-        self._neutral_params = nparams
+        self._neutral_params = tuple(nparams)  # immutable (of frozen params): mixing._one_row keeps its groups
+        # one row's ion and neutral molalities taken from its species' (in C, as tuples)
+        self._ions_of = _gather(self._ion_idx)
+        self._neutrals_of = _gather(self._neutral_idx)
         self._pitzer = None
         if self._ion_idx:
             if catalog.pitzer is None:
@@ -307,8 +322,8 @@ class MediumModel:
         if species_m.shape[0] == 1:  # one composition: its amounts as Python floats (the same products)
             sp = species_m[0].tolist()
             return zsr_osmolality(MixtureInput(
-                self._pitzer, [sp[k] for k in self._ion_idx] if self._ion_idx else None, self._neutral_params,
-                [sp[k] for k in self._neutral_idx], self._peg_grades,
+                self._pitzer, self._ions_of(sp) if self._ion_idx else None, self._neutral_params,
+                self._neutrals_of(sp), self._peg_grades,
                 [sp[k] * g / 1000.0 for k, g in zip(self._peg_idx, self._peg_grades, strict=True)], float(T)),
                 start=start, osmolality_only=osmolality_only)
         ion_m = species_m[:, self._ion_idx] if self._ion_idx else None

@@ -242,8 +242,9 @@ class Recipe:
                 # same component overridden; a different form of the same substance replaces it too
                 out[comp.id] = _new(Line)._made(comp, amt, "override", None, False)
             else:
+                sub = comp.substance  # a line without a substance is the same as no other
                 same = [k for k, ln in out.items() if ln.origin == "base" and ln.component.substance
-                        and ln.component.substance == comp.substance] if out else []
+                        and ln.component.substance == sub] if out and sub else []
                 for k in same:
                     del out[k]
                 out[comp.id] = _new(Line)._made(comp, amt, "override" if same else "user", None, False)
@@ -254,14 +255,16 @@ class Recipe:
         on the catalog's medium and components alone, which are checked to be the same objects at each use)."""
         medium = catalog.medium(self.base, field="base")
         got = _FULL_LINES.get(self.base)
-        if got is not None and got[0] is medium and all(
-                [catalog.components.get(ln.component.id) is ln.component for ln in got[1]]):
+        # the catalog's components the same objects as the lines' (looked up and compared in C: a list's ==
+        # takes an object as equal to itself before asking it)
+        if got is not None and got[0] is medium and list(map(catalog.components.get, got[2])) == got[3]:
             return got[1]
         full = [Line(catalog.components[ml.component], ml.amount, "base", ml.confidence, False)
                 for ml in medium.lines]
         if len(_FULL_LINES) >= 16:
             _FULL_LINES.clear()
-        _FULL_LINES[self.base] = (medium, full)  # the medium kept: its id cannot be reused while cached
+        # the medium kept: its id cannot be reused while cached
+        _FULL_LINES[self.base] = (medium, full, [ln.component.id for ln in full], [ln.component for ln in full])
         return full
 
     def _base_lines(self, catalog: Catalog) -> list[Line]:
@@ -306,8 +309,9 @@ class Recipe:
 _new, _set = object.__new__, object.__setattr__
 
 
-#: base id -> (the catalog's Medium, its lines at full strength); (base id, strength, scope) -> (those
-#: full-strength lines, the lines at that strength): see Recipe._base_lines. Two tables, so that many new
+#: base id -> (the catalog's Medium, its lines at full strength, their component ids, their components);
+#: (base id, strength, scope) -> (those full-strength lines, the lines at that strength): see
+#: Recipe._full_lines and Recipe._base_lines. Two tables, so that many new
 #: strengths do not push the full-strength lines out.
 _FULL_LINES: dict[str, tuple] = {}
 _BASE_LINES: dict[tuple, tuple] = {}

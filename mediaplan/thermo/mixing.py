@@ -270,6 +270,32 @@ def _grouped(neutral: Sequence[NeutralParams], peg_grades: Sequence[int], nm_use
     return groups
 
 
+def _grouped_row(neutral: Sequence[NeutralParams], peg_grades: Sequence[int], nml: list[float],
+                 pcl: list[float]) -> list[_Group]:
+    """:func:`_grouped` of one row (its amounts nml and pcl as lists), new _Group objects each call. The
+    grouping depends on the parameters and on which columns are in use alone: for parameters given as
+    tuples (immutable, of frozen NeutralParams, as a compiled medium gives them) it is kept, by the
+    tuples' identity (the tuples are kept with it, so an id is never reused while cached)."""
+    nm_used = tuple([j for j, v in enumerate(nml) if v > 0])
+    pc_used = tuple([j for j, v in enumerate(pcl) if v > 0])
+    if type(neutral) is not tuple or type(peg_grades) is not tuple:
+        return _grouped(neutral, peg_grades, nm_used, pc_used)
+    key = (id(neutral), id(peg_grades), nm_used, pc_used)
+    got = _GROUPINGS.get(key)
+    if got is None or got[0] is not neutral or got[1] is not peg_grades:
+        got = (neutral, peg_grades, [(g.kind, g.key, g.members) for g in _grouped(neutral, peg_grades, nm_used,
+                                                                                   pc_used)])
+        if len(_GROUPINGS) >= 64:
+            _GROUPINGS.clear()
+        _GROUPINGS[key] = got  # one dict item set: safe across worker threads
+    return [_Group(kind, k, members) for kind, k, members in got[2]]
+
+
+#: (id of the neutral parameters, id of the PEG grades, columns in use) -> (those two tuples, each group's
+#: kind, key and members): see _grouped_row
+_GROUPINGS: dict[tuple, tuple] = {}
+
+
 def _as_row(a) -> list[float]:
     """One row of amounts as a list of Python floats (a list of floats is taken as it is)."""
     return a if type(a) is list else np.asarray(a, dtype=float).reshape(-1).tolist()
@@ -285,8 +311,7 @@ def _one_row(inp: MixtureInput, start: tuple | None) -> _System:
     nml = _as_row(inp.neutral_m) if len(inp.neutral) else []
     pcl = _as_row(inp.peg_c) if len(inp.peg_grades) else []
     nm = pc = _NO_COLUMNS  # one row keeps its amounts as the lists nml and pcl (see _result)
-    groups = _grouped(inp.neutral, inp.peg_grades, [j for j, v in enumerate(nml) if v > 0],
-                      [j for j, v in enumerate(pcl) if v > 0])
+    groups = _grouped_row(inp.neutral, inp.peg_grades, nml, pcl)
     for grp in groups:
         src = nml if grp.kind == "n" else pcl
         grp.m = _in_order([src[j] for j in grp.members])
