@@ -161,7 +161,10 @@ def evaluate(recipe: Recipe, catalog: Catalog, *, cell_reference_mosmol: float |
         y0 = float(model.mixture(st.species_m, T0, osmolality_only=True).osmolality[0])
     aw = float(potential.water_activity(y))
     aw0 = float(potential.water_activity(y0))
-    theta = float(potential.freezing_point_depression(aw0))
+    if not aw > 0:  # exp(-M_w y) underflows far past every model's range: said now, before a log of zero
+        raise _no_finite_answer()
+    # no freezing point where a_w at 0 °C underflows (or has no figure): said in a warning below
+    theta = float(potential.freezing_point_depression(aw0)) if aw0 > 0 else math.nan
     psi = float(potential.potential_from_aw(aw, T))
     n_all = st.n_per_m3[0]
     osmolarity = float(n_all @ model.particles)  # ideal osmol per m^3 of medium
@@ -215,9 +218,13 @@ def evaluate(recipe: Recipe, catalog: Catalog, *, cell_reference_mosmol: float |
     ev.cautions = [{"component": cid, "caution": hazard}
                    for cid, hazard in model.memo(("cautions",), lambda: [(c.id, c.hazard) for c in comps if c.hazard])]
     if not all(math.isfinite(v) for v in (ev.osmolality_mosmol_per_kg, ev.water_activity, ev.osmotic_potential_mpa)):
-        raise MediaplanError("the models gave no finite answer for this medium",
-                             hint="check for absurd amounts; the medium is past every model's range")
+        raise _no_finite_answer()
     return ev
+
+
+def _no_finite_answer() -> MediaplanError:
+    return MediaplanError("the models gave no finite answer for this medium",
+                          hint="check for absurd amounts; the medium is past every model's range")
 
 
 def classify_tonicity(effective_mosmol: float, reference_mosmol: float, tolerance: float, *,
