@@ -103,6 +103,53 @@ STEPS: tuple[tuple[str, Callable[[Recipe, Catalog], None]], ...] = (
 )
 
 
+#: set while the screen's thread may run at full speed; cleared for a moment after a screen is opened
+#: (:func:`hold`). The warm start then waits before its next import of a module the screen's thread never
+#: imports itself, and before its next step, so that the two do not share the interpreter while the user
+#: waits for the screen
+QUIET = threading.Event()
+QUIET.set()
+#: the longest one wait of the warm start for :data:`QUIET` [s] (a bound, should a hold never end)
+WAIT_AT_MOST = 0.3
+#: modules the screen's thread imports itself: the warm start never waits while importing these (the
+#: screen's thread could be waiting for the same module's import lock)
+SCREEN_SIDE = ("textual", "rich", "mediaplan.tui", "mediaplan.files", "mediaplan.medium.units",
+               "mediaplan.medium.errors", "mediaplan.medium.recipe", "mediaplan.medium.catalog", "encodings")
+
+
+def hold(app, seconds: float) -> None:
+    """The warm start waits (at imports and between steps) for ``seconds`` [s] from now; a later hold
+    extends it. Called on the screen's thread (``app`` sets the timer that ends it)."""
+    QUIET.clear()
+    global _hold_timer
+    if _hold_timer is not None:
+        _hold_timer.stop()
+    _hold_timer = app.set_timer(seconds, _release)
+
+
+_hold_timer = None
+
+
+def _release() -> None:
+    global _hold_timer
+    _hold_timer = None
+    QUIET.set()
+
+
+class _WaitWhenHeld:
+    """An import hook of the warm start's thread only: before it imports a module of the engine, it waits
+    while the screen's thread is held busy (it finds nothing itself: the usual finders do)."""
+
+    def __init__(self, thread_id: int) -> None:
+        self.thread_id = thread_id
+
+    def find_spec(self, name, path=None, target=None):
+        if (not QUIET.is_set() and threading.get_ident() == self.thread_id
+                and not name.startswith(SCREEN_SIDE)):
+            QUIET.wait(WAIT_AT_MOST)
+        return None
+
+
 #: while warming, the interpreter hands the GIL between threads this often [s] (default 0.005): the screen's
 #: thread then waits at most this long for its turn, so keys and paints stay quick during the imports
 SWITCH_INTERVAL = 0.0005
@@ -121,8 +168,12 @@ def warm_up(recipe: Recipe, catalog: Catalog, on_step: Callable[[str], None] | N
     interval = sys.getswitchinterval()
     sys.setswitchinterval(min(interval, SWITCH_INTERVAL))
     took: dict[str, float] = {}
+    hook = _WaitWhenHeld(threading.get_ident())
+    sys.meta_path.insert(0, hook)
     try:
         for name, step in STEPS:
+            if not QUIET.is_set():
+                QUIET.wait(WAIT_AT_MOST)
             if stop is not None and stop.is_set():
                 break
             t0 = time.perf_counter()
@@ -137,6 +188,8 @@ def warm_up(recipe: Recipe, catalog: Catalog, on_step: Callable[[str], None] | N
                 _lower_priority()
     finally:
         sys.setswitchinterval(interval)
+        if hook in sys.meta_path:
+            sys.meta_path.remove(hook)
     return took
 
 

@@ -39,6 +39,19 @@ def _no_warm_start(request, monkeypatch):
         monkeypatch.setattr(MediaplanApp, "PRIME_SCREENS", False)
 
 
+@pytest.fixture(autouse=True)
+def _unfreeze():
+    """The warm start keeps the objects of its time out of the collector's passes (gc.freeze): in this
+    process, which runs many apps, they are handed back after each test."""
+    import gc
+
+    yield
+    gc.unfreeze()
+    from mediaplan.tui import warm
+
+    warm.QUIET.set()
+
+
 def pytest_configure(config):
     config.addinivalue_line("markers", "warm_start: run the app with its warm start on")
     config.addinivalue_line("markers", "prime_screens: run the app with its screens primed after the first paint")

@@ -158,3 +158,61 @@ async def test_series_plot_place_holds_a_line_until_the_first_fit(catalog, size)
         await pilot.press("l")  # a second fit (probit) draws into the same plot
         await settle(app, pilot)
         assert len(screen.query(PlotextPlot)) == 1 and screen.fit.link == "probit"
+
+
+class _Held:
+    """warm.QUIET while a screen is held open: never set; records each wait of the warm start."""
+
+    def __init__(self) -> None:
+        self.waits: list[float] = []
+
+    def is_set(self) -> bool:
+        return False
+
+    def wait(self, timeout: float) -> bool:
+        self.waits.append(timeout)
+        return False
+
+    def set(self) -> None:
+        pass
+
+
+def test_warm_start_waits_at_engine_imports_and_steps_while_a_screen_is_held(catalog, monkeypatch):
+    import importlib
+
+    from mediaplan.tui import warm
+
+    held = _Held()
+    monkeypatch.setattr(warm, "QUIET", held)
+    monkeypatch.setattr(warm, "_lower_priority", lambda: None)
+    tried = []
+
+    def importing(name):
+        def run(recipe, cat):
+            tried.append(name)
+            importlib.import_module(name)  # not installed: the import fails after the finders were asked
+        return run
+
+    # a module the screen's thread may import too: never waited for (it could hold that module's lock)
+    monkeypatch.setattr(warm, "STEPS", (("screen side", importing("textual.mediaplan_no_such_module")),))
+    warm.warm_up(shoot_plan().recipe, catalog)
+    assert tried == ["textual.mediaplan_no_such_module"] and held.waits == [warm.WAIT_AT_MOST]  # the step's own
+    held.waits.clear()
+    monkeypatch.setattr(warm, "STEPS", (("engine side", importing("mediaplan_no_such_engine_module")),))
+    warm.warm_up(shoot_plan().recipe, catalog)
+    assert held.waits == [warm.WAIT_AT_MOST, warm.WAIT_AT_MOST]  # before the step, and at its import
+    assert not any(isinstance(f, warm._WaitWhenHeld) for f in __import__("sys").meta_path)  # the hook is gone
+
+
+def test_the_hook_waits_only_on_the_warm_start_thread(monkeypatch):
+    import threading
+
+    from mediaplan.tui import warm
+
+    held = _Held()
+    monkeypatch.setattr(warm, "QUIET", held)
+    hook = warm._WaitWhenHeld(threading.get_ident() + 1)  # another thread's hook
+    assert hook.find_spec("numpy") is None and held.waits == []
+    hook = warm._WaitWhenHeld(threading.get_ident())
+    assert hook.find_spec("numpy") is None and held.waits == [warm.WAIT_AT_MOST]
+    assert hook.find_spec("mediaplan.tui.screens.target") is None and len(held.waits) == 1
