@@ -131,8 +131,9 @@ def increasing_roots(f_batch: Callable[[np.ndarray], np.ndarray], targets: np.nd
     if stop.size:
         grid, vals = grid[:stop[0] + 1], vals[:stop[0] + 1]
     j = np.searchsorted(vals, targets)
-    if np.any(j >= len(vals)):
-        i = int(np.argmax(j >= len(vals)))
+    if len(vals) < 2 or np.any(j >= len(vals)):
+        # beyond the rising part; with fewer than two rising figures no level has a bracket
+        i = int(np.argmax(j >= len(vals))) if len(vals) >= 2 else 0
         raise InfeasibleError(f"{what} {i + 1} cannot be reached: the model does not go that far", hint=hint)
     j = np.maximum(j, 1)
     a, c = grid[j - 1], grid[j]

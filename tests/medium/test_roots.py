@@ -85,3 +85,17 @@ def test_increasing_roots_uses_only_the_increasing_part():
                                                       hint="h"), [2.0, 5.0], rtol=1e-12)
     with pytest.raises(InfeasibleError):
         roots.increasing_roots(f_batch, np.array([6.5]), 0.0, 9.0, what="level", hint="h")
+
+
+@pytest.mark.parametrize("shape", ["no_answer", "one_point", "falls_at_once", "flat"])
+def test_increasing_roots_without_a_rising_stretch_refuses_in_words(shape):
+    """A model that gives no two rising figures on the grid (no answer at all, one only at the start, falling
+    or flat from the start) leaves no bracket: the search refuses the level, never fails on an index (a
+    series in an absurd background found this)."""
+    def f_batch(x):
+        x = np.asarray(x, dtype=float)
+        return {"no_answer": np.full_like(x, np.nan), "one_point": np.where(x == 0.0, 1.0, np.nan),
+                "falls_at_once": 1.0 - x, "flat": np.ones_like(x)}[shape]
+
+    with pytest.raises(InfeasibleError, match="level 1 cannot be reached"):
+        roots.increasing_roots(f_batch, np.array([0.5, 2.0]), 0.0, 9.0, what="level", hint="h")

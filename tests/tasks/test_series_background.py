@@ -164,3 +164,26 @@ def test_a_stated_storage_temperature_is_the_stocks(catalog):
     # 1 mol/kg against 18.2 g per 100 g water at 20 °C (Merck Index, room temperature): 100.1 % of saturation
     assert d.stock.storage_temperature_c == pytest.approx(20.0)
     assert d.stock.storage_saturation_percent == pytest.approx(100 * 182.172 / 1000 / 0.182, rel=1e-3)
+
+
+#: backgrounds holding an amount no medium holds (test inputs), each past another of check_plausible's limits
+IMPLAUSIBLE = {
+    "past_pitzer_range_molal": Recipe(base="ls1965", temperature="37 degC").with_amount("potassium_hydroxide", "119.6 mol/kg"),
+    "past_pitzer_range_mass": Recipe(base="ms1962").with_amount("potassium_nitrate", "4000 g/L"),
+    "past_solubility": Recipe().with_amount("sucrose", "60 mol/kg"),
+    "strength_of_a_base": Recipe(base="ms1962").with_amount("calcium_chloride_anhydrous", "190 mol/kg"),
+}
+
+
+@pytest.mark.parametrize("name", list(IMPLAUSIBLE))
+@pytest.mark.parametrize("preparation", ["in_background", "weighed_together"])
+def test_an_implausible_background_is_refused_in_the_words_calc_uses(catalog, name, preparation):
+    """A series in a background no medium can be is refused before any level is searched, with the words an
+    evaluation of that background gives (a series in such a background failed on an index, or blamed another
+    line, before)."""
+    background = IMPLAUSIBLE[name]
+    with pytest.raises(AmountError) as calc:
+        evaluate(background, catalog)
+    with pytest.raises(AmountError) as series:
+        design_series(background, "mannitol", LEVELS, catalog=catalog, preparation=preparation)
+    assert str(series.value) == str(calc.value)

@@ -235,6 +235,7 @@ def design_series(background: Recipe, osmoticum: str, potentials_pa: Sequence[fl
         raise AmountError(f"unknown preparation {preparation!r}", field="series.preparation",
                           hint="one of " + ", ".join(PREPARATIONS))
     comp = catalog.resolve(osmoticum, field="osmoticum").component
+    background.check_plausible(catalog)  # an amount no medium holds: refused in the words calc uses
     mixer = _Background(background, comp, catalog, preparation)
     T = mixer.T
     psi = np.asarray(potentials_pa, dtype=float)
@@ -564,6 +565,7 @@ def potential_of_amounts(background: Recipe, osmoticum: str, amounts: Sequence[A
     """Water potential [Pa] of the background with each amount of the osmoticum (one batched model call),
     made as ``preparation`` says (see :data:`PREPARATIONS`)."""
     comp = catalog.resolve(osmoticum, field="osmoticum").component
+    background.check_plausible(catalog)  # an amount no medium holds: refused in the words calc uses
     mixer = _Background(background, comp, catalog, preparation)
     model, k = mixer.model, mixer.k
     n = np.tile(mixer.sweep.n0, (len(amounts), 1))
