@@ -11,13 +11,14 @@ from textual.containers import Vertical
 from textual.screen import ModalScreen
 from textual.widgets import Input, Label, Static
 
-from mediaplan.tui.widgets.fields import AmountValidator, FieldMessage, validated_value
+from mediaplan.tui.quick import StyledOnce
+from mediaplan.tui.widgets.fields import AmountValidator, FieldInput, FieldMessage, validated_value
 
 #: preview(text or None) -> one line describing the figures with that amount (None: restore)
 Preview = Callable[[str | None], str]
 
 
-class AmountScreen(ModalScreen[str | None]):
+class AmountScreen(StyledOnce, ModalScreen[str | None]):
     """Dismisses with the new amount text, or None when cancelled."""
 
     BINDINGS = [Binding("escape", "cancel", "Cancel", id="amount.cancel", tooltip="Keep the old amount")]
@@ -32,8 +33,8 @@ class AmountScreen(ModalScreen[str | None]):
         with Vertical(classes="dialog", id="amount-dialog") as box:
             box.border_title = "amount"
             yield Label(self.component_name, markup=False, classes="dialog-title")
-            yield Input(self.amount, id="amount-input", validators=[AmountValidator()],
-                        validate_on=["changed", "submitted"], placeholder="e.g. 30 g/L, 20 mM, 0.5 mol/kg")
+            yield FieldInput(self.amount, id="amount-input", validators=[AmountValidator()],
+                             validate_on=["changed", "submitted"], placeholder="e.g. 30 g/L, 20 mM, 0.5 mol/kg")
             yield FieldMessage("Enter applies · Esc keeps the old amount · 0 removes it", id="amount-message")
             yield Static("", id="amount-preview", markup=False)
 

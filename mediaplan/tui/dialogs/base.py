@@ -13,14 +13,21 @@ from textual.widgets.option_list import Option
 
 from mediaplan.medium.catalog import Catalog
 from mediaplan.medium.recipe import DEFAULT_STRENGTH_SCOPE
-from mediaplan.tui.widgets.fields import FieldMessage, StrengthValidator, parse_strength, validated_value
+from mediaplan.tui.quick import StyledOnce
+from mediaplan.tui.widgets.fields import (
+    FieldInput,
+    FieldMessage,
+    StrengthValidator,
+    parse_strength,
+    validated_value,
+)
 
 NO_BASE = "-none-"
 #: the strength scopes in the dialog's words (salts first: a new recipe's scope)
 SCOPES = (("salts only", "salts"), ("macro salts only", "macro"), ("every line", "all"))
 
 
-class BaseScreen(ModalScreen[tuple[str | None, float, str] | None]):
+class BaseScreen(StyledOnce, ModalScreen[tuple[str | None, float, str] | None]):
     """Dismisses with (base id or None, strength, strength scope), or None when cancelled."""
 
     BINDINGS = [Binding("escape", "cancel", "Cancel", id="base.cancel", tooltip="Keep the current base")]
@@ -43,8 +50,8 @@ class BaseScreen(ModalScreen[tuple[str | None, float, str] | None]):
             yield Static("", id="base-info", markup=False)
             with Horizontal(classes="row"):
                 yield Label("strength ×", classes="field-label")
-                yield Input(f"{self.strength:g}", id="strength-input", validators=[StrengthValidator()],
-                            placeholder="e.g. 1 (full) or 1/2 (half)")
+                yield FieldInput(f"{self.strength:g}", id="strength-input", validators=[StrengthValidator()],
+                                 placeholder="e.g. 1 (full) or 1/2 (half)")
                 scope = Select(SCOPES, value=self.scope, allow_blank=False, id="scope-select",
                                tooltip="which lines of the base the strength scales")
                 scope.styles.width = 22

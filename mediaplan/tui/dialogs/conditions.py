@@ -15,7 +15,9 @@ from textual.containers import Grid, Horizontal, Vertical
 from textual.screen import ModalScreen
 from textual.widgets import Button, Input, Label, TextArea
 
+from mediaplan.tui.quick import StyledOnce
 from mediaplan.tui.widgets.fields import (
+    FieldInput,
     FieldMessage,
     TargetValidator,
     TemperatureValidator,
@@ -44,7 +46,7 @@ def kept_temperature(typed: str, original: str) -> str:
     return original if typed.strip() == shown_temperature(original).strip() else typed
 
 
-class ConditionsScreen(ModalScreen[Conditions | None]):
+class ConditionsScreen(StyledOnce, ModalScreen[Conditions | None]):
     BINDINGS = [Binding("escape", "cancel", "Cancel", id="conditions.cancel", tooltip="Keep the conditions")]
 
     def __init__(self, current: Conditions) -> None:
@@ -57,20 +59,20 @@ class ConditionsScreen(ModalScreen[Conditions | None]):
             box.border_title = "conditions"
             with Grid(id="conditions-grid"):
                 yield Label("title", classes="field-label")
-                yield Input(c.title, id="cond-title", placeholder="a name for this medium")
+                yield FieldInput(c.title, id="cond-title", placeholder="a name for this medium")
                 yield Label("volume", classes="field-label")
-                yield Input(c.volume, id="cond-volume", validators=[VolumeValidator()],
-                            placeholder="batch volume, e.g. 1 L")
+                yield FieldInput(c.volume, id="cond-volume", validators=[VolumeValidator()],
+                                 placeholder="batch volume, e.g. 1 L")
                 yield Label("temperature", classes="field-label")
-                yield Input(shown_temperature(c.temperature), id="cond-temperature",
-                            validators=[TemperatureValidator()], placeholder="e.g. 25 °C")
+                yield FieldInput(shown_temperature(c.temperature), id="cond-temperature",
+                                 validators=[TemperatureValidator()], placeholder="e.g. 25 °C")
                 yield Label("kept at", classes="field-label")
-                yield Input(shown_temperature(c.storage), id="cond-storage",
-                            validators=[TemperatureValidator(allow_empty=True)],
-                            placeholder="e.g. 4 °C")
+                yield FieldInput(shown_temperature(c.storage), id="cond-storage",
+                                 validators=[TemperatureValidator(allow_empty=True)],
+                                 placeholder="e.g. 4 °C")
                 yield Label("cells", classes="field-label")
-                yield Input(c.cells, id="cond-cells", validators=[TargetValidator(allow_empty=True)],
-                            placeholder="e.g. 450 mOsm/kg")
+                yield FieldInput(c.cells, id="cond-cells", validators=[TargetValidator(allow_empty=True)],
+                                 placeholder="e.g. 450 mOsm/kg")
             yield Label("notes (kept in the plan file)", classes="field-label", id="cond-notes-label")
             yield TextArea(c.notes, id="cond-notes", soft_wrap=True, show_line_numbers=False,
                            placeholder="what this medium is for, who made it, what to watch")

@@ -13,7 +13,8 @@ from textual.screen import ModalScreen
 from textual.widgets import Button, DirectoryTree, Input, OptionList, Static
 from textual.widgets.option_list import Option
 
-from mediaplan.tui.widgets.fields import FieldMessage
+from mediaplan.tui.quick import StyledOnce
+from mediaplan.tui.widgets.fields import FieldInput, FieldMessage
 
 
 class PlanTree(DirectoryTree):
@@ -25,7 +26,7 @@ class PlanTree(DirectoryTree):
         return [p for p in paths if not p.name.startswith(".") and (p.is_dir() or p.suffix == self.suffix)]
 
 
-class PathScreen(ModalScreen[Path | None]):
+class PathScreen(StyledOnce, ModalScreen[Path | None]):
     """Ask for a file path (a plan unless ``suffix`` says otherwise); ``must_exist`` for opening, otherwise a
     name to save to (the suffix is added when missing)."""
 
@@ -45,7 +46,7 @@ class PathScreen(ModalScreen[Path | None]):
     def compose(self) -> ComposeResult:
         with Vertical(classes="dialog", id="path-dialog") as box:
             box.border_title = self.title_text
-            yield Input(self.suggestion, id="path-input", placeholder=f"a file name ending {self.suffix}")
+            yield FieldInput(self.suggestion, id="path-input", placeholder=f"a file name ending {self.suffix}")
             where = "the recent plans and the folder tree" if self.recent else "the folder tree"
             yield FieldMessage(f"Enter confirms · Tab to {where} · Esc cancels", id="path-message")
             if self.recent:
@@ -119,7 +120,7 @@ def _recent_label(path: Path, start: Path) -> str:
     return f"{path.name}  ({folder})"
 
 
-class ChoiceScreen(ModalScreen[str | None]):
+class ChoiceScreen(StyledOnce, ModalScreen[str | None]):
     """A question with a few answers (buttons; the first is the default). Dismisses with the answer id."""
 
     BINDINGS = [

@@ -12,6 +12,8 @@ from textual.widgets import Input, Label, OptionList
 from textual.widgets.option_list import Option
 
 from mediaplan.medium.catalog import GROUP_LABELS, Catalog, Component
+from mediaplan.tui.quick import StyledOnce
+from mediaplan.tui.widgets.fields import FieldInput
 
 
 def option_for(c: Component, present: bool) -> Option:
@@ -24,7 +26,7 @@ def option_for(c: Component, present: bool) -> Option:
     return Option(t, id=c.id)
 
 
-class PickerScreen(ModalScreen[str | None]):
+class PickerScreen(StyledOnce, ModalScreen[str | None]):
     """Dismisses with the chosen component id, or None."""
 
     BINDINGS = [
@@ -41,7 +43,7 @@ class PickerScreen(ModalScreen[str | None]):
     def compose(self) -> ComposeResult:
         with Vertical(classes="dialog", id="picker-dialog") as box:
             box.border_title = "add a component"
-            yield Input(self.query_text, placeholder="name, alias or formula (KNO3, sucrose, BAP…)", id="picker-input")
+            yield FieldInput(self.query_text, placeholder="name, alias or formula (KNO3, sucrose, BAP…)", id="picker-input")
             yield OptionList(id="picker-list")
             yield Label("", id="picker-count", markup=False)
 

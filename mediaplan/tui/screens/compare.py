@@ -18,6 +18,8 @@ from textual.containers import Vertical, VerticalScroll
 from textual.screen import ModalScreen
 from textual.widgets import Static
 
+from mediaplan.tui.quick import StyledOnce
+
 #: settings shown by label
 SETTING_LABELS = {"volume": "batch volume", "temperature": "temperature", "base": "base formulation",
                   "strength": "strength"}
@@ -79,7 +81,7 @@ def _setting(value) -> str:
     return f"{value:g}" if isinstance(value, float) else str(value)
 
 
-class CompareScreen(ModalScreen[None]):
+class CompareScreen(StyledOnce, ModalScreen[None]):
     """The open plan against another plan file (read only; Esc closes)."""
 
     BINDINGS = [Binding("escape,q", "close", "Close", id="compare.close", tooltip="Back to the recipe")]

@@ -11,6 +11,7 @@ from textual.screen import ModalScreen
 from textual.widgets import Static
 
 from mediaplan.tui.actions import ACTIONS
+from mediaplan.tui.quick import StyledOnce
 
 NOTES = (
     "Rows marked + were added to the base, * replace a base amount, - were removed from the base (struck "
@@ -46,7 +47,7 @@ def bindings_table() -> Table:
     return table
 
 
-class HelpScreen(ModalScreen[None]):
+class HelpScreen(StyledOnce, ModalScreen[None]):
     BINDINGS = [Binding("escape,question_mark,q", "close", "Close", id="help.close", tooltip="Close the help")]
 
     def compose(self) -> ComposeResult:

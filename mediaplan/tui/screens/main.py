@@ -15,6 +15,7 @@ from textual.widgets import Static
 
 from mediaplan.medium.errors import MediaplanError
 from mediaplan.tui.actions import bindings
+from mediaplan.tui.quick import StyledOnce
 from mediaplan.tui.session import Outcome
 from mediaplan.tui.widgets.keybar import KeyBar
 from mediaplan.tui.widgets.recipe_table import RecipeTable, fit_left
@@ -25,7 +26,7 @@ if TYPE_CHECKING:  # the engine is imported after the first paint (mediaplan.tui
     from mediaplan.medium.evaluate import Evaluation
 
 
-class MainScreen(Screen):
+class MainScreen(StyledOnce, Screen):
     BINDINGS = bindings("screen")
     HORIZONTAL_BREAKPOINTS = [(0, "-narrow"), (110, "-wide")]
 
@@ -37,6 +38,7 @@ class MainScreen(Screen):
         preview: bool = False
 
     def compose(self) -> ComposeResult:
+        self.preset_width_class()
         yield Static("", id="topbar", markup=False)
         with Horizontal(id="body"):
             with Vertical(id="left"):

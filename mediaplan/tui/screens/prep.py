@@ -21,7 +21,8 @@ from textual.widgets import Input, Label, Markdown, Static, Switch
 from textual.worker import Worker, WorkerState
 
 from mediaplan.medium.errors import MediaplanError
-from mediaplan.tui.widgets.fields import FieldMessage, VolumeValidator, report, validated_value
+from mediaplan.tui.quick import StyledOnce
+from mediaplan.tui.widgets.fields import FieldInput, FieldMessage, VolumeValidator, report, validated_value
 from mediaplan.tui.widgets.keybar import KeyBar
 from mediaplan.tui.words import in_app_words
 
@@ -43,7 +44,7 @@ def sheet_markdown(plan, catalog, volume: str, stocks: bool) -> str:
     return export.prep_sheet(sheet, plan, "md", provenance=recorded)
 
 
-class PrepScreen(Screen):
+class PrepScreen(StyledOnce, Screen):
     BINDINGS = [
         Binding("escape", "close", "Back", id="prep.close", tooltip="Back to the recipe"),
         Binding("s", "toggle_stocks", "Stocks", id="prep.stocks", tooltip="Weigh everything, or use stock solutions"),
@@ -67,7 +68,7 @@ class PrepScreen(Screen):
         yield Static("", id="topbar", markup=False)
         with Horizontal(id="prep-controls"):
             yield Label("batch", classes="field-label")
-            yield Input(recipe.volume, id="prep-volume", validators=[VolumeValidator()])
+            yield FieldInput(recipe.volume, id="prep-volume", validators=[VolumeValidator()])
             yield Label("stock solutions", classes="field-label")
             yield Switch(False, id="prep-stocks")
         yield FieldMessage("Enter rebuilds the sheet for this volume", id="prep-message")

@@ -16,7 +16,8 @@ from textual.widgets import Button, Input, Label, Static
 
 from mediaplan.medium.errors import MediaplanError
 from mediaplan.tasks.projection import ProjectionRecord
-from mediaplan.tui.widgets.fields import FieldMessage, report
+from mediaplan.tui.quick import StyledOnce
+from mediaplan.tui.widgets.fields import FieldInput, FieldMessage, report
 from mediaplan.tui.words import in_app_words
 
 #: the inputs: key in ProjectionRecord, label, placeholder (it says what an empty field means, so it is
@@ -47,7 +48,7 @@ def field_text(key: str, value: float | str | None) -> str:
     return f"{100 * value:g} %" if key != "weeks" else f"{value:g}"
 
 
-class ProjectionScreen(ModalScreen[ProjectionRecord | None]):
+class ProjectionScreen(StyledOnce, ModalScreen[ProjectionRecord | None]):
     """Dismisses with the [projection] record to keep, or None."""
 
     BINDINGS = [Binding("escape", "cancel", "Close", id="projection.cancel", tooltip="Close without keeping")]
@@ -64,7 +65,7 @@ class ProjectionScreen(ModalScreen[ProjectionRecord | None]):
             with Grid(id="projection-grid"):
                 for key, label, placeholder in FIELDS:
                     yield Label(label, classes="field-label")
-                    yield Input(field_text(key, getattr(current, key)), id=f"proj-{key}", placeholder=placeholder)
+                    yield FieldInput(field_text(key, getattr(current, key)), id=f"proj-{key}", placeholder=placeholder)
             yield FieldMessage("fractions as 10 % or 0.1", id="proj-message")
             yield Static("", id="proj-stages")
             with Horizontal(classes="buttons"):

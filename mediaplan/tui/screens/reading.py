@@ -19,7 +19,8 @@ from textual.screen import ModalScreen
 from textual.widgets import Button, Input, Label, Select, Static
 
 from mediaplan.medium.errors import MediaplanError
-from mediaplan.tui.widgets.fields import FieldMessage, report
+from mediaplan.tui.quick import StyledOnce
+from mediaplan.tui.widgets.fields import FieldInput, FieldMessage, report
 from mediaplan.tui.words import in_app_words
 
 INSTRUMENTS = (("freezing point", "freezing-point"), ("vapour pressure", "vapour-pressure"))
@@ -51,7 +52,7 @@ def verdict_text(result) -> Text:
     return out
 
 
-class ReadingScreen(ModalScreen[object]):
+class ReadingScreen(StyledOnce, ModalScreen[object]):
     """Dismisses with the reading record kept in the plan, or None."""
 
     BINDINGS = [Binding("escape", "cancel", "Close", id="reading.cancel", tooltip="Close without recording")]
@@ -74,15 +75,15 @@ class ReadingScreen(ModalScreen[object]):
             box.border_title = "osmometer reading of a batch"
             with Grid(id="reading-grid"):
                 yield Label("reading", classes="field-label")
-                yield Input("", id="reading-value", placeholder="e.g. 182 mOsm/kg")
+                yield FieldInput("", id="reading-value", placeholder="e.g. 182 mOsm/kg")
                 yield Label("instrument", classes="field-label")
                 yield Select(INSTRUMENTS, value="freezing-point", allow_blank=False, id="reading-instrument")
                 yield Label("chamber", classes="field-label")
-                yield Input("", id="reading-chamber", placeholder="vapour pressure: empty = the plan's temperature")
+                yield FieldInput("", id="reading-chamber", placeholder="vapour pressure: empty = the plan's temperature")
                 yield Label("operator", classes="field-label")
-                yield Input("", id="reading-operator", placeholder="optional")
+                yield FieldInput("", id="reading-operator", placeholder="optional")
                 yield Label("note", classes="field-label")
-                yield Input("", id="reading-note", placeholder="optional: batch, vessel…")
+                yield FieldInput("", id="reading-note", placeholder="optional: batch, vessel…")
             yield FieldMessage(_HINT, id="reading-message")
             yield Static("", id="reading-verdict")
             yield Static("", id="reading-slips")

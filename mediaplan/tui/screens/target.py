@@ -86,12 +86,12 @@ class TargetScreen(StyledOnce, ModalScreen[Applied | None]):
             with Grid(id="target-grid"):
                 yield Label("target", classes="field-label")
                 yield FieldInput(t.value if t.value is not None else "-0.8 MPa", id="target-value",
-                            validators=[ParsedValidator(check_target)],
-                            placeholder="e.g. -0.8 MPa, 450 mOsm/kg or isotonic")
+                                 validators=[ParsedValidator(check_target)],
+                                 placeholder="e.g. -0.8 MPa, 450 mOsm/kg or isotonic")
                 yield Label("osmotica", classes="field-label")
                 yield FieldInput(", ".join(t.osmotica if t.osmotica is not None else ("mannitol",)), id="target-osmotica",
-                            validators=[ParsedValidator(lambda s: osmotica_ids(catalog, s))],
-                            placeholder="one or two, e.g. mannitol")
+                                 validators=[ParsedValidator(lambda s: osmotica_ids(catalog, s))],
+                                 placeholder="one or two, e.g. mannitol")
             yield FieldMessage("Enter solves · one or two osmotica (two: added in equal moles)", id="target-message")
             yield Static("", id="target-result")
             with Horizontal(classes="buttons"):
