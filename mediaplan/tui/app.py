@@ -176,7 +176,7 @@ class MediaplanApp(App):
         from mediaplan.tui import warm
 
         self._warm_stop.set()
-        warm.QUIET.set()  # the warm start's thread waits for nothing while the app closes
+        warm.release()  # the warm start's thread waits for nothing while the app closes
         super().exit(*args, **kwargs)
 
     def push_screen(self, screen, *args, **kwargs):

@@ -84,6 +84,10 @@ class StyledOnce:
         if not self._shown_before and self.is_mounted:  # type: ignore[attr-defined]
             event.refresh_styles = False  # styled a moment ago, when its widgets mounted
         self._shown_before = True
+        from mediaplan.tui import warm
+
+        # a warm start held while this screen opened goes on once the screen is painted
+        self.call_after_refresh(warm.release)  # type: ignore[attr-defined]
 
 
 class Backdrop(BackgroundScreen):

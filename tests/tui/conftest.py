@@ -49,7 +49,7 @@ def _unfreeze():
     gc.unfreeze()
     from mediaplan.tui import warm
 
-    warm.QUIET.set()
+    warm.release()
 
 
 def pytest_configure(config):

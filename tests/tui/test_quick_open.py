@@ -43,25 +43,44 @@ async def _open(app, pilot, key: str, kind: type):
     return app.screen
 
 
+def _same_as_a_full_restyle(app, screen) -> None:
+    assert screen._shown_before
+    shown = _styles(screen)
+    assert len(shown) >= 4  # the screen, its dialog box and widgets
+    app.stylesheet.update(screen)  # what Textual would have done on showing it
+    assert _styles(screen) == shown
+
+
 @sizes
 @run_async
 async def test_screens_styled_once_have_the_styles_of_a_full_restyle(catalog, size):
+    from mediaplan.tui.dialogs.base import BaseScreen
+    from mediaplan.tui.dialogs.conditions import ConditionsScreen
+    from mediaplan.tui.dialogs.picker import PickerScreen
+    from mediaplan.tui.screens.main import MainScreen
+    from mediaplan.tui.screens.prep import PrepScreen
+    from mediaplan.tui.screens.projection import ProjectionScreen
+    from mediaplan.tui.screens.reading import ReadingScreen
+
     app = app_for(Session(shoot_plan(), catalog))
     async with app.run_test(size=size) as pilot:
         await pilot.pause()
-        for key, kind in (("t", TargetScreen), ("p", SeriesScreen)):
+        main = app.screen
+        assert isinstance(main, MainScreen) and main.has_class("-wide") == (size[0] >= 110)
+        _same_as_a_full_restyle(app, main)
+        for key, kind in (("t", TargetScreen), ("p", SeriesScreen), ("a", PickerScreen), ("b", BaseScreen),
+                          ("c", ConditionsScreen), ("w", ProjectionScreen), ("g", ReadingScreen),
+                          ("m", PrepScreen)):
             screen = await _open(app, pilot, key, kind)
-            assert screen._shown_before
-            shown = _styles(screen)
-            assert len(shown) > 10
-            app.stylesheet.update(screen)  # what Textual would have done on showing it
-            assert _styles(screen) == shown
+            _same_as_a_full_restyle(app, screen)
             # the width class: the one Textual's own resize handling keeps
             wide = size[0] >= 120
             assert screen.has_class("-wide") == (wide and kind is SeriesScreen)
             assert screen.has_class("-narrow") == (not wide and kind is SeriesScreen)
             await pilot.press("escape")
             await pilot.pause()
+            assert app.screen is main
+        _same_as_a_full_restyle(app, main)  # shown again: restyled by Textual as before
 
 
 @pytest.mark.parametrize(("breakpoints", "width", "expected"), [
@@ -161,58 +180,89 @@ async def test_series_plot_place_holds_a_line_until_the_first_fit(catalog, size)
 
 
 class _Held:
-    """warm.QUIET while a screen is held open: never set; records each wait of the warm start."""
+    """warm.QUIET while a screen is held open: never set; each wait of the warm start is recorded and
+    advances a clock by its timeout (warm.time.perf_counter reads it)."""
 
     def __init__(self) -> None:
         self.waits: list[float] = []
+        self.now = 0.0
 
     def is_set(self) -> bool:
         return False
 
     def wait(self, timeout: float) -> bool:
         self.waits.append(timeout)
+        self.now += timeout
         return False
 
     def set(self) -> None:
         pass
 
 
-def test_warm_start_waits_at_engine_imports_and_steps_while_a_screen_is_held(catalog, monkeypatch):
-    import importlib
+@pytest.fixture
+def held(monkeypatch):
+    import types
 
     from mediaplan.tui import warm
 
     held = _Held()
     monkeypatch.setattr(warm, "QUIET", held)
+    monkeypatch.setattr(warm, "time", types.SimpleNamespace(perf_counter=lambda: held.now))
     monkeypatch.setattr(warm, "_lower_priority", lambda: None)
+    return held
+
+
+def test_warm_start_waits_at_engine_imports_and_steps_while_a_screen_is_held(catalog, monkeypatch, held):
+    import builtins
+
+    from mediaplan.tui import warm
+
+    real_import = builtins.__import__
+    monkeypatch.setattr(warm, "WAIT_AT_MOST", 0.25)
     tried = []
 
-    def importing(name):
+    def importing(*names):
         def run(recipe, cat):
-            tried.append(name)
-            importlib.import_module(name)  # not installed: the import fails after the finders were asked
+            for name in names:
+                tried.append(name)
+                try:
+                    __import__(name)  # an import statement's way in
+                except ImportError:
+                    pass
         return run
 
-    # a module the screen's thread may import too: never waited for (it could hold that module's lock)
+    # a module the screen's thread may import too is never waited for (it could hold that module's lock)
     monkeypatch.setattr(warm, "STEPS", (("screen side", importing("textual.mediaplan_no_such_module")),))
+    warm._holds[0] += 1
     warm.warm_up(shoot_plan().recipe, catalog)
-    assert tried == ["textual.mediaplan_no_such_module"] and held.waits == [warm.WAIT_AT_MOST]  # the step's own
+    assert tried == ["textual.mediaplan_no_such_module"] and held.waits == [0.25]  # before the step only
+    # an engine module is waited for, within one budget per hold
     held.waits.clear()
-    monkeypatch.setattr(warm, "STEPS", (("engine side", importing("mediaplan_no_such_engine_module")),))
+    monkeypatch.setattr(warm, "STEPS", (("engine", importing("mediaplan_no_such_engine_module", "math")),))
+    warm._holds[0] += 1
+    held.now = 0.0
+    monkeypatch.setattr(_Held, "wait", lambda self, t: (self.waits.append(t), setattr(self, "now", self.now + 0.1)))
     warm.warm_up(shoot_plan().recipe, catalog)
-    assert held.waits == [warm.WAIT_AT_MOST, warm.WAIT_AT_MOST]  # before the step, and at its import
-    assert not any(isinstance(f, warm._WaitWhenHeld) for f in __import__("sys").meta_path)  # the hook is gone
+    assert held.waits == pytest.approx([0.25, 0.15, 0.05])  # before the step, then each import: 0.25 s in all
+    assert builtins.__import__ is real_import  # the gate is gone
 
 
-def test_the_hook_waits_only_on_the_warm_start_thread(monkeypatch):
+def test_the_gate_waits_only_on_the_warm_start_thread_and_only_for_engine_modules(held):
+    import builtins
     import threading
 
     from mediaplan.tui import warm
 
-    held = _Held()
-    monkeypatch.setattr(warm, "QUIET", held)
-    hook = warm._WaitWhenHeld(threading.get_ident() + 1)  # another thread's hook
-    assert hook.find_spec("numpy") is None and held.waits == []
-    hook = warm._WaitWhenHeld(threading.get_ident())
-    assert hook.find_spec("numpy") is None and held.waits == [warm.WAIT_AT_MOST]
-    assert hook.find_spec("mediaplan.tui.screens.target") is None and len(held.waits) == 1
+    warm._holds[0] += 1
+    other = warm._Gate(threading.get_ident() + 1, builtins.__import__)
+    other("math")
+    assert held.waits == []
+    gate = warm._Gate(threading.get_ident(), builtins.__import__)
+    gate("math")
+    assert held.waits == [warm.WAIT_AT_MOST]  # the budget of this hold is spent at once here
+    warm._holds[0] += 1  # a new hold: a new budget
+    gate("textual.widgets")
+    gate("widgets", {"__package__": "textual"}, None, ("Static",), 1)  # a relative import inside textual
+    assert len(held.waits) == 1
+    gate("math", {"__package__": "mediaplan.thermo"}, None, (), 0)
+    assert len(held.waits) == 2

@@ -45,6 +45,8 @@ LEVEL_COLUMNS = (("level", "#"), ("psi", "ψ MPa"), ("osm", "mOsm/kg"), ("g", "g
 #: the plot's place before the first fit, and while the plotting library is being imported
 PLOT_EMPTY = "the fitted curve is drawn here (f fits the counts)"
 PLOT_PREPARING = "the plot is being prepared…"
+#: seconds after the screen is mounted that the plotting library's import begins (in a worker)
+PLOT_IMPORT_AFTER = 0.4
 
 
 def parse_counts(text: str) -> list[tuple[int, int]]:
@@ -107,7 +109,7 @@ def _num(value: float | None, fmt: str) -> str:
     return fmt.format(value) if isinstance(value, (int, float)) else "–"
 
 
-class CountsScreen(ModalScreen[list[tuple[int, int]] | None]):
+class CountsScreen(StyledOnce, ModalScreen[list[tuple[int, int]] | None]):
     """Dismisses with the counts typed, or None (cancelled, or Enter on an empty field: nothing changes)."""
 
     BINDINGS = [Binding("escape", "cancel", "Cancel", id="counts.cancel", tooltip="Keep the counts as they were")]
@@ -122,7 +124,7 @@ class CountsScreen(ModalScreen[list[tuple[int, int]] | None]):
             box.border_title = "counts"
             yield Label(self.title_text, markup=False)
             yield FieldInput(self.text, id="counts-input", validators=[ParsedValidator(parse_counts, allow_empty=True)],
-                        placeholder="plasmolysed/total per sample, e.g. 12/50, 10/48")
+                             placeholder="plasmolysed/total per sample, e.g. 12/50, 10/48")
             yield FieldMessage("one plasmolysed/total per counted sample · Enter keeps them · Esc cancels",
                                id="counts-message")
 
@@ -195,7 +197,7 @@ class SeriesScreen(StyledOnce, Screen):
             yield FieldInput(str(len(s.levels or ()) or 8), id="series-steps", type="integer", compact=True)
             yield Label("osmoticum", classes="field-label")
             yield FieldInput(s.osmoticum if s.osmoticum is not None else "mannitol", id="series-osmoticum",
-                        compact=True)
+                             compact=True)
             yield Label("volume each", classes="field-label")
             yield FieldInput(s.volume if s.volume is not None else "50 mL", id="series-volume", compact=True)
         yield FieldMessage("d designs the levels · Enter on a level enters its counts · f fits · k keeps",
@@ -219,8 +221,8 @@ class SeriesScreen(StyledOnce, Screen):
         for key, label in LEVEL_COLUMNS:
             table.add_column(label, key=key)
         self._show_levels()
-        if self.query("#series-plot.plot-waiting"):  # after this screen's first paint, not competing with it
-            self.call_after_refresh(self._import_plot)
+        if self.query("#series-plot.plot-waiting"):  # well after this screen's first paint, not competing with
+            self.set_timer(PLOT_IMPORT_AFTER, self._import_plot)  # it (a curve comes after a design and counts)
 
     @work(thread=True, exit_on_error=False, group="plot")
     def _import_plot(self) -> None:
