@@ -93,8 +93,11 @@ class MediaplanApp(App):
         self._warm_stop = threading.Event()
         #: the warm start's thread is at work (a screen opened meanwhile holds it a moment)
         self._warm_running = False
-        #: the priming steps not run yet (mediaplan.tui.quick)
+        #: the priming steps not run yet (mediaplan.tui.quick), and those that wait for the engine
         self._prime_left: list = []
+        self._prime_later: list = []
+        #: every priming step has run
+        self.primed = False
 
     @property
     def catalog(self) -> Catalog:
@@ -124,15 +127,21 @@ class MediaplanApp(App):
         if self.PRIME_SCREENS:
             from mediaplan.tui.quick import prime_steps
 
-            self.call_after_refresh(self._prime, prime_steps(self))
+            first, self._prime_later = prime_steps(self)
+            self.call_after_refresh(self._prime, first)
         if self.offer_recovery:
             self.call_after_refresh(self._offer_recovery)
 
     def _prime(self, steps: list) -> None:
         """Run the next priming step (mediaplan.tui.quick) while the main screen is on top. A screen opened
-        meanwhile opens undisturbed: the priming stops, and goes on once the main screen is back."""
+        meanwhile opens undisturbed: the priming stops, and goes on once the main screen is back. The steps
+        for the screens a first action opens run at once; the others once the engine is in (while the warm
+        start imports it, every step on this thread slows it: the figures would come later)."""
+        if not steps and self._prime_later and not self.warming_engine:
+            steps, self._prime_later = self._prime_later, []
         self._prime_left = steps
         if not steps or self._warm_stop.is_set():
+            self.primed = not steps and not self._prime_later
             return
         if not (self.screen_stack and isinstance(self.screen_stack[-1], MainScreen)):
             self.screen_change_signal.subscribe(self, self._prime_again)
@@ -142,8 +151,10 @@ class MediaplanApp(App):
             step()
         except Exception:  # noqa: BLE001 - priming only saves time; the screen itself will do the work
             pass
-        if steps:
+        if steps or self._prime_later:
             self.set_timer(PRIME_PAUSE, lambda: self._prime(steps))
+        else:
+            self.primed = True
 
     def _prime_again(self, screen) -> None:
         if isinstance(screen, MainScreen):
@@ -200,6 +211,8 @@ class MediaplanApp(App):
         if not self.warming_engine:
             return
         self.warming_engine = False
+        if self._prime_later and not self._prime_left:  # the first steps are done: the others now
+            self.set_timer(PRIME_PAUSE, lambda: self._prime([]))
         if self.is_screen_installed("main") and self.main.is_mounted:
             self.main.refresh_all()
         if os.environ.get(EXIT_AFTER_PAINT) == "figures":

@@ -3,17 +3,23 @@ parse and import is readied after the app's first paint.
 
 Opening a screen costs the styling of its widgets (a pass over every node and every rule of the stylesheet),
 the first reading of the built-in stylesheets of the widget kinds it is the first to use (a button's alone
-takes about 10 ms), the import of its module, its layout and its first render. Three of these are avoidable:
+takes about 10 ms), the import of its module, its layout and its first render (a dialog's: with the screen
+under it, tinted). What is avoided here:
 
 - :class:`StyledOnce`: a screen is styled when its widgets mount; Textual styles the whole screen again
   when it is first shown (needed only for a screen shown before, whose styles may be stale), and once more
   when its width class (``-narrow``/``-wide``) is set on the first resize. The mixin sets the width class
-  before the widgets mount and lets the first showing keep the styles just made.
+  before the widgets mount and lets the first showing keep the styles just made. Its dialogs' backdrop
+  (:class:`Backdrop`) tints each style of the screen under them once, not each stretch of text. Once the
+  screen is painted, a warm start held while it opened goes on (:func:`mediaplan.tui.warm.hold`).
 - :func:`prime_steps`: the screens' modules and the built-in stylesheets of the widget kinds they use are
   imported and parsed in small steps on the app's own thread after its first paint (the parsed rules wait
   in the stylesheet's parse cache; nothing is added to the stylesheet before a widget of that kind mounts).
 
-Nothing here changes what a screen shows: the same styles are applied, only not again.
+Nothing here changes what a screen shows: the same styles are applied, only not again, and the backdrop's
+segments are Textual's own (tests/tui/test_quick_open.py holds both to Textual's full work). The parse
+cache and the base-class lists are Textual internals (textual 8.2, as pinned): should they change, a
+priming step fails and is skipped, and the screens open as before.
 """
 
 from __future__ import annotations
@@ -40,10 +46,16 @@ WIDGET_KINDS = (("mediaplan.tui.widgets.fields", "FieldInput"), ("mediaplan.tui.
                 ("textual.widgets", "Label"), ("textual.containers", "Grid"), ("textual.widgets", "Button"),
                 ("textual.containers", "Horizontal"), ("textual.containers", "Vertical"),
                 ("textual.widgets", "DataTable"), ("textual.containers", "ScrollableContainer"),
-                ("mediaplan.tui.widgets.keybar", "KeyBar"), ("textual.widgets", "Input"),
+                ("mediaplan.tui.widgets.keybar", "KeyBar"),
+                # (the kinds above are those of the target dialog and the series screen)
+                ("textual.widgets", "Input"),
                 ("textual.widgets", "OptionList"), ("textual.containers", "VerticalScroll"),
                 ("textual.widgets", "Select"), ("textual.widgets", "Switch"), ("textual.widgets", "Markdown"),
                 ("textual.widgets", "TextArea"), ("textual.widgets", "DirectoryTree"))
+
+
+#: how many of WIDGET_KINDS the target dialog and the series screen use (primed first)
+FIRST_KINDS = 10
 
 
 def width_class(breakpoints: Iterable[tuple[int, str]] | None, width: int) -> str | None:
@@ -117,11 +129,14 @@ def _default_css_of(kind: type) -> list[tuple]:
     return DOMNode._get_default_css(types.SimpleNamespace(_node_bases=kind._css_bases(kind)))  # type: ignore[arg-type]
 
 
-def prime_steps(app) -> list[Callable[[], None]]:
+def prime_steps(app) -> tuple[list[Callable[[], None]], list[Callable[[], None]]]:
     """Small steps (a few milliseconds each) that import the screens' modules and parse the built-in
     stylesheets of the screens and of the widget kinds they compose into ``app``'s stylesheet parse cache
     (Textual reads a stylesheet with a rank that depends on the class it is read for: each class's own
-    list is parsed). A step that fails may be skipped by the caller: priming only saves time."""
+    list is parsed). A step that fails may be skipped by the caller: priming only saves time.
+
+    Two lists: the steps for the target dialog and the series screen (the likely first actions: their
+    modules and the widget kinds they compose), then the rest."""
     from textual.screen import Screen
 
     def parse(kind: type) -> None:
@@ -138,5 +153,7 @@ def prime_steps(app) -> list[Callable[[], None]]:
         parse(getattr(importlib.import_module(home), name))
 
     first, rest = SCREEN_MODULES[:2], SCREEN_MODULES[2:]
-    return ([functools.partial(screens_of, m) for m in first] + [functools.partial(widget, *k) for k in WIDGET_KINDS]
+    return ([functools.partial(screens_of, m) for m in first]
+            + [functools.partial(widget, *k) for k in WIDGET_KINDS[:FIRST_KINDS]],
+            [functools.partial(widget, *k) for k in WIDGET_KINDS[FIRST_KINDS:]]
             + [functools.partial(screens_of, m) for m in rest])

@@ -116,10 +116,10 @@ async def test_after_priming_the_first_screens_parse_no_stylesheet(catalog, monk
     async with app.run_test(size=SIZES[0]) as pilot:
         await pilot.pause()
         for _ in range(400):
-            if not app._prime_left:
+            if app.primed:
                 break
             await asyncio.sleep(0.01)
-        assert not app._prime_left
+        assert app.primed and not app._prime_left and not app._prime_later
         parsed = set(app.stylesheet._parse_cache.keys())
         for key, kind in (("t", TargetScreen), ("p", SeriesScreen)):
             await _open(app, pilot, key, kind)
@@ -147,10 +147,10 @@ async def test_priming_waits_while_a_screen_is_open_and_goes_on_after(catalog, m
         assert len(app._prime_left) == left  # nothing runs while the dialog is open
         await pilot.press("escape")
         for _ in range(400):
-            if not app._prime_left:
+            if app.primed:
                 break
             await asyncio.sleep(0.01)
-        assert not app._prime_left
+        assert app.primed
 
 
 @sizes
