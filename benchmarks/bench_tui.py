@@ -28,7 +28,8 @@ records the longest time the event loop did not answer ("loop blocked": keys and
 Target: no screen takes over 0.2 s to show and the loop is never blocked over 0.2 s; a solve, design or
 fit started before the warm start is done shows "solving..." at once and its answer when ready. To measure
 an older version, give ``--source`` that version's source tree (the editable install is then set aside in
-every child). Prints medians.
+every child); ``--against`` an older tree measures both versions' first actions round by round in one run
+and prints their ratios. Prints medians.
 """
 
 from __future__ import annotations
@@ -271,15 +272,26 @@ async def first_actions(plan: Path, idle: float, kind: str) -> dict[str, float]:
     return out
 
 
-def first_action_runs(plan: Path, n: int, idle: float, env: dict) -> dict[str, list[float]]:
-    runs: dict[str, list[float]] = {}
+def first_action_runs(plan: Path, n: int, idle: float, env: dict,
+                      against: str | None = None) -> dict[str, list[float]] | dict[str, dict[str, list[float]]]:
+    """Seconds of the first actions in ``n`` rounds of fresh interpreters [s]. With ``against`` (another
+    version's source tree) each round runs that version and then this one, kind by kind, and the result is
+    {"against": runs, "this": runs} (paired round by round: the load of the machine is alike for both)."""
+    trees = {"this": SOURCE} if against is None else {"against": against, "this": SOURCE}
+    runs: dict[str, dict[str, list[float]]] = {name: {} for name in trees}
     for _ in range(n):
         for kind in ("target", "series"):
-            done = subprocess.run([sys.executable, __file__, "--child-first", str(plan), str(idle), kind], env=env,
-                                  check=True, capture_output=True, text=True, stdin=subprocess.DEVNULL)
-            for k, v in json.loads(done.stdout.strip().splitlines()[-1]).items():
-                runs.setdefault(k, []).append(v)
-    return runs
+            for name, source in trees.items():
+                child_env = dict(env)
+                child_env.pop("MEDIAPLAN_BENCH_SOURCE", None)
+                if source:
+                    child_env["MEDIAPLAN_BENCH_SOURCE"] = source
+                done = subprocess.run([sys.executable, __file__, "--child-first", str(plan), str(idle), kind],
+                                      env=child_env, check=True, capture_output=True, text=True,
+                                      stdin=subprocess.DEVNULL)
+                for k, v in json.loads(done.stdout.strip().splitlines()[-1]).items():
+                    runs[name].setdefault(k, []).append(v)
+    return runs["this"] if against is None else runs
 
 
 def _median_ratio(a: list[float], b: list[float]) -> float:
@@ -298,6 +310,8 @@ def main() -> None:
     ap.add_argument("--paint-only", action="store_true",
                     help="no 'figures shown' starts (versions whose first paint has the figures)")
     ap.add_argument("--source", help="measure the mediaplan of this source tree (another version's checkout)")
+    ap.add_argument("--against", help="first actions only: also measure this source tree (another version's "
+                                      "checkout), round by round with this one, and print both with their ratios")
     ap.add_argument("--child-first", nargs=3, metavar=("PLAN", "IDLE", "KIND"), help=argparse.SUPPRESS)
     args = ap.parse_args()
     global SOURCE
@@ -321,7 +335,9 @@ def main() -> None:
         plan.write_text(PLAN)
         starts = cold_starts(plan, args.starts, env, figures=not args.paint_only) if args.starts else {}
         total, ev_only = asyncio.run(edit_latencies(plan, args.edits)) if args.edits else ([], [])
-        firsts = {idle: first_action_runs(plan, args.firsts, idle, env) for idle in args.idle} if args.firsts else {}
+        against = str(Path(args.against).resolve()) if args.against else None
+        firsts = ({idle: first_action_runs(plan, args.firsts, idle, env, against) for idle in args.idle}
+                  if args.firsts else {})
     if starts:
         bare = starts["bare Textual app"]
         print(f"cold starts ({args.starts} rounds; {'no bytecode kept' if args.no_bytecode else 'bytecode kept'}):")
@@ -339,8 +355,19 @@ def main() -> None:
     for idle, runs in firsts.items():
         print(f"first actions, {idle:g} s after the first paint (n={args.firsts} fresh interpreters each; "
               "target: screens and loop < 0.2 s):")
-        for name, times in runs.items():
-            print(f"  {name:<24} median {statistics.median(times):.3f} s (min {min(times):.3f}, max {max(times):.3f})")
+        if against is None:
+            for name, times in runs.items():
+                print(f"  {name:<24} median {statistics.median(times):.3f} s (min {min(times):.3f}, "
+                      f"max {max(times):.3f})")
+            continue
+        print(f"  {'':<24} {'against':>15} {'this':>15}   this/against (median of the rounds' ratios)")
+        for name, times in runs["this"].items():
+            old = runs["against"].get(name)
+            if old is None:
+                print(f"  {name:<24} {'-':>15} {statistics.median(times):>13.3f} s")
+                continue
+            print(f"  {name:<24} {statistics.median(old):>13.3f} s {statistics.median(times):>13.3f} s   "
+                  f"{_median_ratio(times, old):.2f}")
 
 
 if __name__ == "__main__":
