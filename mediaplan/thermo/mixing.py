@@ -389,7 +389,15 @@ def _newton(ops: _Ops, s: _System, start: tuple | None) -> MixtureResult:
         o, _ = _binary(ops, neutral, key, m, T)
         o0.append(o)
         y = y + where(on, o, 0.0)
-    active = y > 0
+    # ions whose own Pitzer φ is past its range (<= 0) on a cold start: no answer (NaN), never "pure water"
+    # from a sum made zero or negative by that φ (a warm row checks φ where its steps restart, below)
+    if floats:
+        if has_e and not s.warm and not s.phi_own > 0:
+            return _result(ops, s, math.nan, [1.0] * len(groups), math.nan, math.nan, None, True, True)
+        bad = False
+    else:
+        bad = has_e & ~(s.phi_own > 0)  # rows whose electrolytes left Pitzer's range (φ <= 0): no answer
+    active = (y > 0) & ~bad if not floats else y > 0
     if floats and not active:  # pure water
         return _result(ops, s, 0.0, [1.0] * len(groups), 0.0, 1.0, None, False, False)
     y = where(active, y, 1.0)
@@ -417,7 +425,6 @@ def _newton(ops: _Ops, s: _System, start: tuple | None) -> MixtureResult:
         # batch's rows meet NaN at their first step and are marked bad there)
         return _result(ops, s, math.nan, x, math.nan, math.nan, None, True, True)
     Me = where(has_e, s.M_e, 1.0)
-    bad = active & False  # rows whose electrolytes left Pitzer's range (φ <= 0): no answer
 
     def e_scale(yv):
         """Scale s of the medium's own ion molalities whose binary solution has osmolality yv (rows
@@ -501,6 +508,8 @@ def _newton_row(s: _System, start: tuple | None) -> MixtureResult:
             o, _ = peg(m, T, int(key))
         o0.append(o)
         y = y + o
+    if has_e and not s.warm and not s.phi_own > 0:  # the ions' own φ past Pitzer's range: no answer
+        return _result(_FLOATS, s, math.nan, [1.0] * len(groups), math.nan, math.nan, None, True, True)
     active = y > 0
     if not active:  # pure water
         return _result(_FLOATS, s, 0.0, [1.0] * len(groups), 0.0, 1.0, None, False, False)

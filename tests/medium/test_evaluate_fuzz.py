@@ -7,7 +7,7 @@ are finite (or None in JSON, with a warning that says why) or a MediaplanError; 
 (a power of a negative float turned complex, a square root of a negative number) and never a numpy
 RuntimeWarning printed on a user's terminal (a log of a zero water activity). The recipes are random test
 inputs, not published values; a run of 100,000 such recipes found each of the defects this table now
-holds (N6 1975 at 20x, PEG at 37 mol/kg with phosphate).
+holds (N6 1975 at 20x, PEG at 37 mol/kg with phosphate, ions past Pitzer's range read as pure water).
 """
 
 from __future__ import annotations
@@ -28,6 +28,8 @@ FOUND = [
     (("n6_1975", 20.0, "all", "25 degC"), ()),
     ((None, 1.0, "salts", "37 degC"), (("dichlorophenoxyacetic_acid", "0.002197 g/L"),
                                         ("disodium_hydrogen_phosphate", "832.4 mmol/kg"), ("peg6000", "37.46 mol/kg"))),
+    # ions past Pitzer's range (their own phi < 0): once 0 mOsm/kg and a_w 1.00000, with exit status 0
+    ((None, 1.0, "salts", "14.5 degC"), (("calcium_pantothenate", "32.74 mol/kg"), ("silver_nitrate", "4.693 mol/kg"))),
 ]
 
 
@@ -70,6 +72,8 @@ def test_random_recipes_answer_in_finite_figures_or_refuse_in_words(catalog, see
             d = ev.to_dict()
             for key in ("osmolality_mosmol_per_kg", "water_activity", "osmotic_potential_mpa", "density_kg_per_l"):
                 assert isinstance(d[key], float) and math.isfinite(d[key]), (head, user, key)
+            if any(c.molality_mmol_per_kg > 0 for c in ev.components):  # solutes: never read as pure water
+                assert d["osmolality_mosmol_per_kg"] > 0 and d["water_activity"] < 1, (head, user)
             if d["freezing_point_depression_k"] is None:  # said in words, first of the warnings
                 assert ev.warnings[0].code == "no_freezing_point", (head, user)
             answered += 1

@@ -16,7 +16,7 @@ import numpy as np
 import pytest
 
 from mediaplan.thermo import mixing
-from tests.thermo.test_mixing import COMPOSITIONS, FIELDS, TEMPERATURES, _input
+from tests.thermo.test_mixing import COMPOSITIONS, FIELDS, TEMPERATURES, _input, _stacked
 
 #: amounts times these factors [-] (test inputs: from none to far past Pitzer's range, where PEG in salt has no
 #: answer (NaN) and strong salts run to the clips)
@@ -87,3 +87,27 @@ def test_zsr_osmolality_of_one_row_runs_the_row_loop(catalog, monkeypatch):
     monkeypatch.setattr(mixing, "_newton_row", lambda s, start: calls.append(1) or loop(s, start))
     mixing.zsr_osmolality(_input(catalog, "ms_with_sucrose", 298.15))
     assert calls == [1]
+
+
+@pytest.mark.parametrize("comp", [c for c, v in COMPOSITIONS.items() if v[0]])
+def test_ions_past_pitzer_range_never_read_as_pure_water(catalog, comp):
+    """Where the ions' own Pitzer φ is zero or negative (far past the parameters' range) the ZSR answer is
+    NaN on the row path and in a batch alike: never 0 (the sum M_e·φ made zero or negative was once read as
+    pure water, and a medium of 37 mol/kg solutes evaluated to 0 mOsm/kg with exit status 0), never a
+    negative or a finite number built on that φ. Scales from 1 to 1e4 of each composition with ions, at
+    every temperature of the table; the compositions are test inputs."""
+    met = 0
+    for T in TEMPERATURES.values():
+        for scale in (1.0, 30.0, 100.0, 300.0, 1000.0, 1e4):
+            inp = _input(catalog, comp, T, scale)
+            phi_own = inp.pitzer.scaled(np.asarray(inp.ion_m)[0], T)(1.0)
+            with np.errstate(all="ignore"):
+                row = mixing.zsr_osmolality(inp)
+                batch = mixing.zsr_osmolality(_stacked(inp, 2))
+            y_row, y_batch = float(row.osmolality[0]), batch.osmolality.tolist()
+            if not phi_own > 0:
+                met += 1
+                assert math.isnan(y_row) and all(math.isnan(v) for v in y_batch), (comp, T, scale, y_row, y_batch)
+            else:
+                assert math.isnan(y_row) or y_row > 0, (comp, T, scale, y_row)
+    assert met or comp in ("kcl_trace",), "the table should reach past Pitzer's range"
