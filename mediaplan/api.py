@@ -448,14 +448,17 @@ def sweep(medium: Recipe | Plan, amounts: Mapping[str, Sequence[str] | str], *, 
 
     Returns
     -------
-    dict : figure name -> a 1-D numpy array, one value per row, as :func:`evaluate` gives each (to 1e-12);
-        rows are solved in chunks, so 10^6 variants need no more memory than their answers and one chunk
+    dict : figure name -> a 1-D numpy array, one value per row, as :func:`evaluate` gives each (to 1e-12),
+        NaN in every figure of a row :func:`evaluate` refuses for want of an answer (past every model's
+        range); rows are solved in chunks, so 10^6 variants need no more memory than their answers and one
+        chunk
 
     The figures are the model's values only: no warnings, cautions or intervals (evaluate the rows you act
     on with :func:`evaluate` and :func:`budget` for those).
 
-    Raises MediaplanError as :func:`evaluate` does when the most concentrated corner of the sweep (every varied
-    component at its largest amount) holds more than a medium can, or a row leaves no water.
+    Raises MediaplanError as :func:`evaluate` does, in its words, when a row holds more than a medium can
+    (each row is checked as :func:`evaluate` checks it), or a row leaves no water. A varied component
+    stands where :meth:`Recipe.with_amount` puts it: another form of its substance in the base is replaced.
     """
     from mediaplan.medium.grid import sweep_recipe
 

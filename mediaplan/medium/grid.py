@@ -23,7 +23,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from mediaplan.medium.errors import MediaplanError
-from mediaplan.medium.model import MIN_FREE_VOLUME, SOLVE_CHUNK, MediumModel
+from mediaplan.medium.model import MIN_FREE_VOLUME, SOLVE_CHUNK, MediumModel, ModelState
 from mediaplan.thermo import potential
 
 #: the figures a sweep can return, by name: osmolality [osmol/kg], water activity [-], water potential [Pa]
@@ -123,7 +123,8 @@ def chunks(n0: np.ndarray, b0: np.ndarray, axes: Sequence[Axis], *, full: bool =
 
 def solve_grid(model: MediumModel, n0, b0, axes: Sequence[Axis], *, full: bool = True,
                figures: Sequence[str] = FIGURES, T: float | None = None, chunk: int = SOLVE_CHUNK,
-               progress: Callable[[int, int], None] | None = None) -> dict[str, np.ndarray]:
+               progress: Callable[[int, int], None] | None = None,
+               check: Callable[[int, ModelState], None] | None = None) -> dict[str, np.ndarray]:
     """The figures of every variant of the sweep, as 1-D arrays over its rows (see the module's notes).
 
     Parameters
@@ -136,11 +137,14 @@ def solve_grid(model: MediumModel, n0, b0, axes: Sequence[Axis], *, full: bool =
     T : temperature [K] (the model's own by default)
     chunk : rows solved at once (:data:`~mediaplan.medium.model.SOLVE_CHUNK` by default)
     progress : called after each chunk with (rows done, rows in all)
+    check : called with (first row, state) of each chunk once solved, before its figures are kept (it may
+        raise: :func:`sweep_recipe` refuses a row no medium can hold there)
 
     Returns
     -------
     dict figure name -> array of one value per row: ``osmolality`` [osmol/kg], ``water_activity`` [-],
-    ``potential`` [Pa]
+    ``potential`` [Pa]; NaN in every figure of a row the models have no answer for (past every model's
+    range: no osmolality, or one whose water activity underflows to zero), where ``evaluate`` refuses
 
     Raises
     ------
@@ -159,12 +163,18 @@ def solve_grid(model: MediumModel, n0, b0, axes: Sequence[Axis], *, full: bool =
             st = model.solve(n, b, T=T)
         except MediaplanError as exc:
             raise _where(exc, model, axes, start, n, b) from None
+        if check is not None:
+            check(start, st)
         y = st.mix.osmolality
         stop = start + y.shape[0]
-        if "osmolality" in out:
-            out["osmolality"][start:stop] = y
-        if "water_activity" in out or "potential" in out:
+        with np.errstate(under="ignore", divide="ignore", invalid="ignore"):
             aw = potential.water_activity(y)
+            answered = aw > 0  # no answer: NaN osmolality, or a water activity that underflows (no logarithm)
+            if not answered.all():
+                y = np.where(answered, y, np.nan)
+                aw = np.where(answered, aw, np.nan)
+            if "osmolality" in out:
+                out["osmolality"][start:stop] = y
             if "water_activity" in out:
                 out["water_activity"][start:stop] = aw
             if "potential" in out:
@@ -199,6 +209,10 @@ _TO_NAMED = {"osmolality_mosmol_per_kg": lambda v: v * 1000.0, "water_activity":
              "osmotic_potential_mpa": lambda v: v / 1e6}
 
 
+#: the amount a varied component's line is placed with (any amount not zero: its value is never used)
+_PLACEHOLDER = "1 mol/L"
+
+
 def sweep_recipe(recipe, catalog, amounts, *, full: bool = True, figures: Sequence[str] = tuple(RECIPE_FIGURES),
                  chunk: int = SOLVE_CHUNK, progress: Callable[[int, int], None] | None = None) -> dict[str, np.ndarray]:
     """The figures of a recipe with some components varied: a full grid of their amounts, or given rows.
@@ -227,6 +241,7 @@ def sweep_recipe(recipe, catalog, amounts, *, full: bool = True, figures: Sequen
     MediaplanError for a component the catalog does not know or a row without water.
     """
     from mediaplan.medium.model import compiled
+    from mediaplan.medium.recipe import plausible_limits
     from mediaplan.medium.units import Amount, parse_amount
 
     unknown = [f for f in figures if f not in RECIPE_FIGURES]
@@ -246,14 +261,17 @@ def sweep_recipe(recipe, catalog, amounts, *, full: bool = True, figures: Sequen
         if not parsed:
             raise MediaplanError(f"no amounts of {comp.id}", field=f"sweep.{comp.id}", hint="give at least one")
         varied.append((comp, parsed))
-    lines = recipe.lines(catalog)
-    comps = [ln.component for ln in lines]
-    base_amounts = [ln.amount for ln in lines]
+    # the lines as evaluate() makes them for any row: each varied component given an amount (not zero, so its
+    # line stands where a row's amount puts it: over its own line, or replacing a base line of another form
+    # of its substance, else after the others), then taken as zero in the fixed part
     zero = parse_amount("0 mol/L")
+    placed = recipe
     for comp, _ in varied:
-        if all(c.id != comp.id for c in comps):
-            comps.append(comp)
-            base_amounts.append(zero)
+        placed = placed.with_amount(comp.id, _PLACEHOLDER)
+    lines = placed.lines(catalog)
+    comps = [ln.component for ln in lines]
+    varied_ids = {comp.id for comp, _ in varied}
+    base_amounts = [zero if ln.component.id in varied_ids else ln.amount for ln in lines]
     model = compiled(catalog, comps, recipe.temperature_k)
     n0, b0 = model.amounts_to_arrays(base_amounts)
     ids = [c.id for c in comps]
@@ -270,6 +288,24 @@ def sweep_recipe(recipe, catalog, amounts, *, full: bool = True, figures: Sequen
         largest = int(np.argmax(n * model.v[i] + b * model.v[i] * model.rho_w))  # the most volume of solute
         corner = corner.with_amount(comp.id, parsed[largest])
     corner.check_plausible(catalog)
+    limits = plausible_limits(lines, catalog.pitzer)
+
+    def check(start: int, st) -> None:
+        """Each row as evaluate() would check it: a row with a substance past its limit (or a molality that
+        is not a finite number) is refused in the words evaluate() gives that row."""
+        m = st.molality
+        over = ~np.all(np.isfinite(m) & (m >= 0), axis=1)
+        for idx, limit in limits:
+            total = m[:, idx[0]]
+            for i in idx[1:]:
+                total = total + m[:, i]
+            over |= total > limit
+        for r in np.flatnonzero(over).tolist():
+            row = recipe
+            for (comp, parsed), k in zip(varied, _axis_indices(axes, np.array([start + r]), full), strict=True):
+                row = row.with_amount(comp.id, parsed[int(k[0])])
+            row.check_plausible(catalog)  # raises, naming the line (a row at the very edge may pass: it stands)
+
     got = solve_grid(model, n0, b0, axes, full=full, figures=tuple({RECIPE_FIGURES[f] for f in figures}),
-                     chunk=chunk, progress=progress)
+                     chunk=chunk, progress=progress, check=check)
     return {f: _TO_NAMED[f](got[RECIPE_FIGURES[f]]) for f in figures}

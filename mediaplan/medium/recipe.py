@@ -404,6 +404,12 @@ def within_limits(lines: list[Line], molality, pitzer, model=None) -> bool:
     return True
 
 
+def plausible_limits(lines: list[Line], pitzer) -> list[tuple[list[int], float]]:
+    """Per substance of the lines: (the indices of its lines, the most it may reach [mol/kg], all its forms
+    together), as :func:`check_plausible` sets them; for a batch of many compositions of these lines."""
+    return _limits(lines, pitzer)
+
+
 def _limits(lines: list[Line], pitzer) -> list[tuple[list[int], float]]:
     """Per substance of the lines: (the indices of its lines, its limit [mol/kg]) as :func:`check_plausible`
     sets them (the component of its first line, a user's line before a base line)."""

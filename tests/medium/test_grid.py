@@ -131,3 +131,59 @@ def test_sweep_of_a_recipe_refuses_what_evaluate_refuses(ms):
         sweep_recipe(recipe, cat, {"mannitol": ["20 g/l/L"]})
     with pytest.raises(MediaplanError, match="unknown figure"):
         sweep_recipe(recipe, cat, {"mannitol": ["0 g/L"]}, figures=("osmolality",))
+
+
+def _rows_of(recipe, amounts):
+    """The recipes of a full sweep's rows, in its order (the first component varying slowest)."""
+    import itertools
+
+    keys = list(amounts)
+    for combo in itertools.product(*[amounts[k] for k in keys]):
+        row = recipe
+        for k, a in zip(keys, combo, strict=True):
+            row = row.with_amount(k, a)
+        yield row
+
+
+#: sweeps a random search of 30,000 found answering otherwise than evaluate() (test inputs)
+SWEEPS_AS_EVALUATE = {
+    # another form of a base's substance replaces the base line (it was added beside it: CaCl2 counted twice)
+    "other_form_of_a_base_line": (Recipe(base="ms1962"), {"calcium_chloride_anhydrous": ["0 mM", "0.0121 mM", "11.26 mM"],
+                                                          "biotin": ["0.00216 mM", "10.17 mM"]}),
+    "other_form_at_two_strengths": (Recipe(base="ms1962", strength=2, temperature="4 degC"),
+                                    {"manganese_sulfate_monohydrate": ["0 g/L", "2.167 g/L"]}),
+    "other_form_at_zero_celsius": (Recipe(base="n6_1975", temperature="0 degC"),
+                                   {"manganese_sulfate_monohydrate": ["0.001371 g/L", "33.42 g/L"]}),
+    # rows past Pitzer's range (the ions' own phi <= 0): no answer, as evaluate() refuses them
+    "ions_past_pitzer_range": (Recipe(temperature="14.5 degC").with_amount("silver_nitrate", "4.693 mol/kg"),
+                               {"calcium_pantothenate": ["0.01 mol/kg", "32.74 mol/kg"]}),
+}
+
+
+@pytest.mark.parametrize("name", list(SWEEPS_AS_EVALUATE))
+def test_every_row_of_a_sweep_is_what_evaluate_gives_it_or_refuses(ms, name):
+    cat = ms[0]
+    recipe, amounts = SWEEPS_AS_EVALUATE[name]
+    got = sweep_recipe(recipe, cat, amounts)
+    for r, row in enumerate(_rows_of(recipe, amounts)):
+        try:
+            ev = evaluate(row, cat)
+        except MediaplanError:
+            assert all(np.isnan(got[f][r]) for f in got), (name, r)  # no answer: NaN, never a number
+            continue
+        for f in got:
+            assert got[f][r] == pytest.approx(getattr(ev, f), rel=1e-12), (name, r, f)
+
+
+def test_a_row_past_its_limit_is_refused_even_when_the_corner_by_volume_is_not_it(ms):
+    """Magnesium sulfate takes less volume dissolved than its water (a negative apparent molar volume), so
+    the corner that holds the most volume of solute is its smallest amount: every row is checked as
+    evaluate() checks it, and the refusal names the row's amount in evaluate()'s words."""
+    cat = ms[0]
+    recipe = Recipe(base="nn1969", strength=0.5, temperature="0 degC")
+    amounts = {"magnesium_sulfate_heptahydrate": ["0.1 mol/kg", "30.49 mol/kg"]}
+    with pytest.raises(AmountError) as sweep_err:
+        sweep_recipe(recipe, cat, amounts)
+    with pytest.raises(AmountError) as eval_err:
+        evaluate(recipe.with_amount("magnesium_sulfate_heptahydrate", "30.49 mol/kg"), cat)
+    assert str(sweep_err.value) == str(eval_err.value)
