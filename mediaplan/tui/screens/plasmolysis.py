@@ -218,8 +218,8 @@ class SeriesScreen(StyledOnce, Screen):
 
     def on_mount(self) -> None:
         table = self.query_one(DataTable)
-        for key, label in LEVEL_COLUMNS:
-            table.add_column(label, key=key)
+        for key, label in LEVEL_COLUMNS:  # as Text: no markup to read (which would import rich's emoji table)
+            table.add_column(Text(label), key=key)
         self._show_levels()
         if self.query("#series-plot.plot-waiting"):  # well after this screen's first paint, not competing with
             self.set_timer(PLOT_IMPORT_AFTER, self._import_plot)  # it (a curve comes after a design and counts)
