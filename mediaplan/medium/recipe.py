@@ -26,6 +26,12 @@ PLAUSIBLE_SATURATION_FACTOR = 2.0
 #: the largest molality [mol/kg water] evaluated for a substance without a solubility in the catalog: as
 #: model.MAX_MOLALITY, the top of every search (nothing in the catalog dissolves that far; common practice)
 PLAUSIBLE_MAX_MOLALITY = 50.0
+#: the most solute [kg per kg water] evaluated for a substance without a solubility in the catalog (PEG, large
+#: organics): 83 % solute by mass. Saturated sucrose holds 2.1 kg per kg water at 25 °C and the PEG
+#: equations reach 0.8 g/g; past 5 kg/kg no medium or stock is meant, and a heavy solute's molality stays
+#: far below PLAUSIBLE_MAX_MOLALITY while the models run far out (PEG 8000 at 81 kg/kg gave 39 million
+#: mOsm/kg) (common practice)
+PLAUSIBLE_MAX_KG_PER_KG = 5.0
 
 #: what the strength of a base formulation scales: scope -> catalog groups. "Half-strength MS" in most
 #: laboratories means the mineral salts at half their amounts, sugars, vitamins and regulators as published
@@ -332,8 +338,8 @@ def check_plausible(lines: list[Line], molality, pitzer=None, *, model=None) -> 
     ------
     AmountError naming the line (``medium.components.ID``, or ``medium.strength`` for a base line) and the
     limit, when a substance (all its forms together) is past :data:`PLAUSIBLE_SATURATION_FACTOR` times its
-    25 °C solubility (:attr:`Component.saturation_molality`), or past :data:`PLAUSIBLE_MAX_MOLALITY` without
-    a solubility, or when a molality is not a finite number.
+    25 °C solubility (:attr:`Component.saturation_molality`), or past :data:`PLAUSIBLE_MAX_MOLALITY` or
+    :data:`PLAUSIBLE_MAX_KG_PER_KG` without a solubility, or when a molality is not a finite number.
     """
     if within_limits(lines, molality, pitzer, model):
         return
@@ -351,19 +357,7 @@ def check_plausible(lines: list[Line], molality, pitzer=None, *, model=None) -> 
     for key, m in total.items():
         ln = first[key]
         c = ln.component
-        m_sat = c.saturation_molality
-        if m_sat is not None:
-            limit = PLAUSIBLE_SATURATION_FACTOR * m_sat
-            why = (f"twice its solubility at 25 °C ({c.solubility:g} g/100 g water, {m_sat:.3g} mol/kg); "
-                   "no medium holds that much")
-        else:
-            limit = PLAUSIBLE_MAX_MOLALITY
-            why = "the most any medium or stock holds"
-        pair = _pair_range(c, pitzer)
-        if pair is not None and PITZER_RANGE_FACTOR * pair[1] < limit:
-            limit = PITZER_RANGE_FACTOR * pair[1]
-            why = (f"{PITZER_RANGE_FACTOR:g} times the top of the data its Pitzer parameters were fitted to "
-                   f"({pair[0]}, {pair[1]:g} mol/kg); past it no figure of the model can be trusted")
+        limit, why = _limit_of(c, pitzer)
         if m > limit:
             name = c.name if not c.formula or c.formula == c.name else f"{c.name} ({c.formula})"
             what = ln.amount.text if ln.amount.kind == "molal" else f"{ln.amount.text} ({m:.3g} mol/kg)"
@@ -420,16 +414,32 @@ def _limits(lines: list[Line], pitzer) -> list[tuple[list[int], float]]:
         idx.setdefault(key, []).append(i)
         if key not in first or first[key].origin == "base":
             first[key] = ln
-    out = []
-    for key, members in idx.items():
-        c = first[key].component
-        m_sat = c.saturation_molality
-        limit = PLAUSIBLE_SATURATION_FACTOR * m_sat if m_sat is not None else PLAUSIBLE_MAX_MOLALITY
-        pair = _pair_range(c, pitzer)
-        if pair is not None and PITZER_RANGE_FACTOR * pair[1] < limit:
-            limit = PITZER_RANGE_FACTOR * pair[1]
-        out.append((members, limit))
-    return out
+    return [(members, _limit_of(first[key].component, pitzer)[0]) for key, members in idx.items()]
+
+
+def _limit_of(c: Component, pitzer) -> tuple[float, str]:
+    """(the most of c's substance evaluated [mol/kg], why, in words): twice its 25 °C solubility, else
+    :data:`PLAUSIBLE_MAX_MOLALITY` or :data:`PLAUSIBLE_MAX_KG_PER_KG` (the lower), lowered to
+    :data:`PITZER_RANGE_FACTOR` times its Pitzer pair's data where that is lower still."""
+    m_sat = c.saturation_molality
+    if m_sat is not None:
+        limit = PLAUSIBLE_SATURATION_FACTOR * m_sat
+        why = (f"twice its solubility at 25 °C ({c.solubility:g} g/100 g water, {m_sat:.3g} mol/kg); "
+               "no medium holds that much")
+    else:
+        limit = PLAUSIBLE_MAX_MOLALITY
+        why = "the most any medium or stock holds"
+        M = c.anhydrous_molar_mass  # [g/mol] of the solute itself
+        if M and M > 0 and limit > PLAUSIBLE_MAX_KG_PER_KG * 1000.0 / M:
+            limit = PLAUSIBLE_MAX_KG_PER_KG * 1000.0 / M
+            why = (f"{PLAUSIBLE_MAX_KG_PER_KG:g} kg per kg of water, the most solute any medium or stock "
+                   "holds")
+    pair = _pair_range(c, pitzer)
+    if pair is not None and PITZER_RANGE_FACTOR * pair[1] < limit:
+        limit = PITZER_RANGE_FACTOR * pair[1]
+        why = (f"{PITZER_RANGE_FACTOR:g} times the top of the data its Pitzer parameters were fitted to "
+               f"({pair[0]}, {pair[1]:g} mol/kg); past it no figure of the model can be trusted")
+    return limit, why
 
 
 def _pair_range(c: Component, pitzer) -> tuple[str, float] | None:

@@ -425,11 +425,18 @@ def _osmolality_at_freezing(theta: float) -> float:
     :func:`mediaplan.thermo.potential.freezing_point_depression`, by Newton's method)."""
     if not theta > 0:
         return 0.0
+    if not math.isfinite(theta):
+        return math.nan
     y = theta / K_F_OSMOMETER
     for _ in range(20):
         eps = max(y * 1e-7, 1e-12)
-        f = float(potential.freezing_point_depression(potential.water_activity(y))) - theta
-        d = (float(potential.freezing_point_depression(potential.water_activity(y + eps))) - theta - f) / eps
+        aw, aw_eps = float(potential.water_activity(y)), float(potential.water_activity(y + eps))
+        if not (aw > 0 and aw_eps > 0):  # a water activity that underflows (far past every model): the
+            break                        # estimate stands, no logarithm of zero
+        f = float(potential.freezing_point_depression(aw)) - theta
+        d = (float(potential.freezing_point_depression(aw_eps)) - theta - f) / eps
+        if not d > 0:  # no slope left: the estimate stands
+            break
         step = f / d
         y -= step
         if abs(step) <= 1e-13 * y:

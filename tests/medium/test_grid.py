@@ -154,9 +154,6 @@ SWEEPS_AS_EVALUATE = {
                                     {"manganese_sulfate_monohydrate": ["0 g/L", "2.167 g/L"]}),
     "other_form_at_zero_celsius": (Recipe(base="n6_1975", temperature="0 degC"),
                                    {"manganese_sulfate_monohydrate": ["0.001371 g/L", "33.42 g/L"]}),
-    # rows past Pitzer's range (the ions' own phi <= 0): no answer, as evaluate() refuses them
-    "ions_past_pitzer_range": (Recipe(temperature="14.5 degC").with_amount("silver_nitrate", "4.693 mol/kg"),
-                               {"calcium_pantothenate": ["0.01 mol/kg", "32.74 mol/kg"]}),
 }
 
 
@@ -187,3 +184,16 @@ def test_a_row_past_its_limit_is_refused_even_when_the_corner_by_volume_is_not_i
     with pytest.raises(AmountError) as eval_err:
         evaluate(recipe.with_amount("magnesium_sulfate_heptahydrate", "30.49 mol/kg"), cat)
     assert str(sweep_err.value) == str(eval_err.value)
+
+
+def test_rows_past_pitzer_range_have_no_answer_in_every_figure(ms):
+    """A row whose ions' own Pitzer φ is negative (calcium pantothenate at 32.74 mol/kg with silver nitrate
+    at 4.693 mol/kg, 14.5 °C: a random search found it, when amounts past 5 kg per kg of water were not yet
+    refused) is NaN in every figure of the grid, without numpy warnings; the row beside it is answered."""
+    cat = ms[0]
+    comps = [cat.components["silver_nitrate"], cat.components["calcium_pantothenate"]]
+    model = compiled(cat, comps, 287.65)
+    with np.errstate(all="raise"):
+        got = solve_grid(model, np.zeros(2), np.array([4.693, 0.0]), [Axis.per_water(1, np.array([0.01, 32.74]))])
+    for f, v in got.items():
+        assert np.isfinite(v[0]) and np.isnan(v[1]), (f, v)

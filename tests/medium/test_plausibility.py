@@ -7,9 +7,10 @@ import warnings
 import pytest
 
 from mediaplan.cli.main import main
-from mediaplan.medium.errors import AmountError
+from mediaplan.medium.errors import AmountError, MediaplanError
 from mediaplan.medium.evaluate import evaluate
 from mediaplan.medium.recipe import (
+    PLAUSIBLE_MAX_KG_PER_KG,
     PLAUSIBLE_MAX_MOLALITY,
     PLAUSIBLE_SATURATION_FACTOR,
     Recipe,
@@ -103,3 +104,22 @@ def test_a_salt_far_past_its_pitzer_data_is_refused(catalog):
         assert info.value.field == "medium.components.potassium_nitrate"
     ev = evaluate(Recipe().with_amount("potassium_nitrate", "4.7 mol/kg"), catalog)
     assert ev.osmolality_mosmol_per_kg > 0
+
+
+def test_a_heavy_solute_without_a_solubility_is_refused_past_5_kg_per_kg_of_water(catalog):
+    """PEG 8000 at 10.18 mol/kg is 81 kg per kg of water, far below 50 mol/kg: it gave 39 million mOsm/kg
+    with exit status 0 (and the budget then failed). Every component without a solubility whose molar mass
+    puts 5 kg/kg below 50 mol/kg (PEG, large organics) is refused just past that mass and not for it just
+    below."""
+    heavy = [c for c in catalog.components.values() if c.saturation_molality is None and c.species
+             and c.anhydrous_molar_mass and PLAUSIBLE_MAX_KG_PER_KG * 1000 / c.anhydrous_molar_mass < PLAUSIBLE_MAX_MOLALITY]
+    assert any(c.id == "peg8000" for c in heavy)
+    for c in heavy:
+        limit = PLAUSIBLE_MAX_KG_PER_KG * 1000 / c.anhydrous_molar_mass  # [mol/kg]
+        with pytest.raises(AmountError, match="kg per kg of water") as info:
+            evaluate(Recipe().with_amount(c.id, f"{1.01 * limit:.6g} mol/kg"), catalog)
+        assert info.value.field == f"medium.components.{c.id}"
+        try:
+            evaluate(Recipe().with_amount(c.id, f"{0.99 * limit:.6g} mol/kg"), catalog)
+        except MediaplanError as exc:  # a model may still have no answer there; the mass rule is not why
+            assert "kg per kg of water" not in str(exc), c.id

@@ -241,3 +241,21 @@ def test_levels_combine_with_the_fieller_interval():
     lo, hi = combine_with_levels(-1.0, [-1.1, -0.95], 0.03, Z95)
     assert lo == pytest.approx(-1.0 - math.hypot(0.1, Z95 * 0.03))
     assert hi == pytest.approx(-1.0 + math.hypot(0.05, Z95 * 0.03))
+
+
+@pytest.mark.parametrize("theta", [0.0, 1e-9, 0.3, 30.0, 1e3, 1.1e4, 1e6, float("inf"), float("nan")])
+@pytest.mark.filterwarnings("error::RuntimeWarning")
+def test_the_osmolality_at_freezing_inverts_without_failing_at_any_depression(theta):
+    """The budget's inverse of the freezing-point relation [K -> osmol/kg] answers for any depression:
+    where the water activity underflows (a depression of 10^4 K, from a medium far past every model's range)
+    its slope vanishes, and the estimate stands rather than a division by zero."""
+    import math
+
+    from mediaplan.tasks.uncertainty import _osmolality_at_freezing
+    from mediaplan.thermo import potential
+
+    y = _osmolality_at_freezing(theta)
+    if 0 < theta < 100:  # in the relation's working range the inverse is exact
+        assert float(potential.freezing_point_depression(potential.water_activity(y))) == pytest.approx(theta, rel=1e-9)
+    else:
+        assert y == 0.0 or math.isnan(y) or y > 0
