@@ -47,9 +47,6 @@ def _unfreeze():
 
     yield
     gc.unfreeze()
-    from mediaplan.tui import warm
-
-    warm.release()
 
 
 def pytest_configure(config):
