@@ -289,17 +289,21 @@ def sweep_recipe(recipe, catalog, amounts, *, full: bool = True, figures: Sequen
         corner = corner.with_amount(comp.id, parsed[largest])
     corner.check_plausible(catalog)
     limits = plausible_limits(lines, catalog.pitzer)
+    # per substance: which columns hold it (a 0/1 matrix) and its limit, a hair lowered: rows at the edge are
+    # looked at one by one with evaluate()'s own check, which decides
+    columns = np.zeros((len(comps), len(limits)))
+    for j, (idx, _) in enumerate(limits):
+        columns[idx, j] = 1.0
+    edge = np.array([limit for _, limit in limits]) * (1.0 - 1e-9)
 
     def check(start: int, st) -> None:
         """Each row as evaluate() would check it: a row with a substance past its limit (or a molality that
         is not a finite number) is refused in the words evaluate() gives that row."""
         m = st.molality
-        over = ~np.all(np.isfinite(m) & (m >= 0), axis=1)
-        for idx, limit in limits:
-            total = m[:, idx[0]]
-            for i in idx[1:]:
-                total = total + m[:, i]
-            over |= total > limit
+        with np.errstate(invalid="ignore"):
+            over = np.any(m @ columns > edge, axis=1)
+            if not (np.isfinite(m).all() and (m >= 0).all()):
+                over |= ~np.all(np.isfinite(m) & (m >= 0), axis=1)
         for r in np.flatnonzero(over).tolist():
             row = recipe
             for (comp, parsed), k in zip(varied, _axis_indices(axes, np.array([start + r]), full), strict=True):
