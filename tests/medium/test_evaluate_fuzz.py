@@ -72,7 +72,7 @@ def test_random_recipes_answer_in_finite_figures_or_refuse_in_words(catalog, see
             d = ev.to_dict()
             for key in ("osmolality_mosmol_per_kg", "water_activity", "osmotic_potential_mpa", "density_kg_per_l"):
                 assert isinstance(d[key], float) and math.isfinite(d[key]), (head, user, key)
-            if any(c.molality_mmol_per_kg > 0 for c in ev.components):  # solutes: never read as pure water
+            if any(c.osmolality_ideal_mosmol_per_kg > 0 for c in ev.components):  # solutes: never read as pure water
                 assert d["osmolality_mosmol_per_kg"] > 0 and d["water_activity"] < 1, (head, user)
             if d["freezing_point_depression_k"] is None:  # said in words, first of the warnings
                 assert ev.warnings[0].code == "no_freezing_point", (head, user)
