@@ -32,6 +32,8 @@ from mediaplan.tui.words import in_app_words
 
 #: seconds of quiet after an edit before unsaved work is written to the recovery folder
 AUTOSAVE_DELAY = 2.0
+#: seconds the warm start waits when a screen is opened while it is at work (the screens open in ~0.15 s)
+HOLD_ON_OPEN = 0.25
 #: seconds between two priming steps (each a few milliseconds): keys and paints go first
 PRIME_PAUSE = 0.01
 #: set to 1 to exit right after the first painted screen, or to "figures" to exit once the first screen with
@@ -89,6 +91,8 @@ class MediaplanApp(App):
         self.warming_engine = False
         #: set when the app closes: the warm start begins no further step (closing never waits for them)
         self._warm_stop = threading.Event()
+        #: the warm start's thread is at work (a screen opened meanwhile holds it a moment)
+        self._warm_running = False
         #: the priming steps not run yet (mediaplan.tui.quick), and those that wait for the engine
         self._prime_left: list = []
         self._prime_later: list = []
@@ -162,6 +166,7 @@ class MediaplanApp(App):
         """Import and compile what the first solve, series, fit and sheet need (a thin worker)."""
         from mediaplan.tui.warm import warm_up
 
+        self._warm_running = True
         # what the app holds from now on is kept for good (modules, the catalog, the compiled models): the
         # collector's full passes skip it. Without this a full pass over the engine's objects (~70 ms, at
         # moments the collector picks) can land in the middle of opening a screen.
@@ -172,12 +177,27 @@ class MediaplanApp(App):
             if name == "engine":
                 self.post_message(self.EngineReady())
 
-        took = warm_up(self.session.recipe, self.catalog, on_step=step_done, stop=self._warm_stop)
+        try:
+            took = warm_up(self.session.recipe, self.catalog, on_step=step_done, stop=self._warm_stop)
+        finally:
+            self._warm_running = False
         self.post_message(self.Warmed(took))
 
     def exit(self, *args, **kwargs) -> None:
+        from mediaplan.tui import warm
+
         self._warm_stop.set()
+        warm.release()  # the warm start's thread waits for nothing while the app closes
         super().exit(*args, **kwargs)
+
+    def push_screen(self, screen, *args, **kwargs):
+        """Open a screen; while the warm start is still at work, it waits a moment (at its next engine
+        import or step) so that the screen opens at the full speed of the interpreter."""
+        if self._warm_running:
+            from mediaplan.tui import warm
+
+            warm.hold(self, HOLD_ON_OPEN)
+        return super().push_screen(screen, *args, **kwargs)
 
     def on_worker_state_changed(self, event: Worker.StateChanged) -> None:
         """A warm start that ended without reaching its engine step (it failed or was cancelled) must not

@@ -10,7 +10,8 @@ under it, tinted). What is avoided here:
   when it is first shown (needed only for a screen shown before, whose styles may be stale), and once more
   when its width class (``-narrow``/``-wide``) is set on the first resize. The mixin sets the width class
   before the widgets mount and lets the first showing keep the styles just made. Its dialogs' backdrop
-  (:class:`Backdrop`) tints each style of the screen under them once, not each stretch of text.
+  (:class:`Backdrop`) tints each style of the screen under them once, not each stretch of text. Once the
+  screen is painted, a warm start held while it opened goes on (:func:`mediaplan.tui.warm.hold`).
 - :func:`prime_steps`: the screens' modules and the built-in stylesheets of the widget kinds they use are
   imported and parsed in small steps on the app's own thread after its first paint (the parsed rules wait
   in the stylesheet's parse cache; nothing is added to the stylesheet before a widget of that kind mounts).
@@ -95,6 +96,10 @@ class StyledOnce:
         if not self._shown_before and self.is_mounted:  # type: ignore[attr-defined]
             event.refresh_styles = False  # styled a moment ago, when its widgets mounted
         self._shown_before = True
+        from mediaplan.tui import warm
+
+        # a warm start held while this screen opened goes on once the screen is painted
+        self.call_after_refresh(warm.release)  # type: ignore[attr-defined]
 
 
 class Backdrop(BackgroundScreen):

@@ -12,6 +12,7 @@ held by the worker): it asks :func:`engine_ready` and shows a "computing" state 
 
 from __future__ import annotations
 
+import builtins
 import os
 import sys
 import threading
@@ -103,6 +104,72 @@ STEPS: tuple[tuple[str, Callable[[Recipe, Catalog], None]], ...] = (
 )
 
 
+#: set while the screen's thread may run at full speed; cleared for a moment after a screen is opened
+#: (:func:`hold`). The warm start then waits at its next import statement of an engine module and before
+#: its next step, so that the two threads do not share the interpreter while the user waits for the screen
+QUIET = threading.Event()
+QUIET.set()
+#: the most the warm start waits in all for one hold [s]: should the screen's thread be waiting for a module
+#: that the warm start holds half-imported, it waits no longer than this
+WAIT_AT_MOST = 0.25
+#: modules the screen's thread imports itself: the warm start never waits at these imports
+SCREEN_SIDE = ("textual", "rich", "mediaplan.tui", "mediaplan.files", "mediaplan.medium.units",
+               "mediaplan.medium.errors", "mediaplan.medium.recipe", "mediaplan.medium.catalog", "encodings")
+
+_hold_timer = None
+#: how many holds were made (the warm start's budget of waiting starts anew with each)
+_holds = [0]
+
+
+def hold(app, seconds: float) -> None:
+    """The warm start waits (at engine imports and between steps) for ``seconds`` [s] from now, or until
+    :func:`release`; a later hold replaces it. Called on the screen's thread (``app`` runs the timer)."""
+    global _hold_timer
+    _holds[0] += 1
+    QUIET.clear()
+    if _hold_timer is not None:
+        _hold_timer.stop()
+    _hold_timer = app.set_timer(seconds, release)
+
+
+def release() -> None:
+    """The warm start goes on (the screen it waited for is painted, or the hold's time is over)."""
+    global _hold_timer
+    if _hold_timer is not None:
+        _hold_timer.stop()
+    _hold_timer = None
+    QUIET.set()
+
+
+class _Gate:
+    """The interpreter's ``__import__`` while the warm start runs: on the warm start's thread, an import
+    statement of an engine module first waits while a hold lasts (at most :data:`WAIT_AT_MOST` in all for
+    one hold). It waits between module imports, never inside the import machinery (which holds the
+    interpreter's global import lock there); other threads' imports pass straight through."""
+
+    def __init__(self, thread_id: int, real: Callable) -> None:
+        self.thread_id = thread_id
+        self.real = real
+        self.hold = -1
+        self.waited = 0.0
+
+    def __call__(self, name, globals=None, locals=None, fromlist=(), level=0):
+        if not QUIET.is_set() and threading.get_ident() == self.thread_id:
+            where = name if level == 0 else ((globals or {}).get("__package__") or "")
+            if not where.startswith(SCREEN_SIDE):
+                self.wait()
+        return self.real(name, globals, locals, fromlist, level)
+
+    def wait(self) -> None:
+        if self.hold != _holds[0]:
+            self.hold, self.waited = _holds[0], 0.0
+        left = WAIT_AT_MOST - self.waited
+        if left > 0 and not QUIET.is_set():
+            t0 = time.perf_counter()
+            QUIET.wait(left)
+            self.waited += time.perf_counter() - t0
+
+
 #: while warming, the interpreter hands the GIL between threads this often [s] (default 0.005): the screen's
 #: thread then waits at most this long for its turn, so keys and paints stay quick during the imports
 SWITCH_INTERVAL = 0.0005
@@ -121,8 +188,11 @@ def warm_up(recipe: Recipe, catalog: Catalog, on_step: Callable[[str], None] | N
     interval = sys.getswitchinterval()
     sys.setswitchinterval(min(interval, SWITCH_INTERVAL))
     took: dict[str, float] = {}
+    gate = _Gate(threading.get_ident(), builtins.__import__)
+    builtins.__import__ = gate
     try:
         for name, step in STEPS:
+            gate.wait()
             if stop is not None and stop.is_set():
                 break
             t0 = time.perf_counter()
@@ -137,6 +207,8 @@ def warm_up(recipe: Recipe, catalog: Catalog, on_step: Callable[[str], None] | N
                 _lower_priority()
     finally:
         sys.setswitchinterval(interval)
+        if builtins.__import__ is gate:
+            builtins.__import__ = gate.real
     return took
 
 

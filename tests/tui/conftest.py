@@ -47,6 +47,9 @@ def _unfreeze():
 
     yield
     gc.unfreeze()
+    from mediaplan.tui import warm
+
+    warm.release()
 
 
 def pytest_configure(config):

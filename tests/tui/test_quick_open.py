@@ -184,3 +184,92 @@ async def test_series_plot_place_holds_a_line_until_the_first_fit(catalog):
         await pilot.press("l")  # a second fit (probit) draws into the same plot
         await settle(app, pilot)
         assert len(screen.query(PlotextPlot)) == 1 and screen.fit.link == "probit"
+
+
+class _Held:
+    """warm.QUIET while a screen is held open: never set; each wait of the warm start is recorded and
+    advances a clock by its timeout (warm.time.perf_counter reads it)."""
+
+    def __init__(self) -> None:
+        self.waits: list[float] = []
+        self.now = 0.0
+
+    def is_set(self) -> bool:
+        return False
+
+    def wait(self, timeout: float) -> bool:
+        self.waits.append(timeout)
+        self.now += timeout
+        return False
+
+    def set(self) -> None:
+        pass
+
+
+@pytest.fixture
+def held(monkeypatch):
+    import types
+
+    from mediaplan.tui import warm
+
+    held = _Held()
+    monkeypatch.setattr(warm, "QUIET", held)
+    monkeypatch.setattr(warm, "time", types.SimpleNamespace(perf_counter=lambda: held.now))
+    monkeypatch.setattr(warm, "_lower_priority", lambda: None)
+    return held
+
+
+def test_warm_start_waits_at_engine_imports_and_steps_while_a_screen_is_held(catalog, monkeypatch, held):
+    import builtins
+
+    from mediaplan.tui import warm
+
+    real_import = builtins.__import__
+    monkeypatch.setattr(warm, "WAIT_AT_MOST", 0.25)
+    tried = []
+
+    def importing(*names):
+        def run(recipe, cat):
+            for name in names:
+                tried.append(name)
+                try:
+                    __import__(name)  # an import statement's way in
+                except ImportError:
+                    pass
+        return run
+
+    # a module the screen's thread may import too is never waited for (it could hold that module's lock)
+    monkeypatch.setattr(warm, "STEPS", (("screen side", importing("textual.mediaplan_no_such_module")),))
+    warm._holds[0] += 1
+    warm.warm_up(shoot_plan().recipe, catalog)
+    assert tried == ["textual.mediaplan_no_such_module"] and held.waits == [0.25]  # before the step only
+    # an engine module is waited for, within one budget per hold
+    held.waits.clear()
+    monkeypatch.setattr(warm, "STEPS", (("engine", importing("mediaplan_no_such_engine_module", "math")),))
+    warm._holds[0] += 1
+    held.now = 0.0
+    monkeypatch.setattr(_Held, "wait", lambda self, t: (self.waits.append(t), setattr(self, "now", self.now + 0.1)))
+    warm.warm_up(shoot_plan().recipe, catalog)
+    assert held.waits == pytest.approx([0.25, 0.15, 0.05])  # before the step, then each import: 0.25 s in all
+    assert builtins.__import__ is real_import  # the gate is gone
+
+
+def test_the_gate_waits_only_on_the_warm_start_thread_and_only_for_engine_modules(held):
+    import builtins
+    import threading
+
+    from mediaplan.tui import warm
+
+    warm._holds[0] += 1
+    other = warm._Gate(threading.get_ident() + 1, builtins.__import__)
+    other("math")
+    assert held.waits == []
+    gate = warm._Gate(threading.get_ident(), builtins.__import__)
+    gate("math")
+    assert held.waits == [warm.WAIT_AT_MOST]  # the budget of this hold is spent at once here
+    warm._holds[0] += 1  # a new hold: a new budget
+    gate("textual.widgets")
+    gate("widgets", {"__package__": "textual"}, None, ("Static",), 1)  # a relative import inside textual
+    assert len(held.waits) == 1
+    gate("math", {"__package__": "mediaplan.thermo"}, None, (), 0)
+    assert len(held.waits) == 2
