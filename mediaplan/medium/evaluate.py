@@ -146,10 +146,9 @@ def evaluate(recipe: Recipe, catalog: Catalog, *, cell_reference_mosmol: float |
         molality_of(model, lines if factors is None else recipe.lines(catalog), n, b)
         raise
     molality = n / W + b  # what molality_of gives (MediumModel.molality)
-    if factors is None:
-        check_plausible(lines, molality, catalog.pitzer, model=model)
-    elif not within_limits(lines, molality, catalog.pitzer, model):  # the same components and origins
-        check_plausible(recipe.lines(catalog), molality, catalog.pitzer)  # says which line, in its amount
+    if not within_limits(lines, molality, catalog.pitzer, model):
+        # says which line is past its limit, in its amount (the scaled one for a base line at a strength)
+        check_plausible(lines if factors is None else recipe.lines(catalog), molality, catalog.pitzer)
     st = model.solve_row(n, b, W=W, molality=molality)
     mix = st.mix
     y = float(mix.osmolality[0])

@@ -744,15 +744,6 @@ class PitzerSystem:
 # ---------------------------------------------------------------------------------------------------------
 # One full pass, then scaled updates (see PitzerSystem.scaled)
 # ---------------------------------------------------------------------------------------------------------
-def _x_dj_float(x: float) -> float:
-    """x * J'(x) of one x > 0 on Python floats: the algebra of :func:`_x_dj`."""
-    lx = math.log(x)
-    c3xc4 = _J_C3 * math.exp(_J_C4 * lx)
-    ex = _J_C1 * math.exp(-_J_C2 * lx - c3xc4)
-    d = 4.0 + ex
-    return x * (4.0 + ex * (1.0 + _J_C2 + _J_C4 * c3xc4)) / (d * d)
-
-
 class _Parts:
     """One full pass over the pairs and triplets of an ion composition at T [K], the sums that scale with it.
 
@@ -851,7 +842,8 @@ class _Scaled:
         return np.where(self._empty, 1.0, phi)
 
     def _phi(self, t):
-        exp, sqrt, xdj = (math.exp, math.sqrt, _x_dj_float) if self._row else (np.exp, np.sqrt, _x_dj)
+        """φ [-] of a batch at scales t (B,); one row goes through :meth:`_phi_row`, the same arithmetic."""
+        exp, sqrt, xdj = np.exp, np.sqrt, _x_dj
         I = t * self._I0
         sqI = sqrt(I)
         t2 = t * t
@@ -871,7 +863,7 @@ class _Scaled:
 
     def _phi_row(self, t: float) -> float:
         """:meth:`_phi` of one row (t a float), written out: the same operations on the same floats in the
-        same order, with :func:`_x_dj_float` inlined (a row's φ is called a few times per ZSR solve)."""
+        same order, with the algebra of :func:`_x_dj` inlined (a row's φ is called a few times per ZSR solve)."""
         exp = math.exp
         I = t * self._I0
         sqI = math.sqrt(I)
