@@ -140,7 +140,7 @@ class MediaplanApp(App):
         if not steps and self._prime_later and not self.warming_engine:
             steps, self._prime_later = self._prime_later, []
         self._prime_left = steps
-        if not steps or self._warm_stop.is_set():
+        if not steps or self._warm_stop.is_set() or not self.is_running:
             self.primed = not steps and not self._prime_later
             return
         if not (self.screen_stack and isinstance(self.screen_stack[-1], MainScreen)):

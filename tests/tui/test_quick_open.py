@@ -161,6 +161,26 @@ async def test_priming_waits_while_a_screen_is_open_and_goes_on_after(catalog, m
         assert app.primed
 
 
+@pytest.mark.prime_screens
+@run_async
+async def test_a_priming_step_due_while_the_app_closes_raises_nothing(catalog):
+    # closing with a dialog open and priming steps left (a pilot's close, a signal): the last timers may
+    # fire once the app has stopped running, and must neither subscribe to its signals nor run a step
+    app = app_for(Session(shoot_plan(), catalog))
+    async with app.run_test(size=SIZES[0]):
+        while not app._prime_left:  # the priming has begun
+            await asyncio.sleep(0.001)
+        app.get_screen("main").action_set_target()
+        while not isinstance(app.screen, TargetScreen):
+            await asyncio.sleep(0.005)
+        left = list(app._prime_left)
+    assert not app.is_running
+    ran = []
+    app._prime([lambda: ran.append(1)])  # what a timer set before the close does
+    app._prime(left)
+    assert ran == []
+
+
 @run_async
 async def test_series_plot_place_holds_a_line_until_the_first_fit(catalog):
     from textual_plotext import PlotextPlot
@@ -273,3 +293,23 @@ def test_the_gate_waits_only_on_the_warm_start_thread_and_only_for_engine_module
     assert len(held.waits) == 1
     gate("math", {"__package__": "mediaplan.thermo"}, None, (), 0)
     assert len(held.waits) == 2
+
+
+#: (seconds after the first paint at which the app is closed, the key pressed just before: none, the
+#: target dialog, the series screen)
+CLOSING_MOMENTS = [(delay, key) for delay in (0.0, 0.01, 0.08) for key in (None, "t", "p")]
+
+
+@pytest.mark.warm_start
+@pytest.mark.prime_screens
+@pytest.mark.parametrize(("delay", "key"), CLOSING_MOMENTS, ids=[f"{d}s-{k}" for d, k in CLOSING_MOMENTS])
+@run_async
+async def test_closing_at_any_moment_of_the_start_raises_nothing(catalog, delay, key):
+    # a pilot's close (as a signal or a lost terminal closes the app): no app.exit(), so the warm start and
+    # the priming timers learn of it only from the app itself; run_test raises whatever the app raised
+    app = app_for(Session(shoot_plan(), catalog))
+    async with app.run_test(size=SIZES[0]) as pilot:
+        if key is not None:
+            await pilot.press(key)
+        await asyncio.sleep(delay)
+    assert not app.is_running
