@@ -96,9 +96,14 @@ class Evaluation:
 
 
 def _component_rows(comps) -> list[tuple]:
-    """Per component, what its row of an evaluation takes from the catalog: id, name, formula, group,
-    hazard, reflection coefficient, the σ its share is weighted by (1 without one) and its group's label."""
-    return [(c.id, c.name, c.formula, c.group, c.hazard, c.reflection_coefficient,
+    """Per component, what its row of an evaluation takes from the catalog: a template of the row's fields
+    (id, name, formula, group, hazard and reflection coefficient filled in, the others placeholders, in the
+    order evaluate() gives them), the σ its share is weighted by (1 without one) and its group's label."""
+    return [({"id": c.id, "name": c.name, "formula": c.formula, "group": c.group, "_amount_of": None,
+              "_factor": 1.0, "origin": None, "confidence": None, "molarity_mmol_per_l": 0.0,
+              "molality_mmol_per_kg": 0.0, "osmolality_mosmol_per_kg": 0.0, "osmolality_ideal_mosmol_per_kg": 0.0,
+              "share": 0.0, "grams_per_litre": 0.0, "hazard": c.hazard,
+              "reflection_coefficient": c.reflection_coefficient},
              c.reflection_coefficient if c.reflection_coefficient is not None else 1.0,
              GROUP_LABELS.get(c.group, c.group)) for c in comps]
 
@@ -154,8 +159,7 @@ def evaluate(recipe: Recipe, catalog: Catalog, *, cell_reference_mosmol: float |
     y = float(mix.osmolality[0])
     ideal = float(mix.ideal[0])
     # freezing-point osmometer: the same medium at 0 °C
-    y0 = float(model.mixture(st.species_m, T0, start=mix.state, osmolality_only=True).osmolality[0]) \
-        if lines else y
+    y0 = float(model.mixture_at(mix, T0).osmolality[0]) if lines else y
     if not math.isfinite(y0):  # the warm start can lie too far away (concentrated PEG): solve from cold
         y0 = float(model.mixture(st.species_m, T0, osmolality_only=True).osmolality[0])
     aw = float(potential.water_activity(y))
@@ -176,20 +180,27 @@ def evaluate(recipe: Recipe, catalog: Catalog, *, cell_reference_mosmol: float |
     groups: dict[str, float] = {}
     eff = 0.0
     new_result = ComponentResult.__new__
-    for i, (ln, (cid, name, formula, group, hazard, refl, sigma, label)) in enumerate(
-            zip(lines, model.memo(("component_rows",), lambda: _component_rows(comps)), strict=True)):
-        sh = share_abs[i]
+    for ln, (template, sigma, label), factor, sh, mi, ni, pi, Mi in zip(
+            lines, model.memo(("component_rows",), lambda: _component_rows(comps)),
+            [1.0] * len(lines) if factors is None else factors, share_abs, molality, n_list, particles, molar_mass,
+            strict=True):
         eff += sigma * sh
         groups[label] = groups.get(label, 0.0) + sh * 1000.0
-        r = new_result(ComponentResult)  # the fields set directly; the amount's text when first read
-        r.__dict__ = {
-            "id": cid, "name": name, "formula": formula, "group": group, "_amount_of": ln.amount,
-            "_factor": 1.0 if factors is None else factors[i],
-            "origin": ln.origin, "confidence": ln.confidence, "molarity_mmol_per_l": n_list[i],
-            "molality_mmol_per_kg": molality[i] * 1000, "osmolality_mosmol_per_kg": sh * 1000.0,
-            "osmolality_ideal_mosmol_per_kg": molality[i] * particles[i] * 1000,
-            "share": sh / y if y > 0 else 0.0, "grams_per_litre": n_list[i] * molar_mass[i], "hazard": hazard,
-            "reflection_coefficient": refl}
+        # the row's fields: the catalog's from the template, the rest set here (the amount's text when first
+        # read); the dict then becomes the row's own
+        d = template.copy()
+        d["_amount_of"] = ln.amount
+        d["_factor"] = factor
+        d["origin"] = ln.origin
+        d["confidence"] = ln.confidence
+        d["molarity_mmol_per_l"] = ni
+        d["molality_mmol_per_kg"] = mi * 1000
+        d["osmolality_mosmol_per_kg"] = sh * 1000.0
+        d["osmolality_ideal_mosmol_per_kg"] = mi * pi * 1000
+        d["share"] = sh / y if y > 0 else 0.0
+        d["grams_per_litre"] = ni * Mi
+        r = new_result(ComponentResult)
+        r.__dict__ = d
         results.append(r)
     ion_I = float(model.ionic_strength(st)[0])
     solute_mass = float(n_all @ model.M_anh)  # kg anhydrous solute per m^3

@@ -40,6 +40,7 @@ from mediaplan.thermo.mixing import (
     MixtureResult,
     mixing_span,
     pairwise_sum,
+    zsr_at,
     zsr_osmolality,
 )
 from mediaplan.thermo.params import NeutralParams
@@ -334,6 +335,13 @@ class MediumModel:
             peg_c[:, j] = species_m[:, k] * self._peg_grades[j] / 1000.0
         return zsr_osmolality(MixtureInput(self._pitzer, ion_m, self._neutral_params, neutral_m,
                                            self._peg_grades, peg_c, T), start=start)
+
+    def mixture_at(self, mix: MixtureResult, T: float) -> MixtureResult:
+        """The one composition solved in ``mix`` (by :meth:`solve_row` or :meth:`mixture` of one row) at
+        temperature T [K], warm-started from it: what ``mixture(species_m, T, start=mix.state,
+        osmolality_only=True)`` gives, bit for bit, without reading the amounts again
+        (:func:`~mediaplan.thermo.mixing.zsr_at`)."""
+        return zsr_at(mix, T)
 
     def mixing_span(self, state: ModelState, T: float | None = None) -> MixingSpan:
         """Additive and ZSR osmolality [osmol/kg] of each row of a solved state at T [K] (the model's own by

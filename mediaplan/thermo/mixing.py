@@ -111,9 +111,36 @@ def zsr_osmolality(inp: MixtureInput, *, start: tuple | None = None,
     if (isinstance(inp.T, float) or np.ndim(inp.T) == 0) and _single_row(inp):
         system = _one_row(inp, start)
         system.light = osmolality_only
-        return _newton_row(system, start)
+        out = _newton_row(system, start)
+        out._system = system  # what zsr_at takes again at another temperature
+        return out
     with np.errstate(divide="ignore", invalid="ignore"):  # 0/0 in rows of pure water: masked, exact
         return _newton(_ARRAYS, _batch(inp), None)
+
+
+def zsr_at(result: MixtureResult, T: float) -> MixtureResult:
+    """The one composition solved in ``result`` (by :func:`zsr_osmolality`), solved again at temperature T
+    [K], warm-started from its state: the ``osmolality_only`` answer of ``zsr_osmolality(inp at T,
+    start=result.state, osmolality_only=True)``, bit for bit, without reading the amounts again (the groups,
+    their totals and the ions' sum are the composition's; only the Pitzer sums move to T).
+
+    Raises ValueError for a result of a batch, or of another solver.
+    """
+    s0 = getattr(result, "_system", None)
+    if s0 is None:
+        raise ValueError("zsr_at takes the result of one composition solved by zsr_osmolality")
+    T = float(T)
+    start = result.state
+    warm = start is not None and start[0] > 0 and len(start[1]) == len(s0.groups)
+    phi_at, phi_own = None, 1.0
+    if s0.ion_m is not None:  # as _one_row: one full Pitzer pass (the composition's, kept), at T
+        phi_at = _phi_float(s0.pitzer, s0.ion_m, T)
+        phi_own = math.nan if warm and s0.has_e else float(phi_at(1.0))
+    system = _System(T, s0.pitzer, s0.ion_m, s0.M_e, s0.has_e, phi_own, phi_at, s0.electrolytes, s0.groups,
+                     s0.neutral_m, s0.peg_c, s0.peg_grades, warm, s0.neutral_list, s0.peg_list, light=True)
+    out = _newton_row(system, start)
+    out._system = system
+    return out
 
 
 def _single_row(inp: MixtureInput) -> bool:
@@ -198,14 +225,19 @@ def pairwise_sum(values: list[float]) -> float:
         half = n // 2
         half -= half % 8
         return pairwise_sum(values[:half]) + pairwise_sum(values[half:])
-    r = values[:8]
-    i = 8
+    r0, r1, r2, r3, r4, r5, r6, r7 = values[:8]
     stop = n - n % 8
-    while i < stop:
-        r = [r[j] + values[i + j] for j in range(8)]
-        i += 8
-    acc = ((r[0] + r[1]) + (r[2] + r[3])) + ((r[4] + r[5]) + (r[6] + r[7]))
-    for v in values[i:]:
+    for i in range(8, stop, 8):
+        r0 += values[i]
+        r1 += values[i + 1]
+        r2 += values[i + 2]
+        r3 += values[i + 3]
+        r4 += values[i + 4]
+        r5 += values[i + 5]
+        r6 += values[i + 6]
+        r7 += values[i + 7]
+    acc = ((r0 + r1) + (r2 + r3)) + ((r4 + r5) + (r6 + r7))
+    for v in values[stop:]:
         acc += v
     return acc
 
@@ -635,8 +667,11 @@ def _result(ops: _Ops, s: _System, y, x, fe, phi_c, state, active, bad) -> Mixtu
                 src, dst = (nml, fnl) if grp.kind == "n" else (pcl, fpl)
                 for j in grp.members:
                     dst[j] = src[j] / xg
-        ideal = (s.M_e + (pairwise_sum(nml) if nml else 0.0)  # the sum of the array of them, bit for bit
-                 + sum(pcl[j] * 1000.0 / g for j, g in enumerate(s.peg_grades)))
+        # PEG moles added in order from 0 as the batch adds them (never sum(): from Python 3.12 it compensates)
+        peg_mol = 0
+        for j, g in enumerate(s.peg_grades):
+            peg_mol = peg_mol + pcl[j] * 1000.0 / g
+        ideal = s.M_e + (pairwise_sum(nml) if nml else 0.0) + peg_mol  # the sum of the array of them, bit for bit
         one = np.array([y if active else 0.0, ideal, phi_c, s.phi_own, fe])
         return MixtureResult(one[0:1], one[1:2], one[2:3], one[3:4], one[4:5],
                              np.array([fnl]) if fnl else _NO_COLUMNS, np.array([fpl]) if fpl else _NO_COLUMNS,

@@ -132,8 +132,9 @@ def test_solve_row_and_shares_row_are_the_batch_of_one(catalog, case):
 def test_pairwise_sum_is_numpys_sum():
     rng = random.Random(16)
     for _ in range(400):
-        n = rng.choice([rng.randint(0, 40), rng.randint(100, 300)])
-        values = [rng.random() * 10 ** rng.randint(-8, 1) if rng.random() < 0.6 else 0.0 for _ in range(n)]
+        n = rng.choice([rng.randint(0, 40), rng.randint(100, 300), rng.choice([127, 128, 129, 1031])])
+        values = [rng.choice((1, -1)) * rng.random() * 10 ** rng.randint(-8, 1) if rng.random() < 0.6 else 0.0
+                  for _ in range(n)]
         assert pairwise_sum(values) == float(np.array(values, dtype=float).sum())
 
 

@@ -11,6 +11,7 @@ concentrated and the past-range (φ <= 0) cases are all met.
 from __future__ import annotations
 
 import math
+from dataclasses import replace
 
 import numpy as np
 import pytest
@@ -79,6 +80,31 @@ def test_row_loop_is_the_generic_loop_on_floats(catalog, comp, scale):
             for light in (False, True):
                 assert _same(_outcome("row", inp2, state, light), _outcome("generic", inp2, state, light)), \
                     (comp, scale, T, T2, light)
+
+@pytest.mark.parametrize("scale", SCALES)
+@pytest.mark.parametrize("comp", list(COMPOSITIONS))
+def test_zsr_at_is_a_warm_light_solve_at_the_other_temperature(catalog, comp, scale):
+    """zsr_at (the composition solved again at another temperature, its amounts not read again) gives the
+    bits of zsr_osmolality of the same amounts at that temperature, warm-started from the first answer's
+    state (cold where it has none) with only the osmolality asked for: every composition, scale and pair
+    of temperatures of the tables. Both use one Pitzer system, as a compiled medium does at both of its
+    temperatures (its full pass of the last composition serves each)."""
+    for T in TEMPERATURES.values():
+        inp = _input(catalog, comp, T, scale)
+        with np.errstate(all="ignore"):
+            first = mixing.zsr_osmolality(inp)
+            for T2 in TEMPERATURES.values():
+                again = mixing.zsr_at(first, T2)
+                direct = mixing.zsr_osmolality(replace(inp, T=T2), start=first.state, osmolality_only=True)
+                assert _same(_bits(again), _bits(direct)), (comp, scale, T, T2)
+                assert _same(_bits(mixing.zsr_at(again, T)), _bits(mixing.zsr_osmolality(
+                    inp, start=again.state, osmolality_only=True))), (comp, scale, T2, T)
+
+
+def test_zsr_at_refuses_a_batch(catalog):
+    with pytest.raises(ValueError, match="one composition"):
+        mixing.zsr_at(mixing.zsr_osmolality(_stacked(_input(catalog, "ms_with_sucrose", 298.15), 2)), 273.15)
+
 
 def test_zsr_osmolality_of_one_row_runs_the_row_loop(catalog, monkeypatch):
     """zsr_osmolality of one row takes the written-out loop (so the test above covers what users get)."""
