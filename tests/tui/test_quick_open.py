@@ -136,6 +136,15 @@ async def test_after_priming_the_first_screens_parse_no_stylesheet(catalog, monk
         assert set(app.stylesheet._parse_cache.keys()) <= parsed
 
 
+async def _target_opened_mid_priming(app) -> None:
+    """Open the target dialog once the priming has begun, before it is through."""
+    while not app._prime_left:  # the priming has begun
+        await asyncio.sleep(0.001)
+    app.get_screen("main").action_set_target()
+    while not isinstance(app.screen, TargetScreen):
+        await asyncio.sleep(0.005)
+
+
 @pytest.mark.prime_screens
 @run_async
 async def test_priming_waits_while_a_screen_is_open_and_goes_on_after(catalog, monkeypatch):
@@ -144,11 +153,7 @@ async def test_priming_waits_while_a_screen_is_open_and_goes_on_after(catalog, m
     monkeypatch.setattr(app_module, "PRIME_PAUSE", 0.001)
     app = app_for(Session(shoot_plan(), catalog))
     async with app.run_test(size=SIZES[0]) as pilot:
-        while not app._prime_left:  # the priming has begun
-            await asyncio.sleep(0.001)
-        app.get_screen("main").action_set_target()  # before the priming is through
-        while not isinstance(app.screen, TargetScreen):
-            await asyncio.sleep(0.005)
+        await _target_opened_mid_priming(app)
         left = len(app._prime_left)
         assert left > 0
         await asyncio.sleep(0.1)
@@ -168,11 +173,7 @@ async def test_a_priming_step_due_while_the_app_closes_raises_nothing(catalog):
     # fire once the app has stopped running, and must neither subscribe to its signals nor run a step
     app = app_for(Session(shoot_plan(), catalog))
     async with app.run_test(size=SIZES[0]):
-        while not app._prime_left:  # the priming has begun
-            await asyncio.sleep(0.001)
-        app.get_screen("main").action_set_target()
-        while not isinstance(app.screen, TargetScreen):
-            await asyncio.sleep(0.005)
+        await _target_opened_mid_priming(app)
         left = list(app._prime_left)
     assert not app.is_running
     ran = []
