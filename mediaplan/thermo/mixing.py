@@ -131,11 +131,7 @@ def zsr_at(result: MixtureResult, T: float) -> MixtureResult:
         raise ValueError("zsr_at takes the result of one composition solved by zsr_osmolality")
     T = float(T)
     start = result.state
-    warm = start is not None and start[0] > 0 and len(start[1]) == len(s0.groups)
-    phi_at, phi_own = None, 1.0
-    if s0.ion_m is not None:  # as _one_row: one full Pitzer pass (the composition's, kept), at T
-        phi_at = _phi_float(s0.pitzer, s0.ion_m, T)
-        phi_own = math.nan if warm and s0.has_e else float(phi_at(1.0))
+    warm, phi_at, phi_own = _row_start(s0.pitzer, s0.ion_m, s0.has_e, s0.groups, start, T)
     system = _System(T, s0.pitzer, s0.ion_m, s0.M_e, s0.has_e, phi_own, phi_at, s0.electrolytes, s0.groups,
                      s0.neutral_m, s0.peg_c, s0.peg_grades, warm, s0.neutral_list, s0.peg_list, light=True)
     out = _newton_row(system, start)
@@ -347,17 +343,22 @@ def _one_row(inp: MixtureInput, start: tuple | None) -> _System:
     for grp in groups:
         src = nml if grp.kind == "n" else pcl
         grp.m = _in_order([src[j] for j in grp.members])
-    warm = start is not None and start[0] > 0 and len(start[1]) == len(groups)
-    phi_at = None
-    if im is None:
-        phi_own = 1.0
-    else:
-        # one full Pitzer pass at the own ion molalities; each ZSR step then only rescales its sums
-        phi_at = _phi_float(inp.pitzer, im, T)
-        # after a warm start φ at the own molalities is not needed (see MixtureResult.electrolyte_phi_own)
-        phi_own = math.nan if warm and has_e else float(phi_at(1.0))
+    warm, phi_at, phi_own = _row_start(inp.pitzer, im, has_e, groups, start, T)
     return _System(T, inp.pitzer, im, M_e, has_e, phi_own, phi_at, has_e, groups, nm, pc, inp.peg_grades,
                    warm, nml, pcl)
+
+
+def _row_start(pitzer, im: list[float] | None, has_e: bool, groups: list, start: tuple | None,
+               T: float) -> tuple[bool, Callable | None, float]:
+    """How one row's steps start at T [K]: (warm, φ as a function of the scale, φ at the own ion molalities).
+    Warm from ``start`` when it is a state of these groups with an answer; one full Pitzer pass at the own
+    ion molalities im (each ZSR step then only rescales its sums); after a warm start φ at the own
+    molalities is not needed (NaN; see MixtureResult.electrolyte_phi_own)."""
+    warm = start is not None and start[0] > 0 and len(start[1]) == len(groups)
+    if im is None:
+        return warm, None, 1.0
+    phi_at = _phi_float(pitzer, im, T)
+    return warm, phi_at, math.nan if warm and has_e else float(phi_at(1.0))
 
 
 def _in_order(terms: list):

@@ -114,12 +114,17 @@ def test_backdrop_tints_every_segment_as_textual_does():
         assert ours == textual
 
 
-@pytest.mark.prime_screens
-@run_async
-async def test_after_priming_the_first_screens_parse_no_stylesheet(catalog, monkeypatch):
+@pytest.fixture
+def quick_priming(monkeypatch):
+    """The priming steps one millisecond apart (not 10 ms), so a test sees them through quickly."""
     import mediaplan.tui.app as app_module
 
     monkeypatch.setattr(app_module, "PRIME_PAUSE", 0.001)
+
+
+@pytest.mark.prime_screens
+@run_async
+async def test_after_priming_the_first_screens_parse_no_stylesheet(catalog, quick_priming):
     app = app_for(Session(shoot_plan(), catalog))
     async with app.run_test(size=SIZES[0]) as pilot:
         await pilot.pause()
@@ -147,10 +152,7 @@ async def _target_opened_mid_priming(app) -> None:
 
 @pytest.mark.prime_screens
 @run_async
-async def test_priming_waits_while_a_screen_is_open_and_goes_on_after(catalog, monkeypatch):
-    import mediaplan.tui.app as app_module
-
-    monkeypatch.setattr(app_module, "PRIME_PAUSE", 0.001)
+async def test_priming_waits_while_a_screen_is_open_and_goes_on_after(catalog, quick_priming):
     app = app_for(Session(shoot_plan(), catalog))
     async with app.run_test(size=SIZES[0]) as pilot:
         await _target_opened_mid_priming(app)
